@@ -1,0 +1,163 @@
+// Package electric holds the physics behind a design review: conductors,
+// battery packs, brushed DC motors, regulators and fuses. It does no I/O;
+// every table it knows is returned by a function so callers can store,
+// edit and pass it back in.
+package electric
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// ErrUnknownGauge is wrapped by every ParseGauge failure.
+var ErrUnknownGauge = errors.New("unknown wire gauge")
+
+// Gauge is a conductor size. Label is canonical ("18AWG", "2/0AWG",
+// "1.5mm2"). For AWG sizes AWG holds the index used in the ASTM B258
+// formula: 1/0 is 0, 2/0 is -1, 3/0 is -2 and 4/0 is -3.
+type Gauge struct {
+	Label   string
+	AWG     int
+	Metric  bool
+	AreaMM2 float64
+}
+
+// Smallest and largest AWG sizes accepted, as formula indexes.
+const (
+	smallestAWG = 30
+	largestAWG  = -3 // 4/0
+)
+
+// metricSizesMM2 lists the metric cross-sections ParseGauge accepts: the
+// IEC 60228 nominal series from 0.5 mm² to 120 mm², and below it the thin
+// automotive sizes of ISO 6722-1 (0.13, 0.22, 0.35 mm²; from memory).
+// Accepting only listed sizes turns a slip such as "15mm2" into an error
+// instead of a plausible wire.
+func metricSizesMM2() []float64 {
+	return []float64{0.13, 0.22, 0.35, 0.5, 0.75, 1, 1.5, 2.5, 4, 6, 10, 16, 25, 35, 50, 70, 95, 120}
+}
+
+// ParseGauge reads "30AWG" … "4/0AWG" (also "0AWG"…"0000AWG" for the
+// aught sizes) or a metric size such as "0.5mm2" or "1.5mm²". Case and
+// spaces are ignored.
+func ParseGauge(label string) (Gauge, error) {
+	s := strings.ToLower(strings.Join(strings.Fields(label), ""))
+	switch {
+	case s == "":
+		return Gauge{}, fmt.Errorf("%w: empty label; write e.g. \"18AWG\" or \"1.5mm2\"", ErrUnknownGauge)
+	case strings.HasSuffix(s, "awg"):
+		return parseAWG(label, strings.TrimSuffix(s, "awg"))
+	case strings.HasSuffix(s, "mm2"):
+		return parseMetric(label, strings.TrimSuffix(s, "mm2"))
+	case strings.HasSuffix(s, "mm²"):
+		return parseMetric(label, strings.TrimSuffix(s, "mm²"))
+	}
+	return Gauge{}, fmt.Errorf("%w: %q has no unit; write \"NNAWG\" (30AWG to 4/0AWG) or a metric size like \"1.5mm2\"", ErrUnknownGauge, label)
+}
+
+func parseAWG(label, num string) (Gauge, error) {
+	n, ok := awgIndex(num)
+	if !ok {
+		return Gauge{}, fmt.Errorf("%w: %q is not an AWG number; write 30AWG to 1AWG, or 1/0AWG to 4/0AWG", ErrUnknownGauge, label)
+	}
+	if n > smallestAWG || n < largestAWG {
+		return Gauge{}, fmt.Errorf("%w: %q is outside 30AWG to 4/0AWG", ErrUnknownGauge, label)
+	}
+	return AWGGauge(n), nil
+}
+
+// awgIndex turns "18", "1/0", "0", "00", "000", "0000", "2/0" … into the
+// formula index.
+func awgIndex(num string) (int, bool) {
+	if top, ok := strings.CutSuffix(num, "/0"); ok {
+		if len(top) != 1 || top[0] < '1' || top[0] > '4' {
+			return 0, false
+		}
+		return 1 - int(top[0]-'0'), true
+	}
+	if num != "" && strings.Trim(num, "0") == "" && len(num) <= 4 {
+		return 1 - len(num), true // "0" is 1/0, "00" is 2/0 …
+	}
+	if num == "" || len(num) > 2 || num[0] == '0' || strings.Trim(num, "0123456789") != "" {
+		return 0, false
+	}
+	k, err := strconv.Atoi(num)
+	return k, err == nil
+}
+
+// AWGGauge builds the gauge for a formula index without range checks;
+// use ParseGauge for labels from outside.
+func AWGGauge(n int) Gauge {
+	d := AWGDiameterMM(n)
+	return Gauge{Label: AWGLabel(n), AWG: n, AreaMM2: math.Pi / 4 * d * d}
+}
+
+// AWGLabel is the canonical label of a formula index: 18 → "18AWG",
+// 0 → "1/0AWG", -3 → "4/0AWG".
+func AWGLabel(n int) string {
+	if n <= 0 {
+		return fmt.Sprintf("%d/0AWG", 1-n)
+	}
+	return fmt.Sprintf("%dAWG", n)
+}
+
+func parseMetric(label, num string) (Gauge, error) {
+	area, err := strconv.ParseFloat(num, 64)
+	if err != nil {
+		return Gauge{}, fmt.Errorf("%w: %q is not a metric area; write e.g. \"0.75mm2\"", ErrUnknownGauge, label)
+	}
+	for _, size := range metricSizesMM2() {
+		if area == size {
+			return MetricGauge(size), nil
+		}
+	}
+	return Gauge{}, fmt.Errorf("%w: %q is not a standard metric size (accepted: %s mm2)", ErrUnknownGauge, label, formatSizes(metricSizesMM2()))
+}
+
+// MetricGauge builds the gauge for a metric cross-section without checking
+// that it is a standard size.
+func MetricGauge(areaMM2 float64) Gauge {
+	return Gauge{Label: strconv.FormatFloat(areaMM2, 'f', -1, 64) + "mm2", Metric: true, AreaMM2: areaMM2}
+}
+
+func formatSizes(sizes []float64) string {
+	parts := make([]string, len(sizes))
+	for i, s := range sizes {
+		parts[i] = strconv.FormatFloat(s, 'f', -1, 64)
+	}
+	return strings.Join(parts, ", ")
+}
+
+// AWGDiameterMM is the ASTM B258 diameter of a solid conductor of formula
+// index n: 0.127 mm × 92^((36−n)/39).
+func AWGDiameterMM(n int) float64 {
+	return 0.127 * math.Pow(92, float64(36-n)/39)
+}
+
+// Annealed copper: IEC 60028 resistivity at 20 °C and its temperature
+// coefficient at 20 °C.
+const (
+	CopperResistivityOhmMM2PerM = 1.0 / 58
+	CopperAlphaPerK             = 0.00393
+	referenceTempC              = 20
+)
+
+// CopperOhmPerM is the resistance of one metre of annealed copper of the
+// given cross-section at tempC (IEC 60028 resistivity, linear α).
+func CopperOhmPerM(areaMM2, tempC float64) float64 {
+	return CopperResistivityOhmMM2PerM / areaMM2 * (1 + CopperAlphaPerK*(tempC-referenceTempC))
+}
+
+// LoopResistanceOhm is the resistance of a feed: the outgoing and the
+// return conductor, each lengthM long and of gauge g.
+func LoopResistanceOhm(g Gauge, lengthM, tempC float64) float64 {
+	return 2 * lengthM * CopperOhmPerM(g.AreaMM2, tempC)
+}
+
+// VoltageDropV is the drop across a feed carrying currentA.
+func VoltageDropV(g Gauge, lengthM, tempC, currentA float64) float64 {
+	return currentA * LoopResistanceOhm(g, lengthM, tempC)
+}
