@@ -1,0 +1,102 @@
+// Package domain holds wattshelf's entity types, their validation and the
+// kinds of error the rest of the program maps to responses. It does no I/O.
+package domain
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+)
+
+// The kinds of failure a caller can act on. Store and service code wrap
+// these with context; the API maps each to one problem type.
+var (
+	ErrNotFound           = errors.New("not found")
+	ErrConflict           = errors.New("conflict")
+	ErrPreconditionFailed = errors.New("precondition failed")
+	ErrForbidden          = errors.New("forbidden")
+	ErrUnauthorized       = errors.New("unauthorized")
+	ErrUnavailable        = errors.New("unavailable")
+)
+
+// FieldProblem names one bad field of a request body or query by JSON
+// pointer (RFC 6901) and says what is wrong with it.
+type FieldProblem struct {
+	Pointer string `json:"pointer"`
+	Detail  string `json:"detail"`
+}
+
+// ValidationError carries every problem found in one input, so a client can
+// fix them all at once instead of one per round trip.
+type ValidationError struct {
+	Problems []FieldProblem
+}
+
+func (e *ValidationError) Error() string {
+	parts := make([]string, 0, len(e.Problems))
+	for _, p := range e.Problems {
+		parts = append(parts, p.Pointer+": "+p.Detail)
+	}
+	return "invalid input: " + strings.Join(parts, "; ")
+}
+
+// Problems collects field problems while a validator walks an input.
+type Problems struct {
+	list []FieldProblem
+}
+
+// Add records a problem at pointer.
+func (p *Problems) Add(pointer, format string, args ...any) {
+	p.list = append(p.list, FieldProblem{Pointer: pointer, Detail: fmt.Sprintf(format, args...)})
+}
+
+// Len is the number of problems recorded so far.
+func (p *Problems) Len() int { return len(p.list) }
+
+// Err returns a *ValidationError holding every recorded problem, or nil.
+func (p *Problems) Err() error {
+	if len(p.list) == 0 {
+		return nil
+	}
+	return &ValidationError{Problems: p.list}
+}
+
+// Limits on free text, so one record cannot bloat every page that lists it.
+const (
+	MaxNameLen        = 120
+	MaxTextLen        = 4000
+	MaxShortFieldLen  = 60
+	MaxVoltageV       = 1000   // nothing on the shelf is rated above 1 kV
+	MaxCurrentA       = 1000   // nor above 1 kA
+	MaxSpeedRPM       = 200000 // faster than any salvaged motor spins
+	MaxQuantity       = 100000
+	MaxTemperatureC   = 300
+	MinTemperatureC   = -60
+	MaxCellCapacityAh = 1000
+)
+
+// CheckText records a problem when s is longer than max runes or, when
+// required, empty after trimming.
+func (p *Problems) CheckText(pointer, s string, max int, required bool) {
+	if required && strings.TrimSpace(s) == "" {
+		p.Add(pointer, "is required")
+		return
+	}
+	if n := len([]rune(s)); n > max {
+		p.Add(pointer, "is %d characters long; at most %d are allowed", n, max)
+	}
+}
+
+// CheckRange records a problem when v is not finite or outside [min, max].
+func (p *Problems) CheckRange(pointer string, v, min, max float64, unit string) {
+	if v != v || v > max || v < min { // v != v is NaN
+		p.Add(pointer, "must be between %g and %g %s", min, max, unit)
+	}
+}
+
+// CheckOptionalRange is CheckRange for a field that may be absent.
+func (p *Problems) CheckOptionalRange(pointer string, v *float64, min, max float64, unit string) {
+	if v != nil {
+		p.CheckRange(pointer, *v, min, max, unit)
+	}
+}

@@ -1,0 +1,110 @@
+// Package store is the only place wattshelf speaks SQL. It keeps the shelf,
+// tokens, audit trail, designs, reviews and limits in PostgreSQL through a
+// pgx pool, one file per aggregate.
+package store
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"net/url"
+	"strings"
+	"time"
+
+	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgconn"
+	"github.com/jackc/pgx/v5/pgxpool"
+
+	"wattshelf/domain"
+)
+
+// Store wraps the connection pool. Its methods are safe for concurrent use.
+type Store struct {
+	pool *pgxpool.Pool
+}
+
+// Open connects a pool to databaseURL and checks that it answers.
+func Open(ctx context.Context, databaseURL string) (*Store, error) {
+	cfg, err := pgxpool.ParseConfig(databaseURL)
+	if err != nil {
+		return nil, fmt.Errorf("parse database url: %w", err)
+	}
+	pool, err := pgxpool.NewWithConfig(ctx, cfg)
+	if err != nil {
+		return nil, fmt.Errorf("open pool: %w", err)
+	}
+	pingCtx, cancel := context.WithTimeout(ctx, 5*time.Second)
+	defer cancel()
+	if err := pool.Ping(pingCtx); err != nil {
+		pool.Close()
+		return nil, fmt.Errorf("reach database: %w", err)
+	}
+	return &Store{pool: pool}, nil
+}
+
+// Close releases every connection.
+func (s *Store) Close() { s.pool.Close() }
+
+// Pool exposes the pool for statistics.
+func (s *Store) Pool() *pgxpool.Pool { return s.pool }
+
+// Ping reports whether the database answers.
+func (s *Store) Ping(ctx context.Context) error { return s.pool.Ping(ctx) }
+
+// EnsureDatabase creates the database named in databaseURL when it does not
+// exist, connecting to the server's postgres database to do so. A role that
+// may not create databases gets a wrapped error; one that exists is fine.
+func EnsureDatabase(ctx context.Context, databaseURL string) error {
+	u, err := url.Parse(databaseURL)
+	if err != nil {
+		return fmt.Errorf("parse database url: %w", err)
+	}
+	name := strings.TrimPrefix(u.Path, "/")
+	if name == "" || name == "postgres" {
+		return nil
+	}
+	admin := *u
+	admin.Path = "/postgres"
+	conn, err := pgx.Connect(ctx, admin.String())
+	if err != nil {
+		// Without the maintenance database we cannot create; let the real
+		// connection report whether the target exists.
+		return nil
+	}
+	defer conn.Close(ctx)
+	var exists bool
+	if err := conn.QueryRow(ctx, `SELECT EXISTS (SELECT 1 FROM pg_database WHERE datname = $1)`, name).Scan(&exists); err != nil {
+		return fmt.Errorf("look for database %q: %w", name, err)
+	}
+	if exists {
+		return nil
+	}
+	_, err = conn.Exec(ctx, "CREATE DATABASE "+pgx.Identifier{name}.Sanitize())
+	var pgErr *pgconn.PgError
+	if errors.As(err, &pgErr) && pgErr.Code == "42P04" { // another replica won the race
+		return nil
+	}
+	if err != nil {
+		return fmt.Errorf("create database %q: %w", name, err)
+	}
+	return nil
+}
+
+// isUniqueViolation reports a unique constraint failure.
+func isUniqueViolation(err error) bool {
+	var pgErr *pgconn.PgError
+	return errors.As(err, &pgErr) && pgErr.Code == "23505"
+}
+
+// notFound turns pgx's no-rows into the domain's not-found.
+func notFound(err error, what string) error {
+	if errors.Is(err, pgx.ErrNoRows) {
+		return fmt.Errorf("%s: %w", what, domain.ErrNotFound)
+	}
+	return fmt.Errorf("%s: %w", what, err)
+}
+
+// inTx runs fn in a transaction, committing when it returns nil.
+func (s *Store) inTx(ctx context.Context, fn func(pgx.Tx) error) error {
+	return pgx.BeginFunc(ctx, s.pool, fn)
+}

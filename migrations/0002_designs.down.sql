@@ -1,0 +1,3 @@
+DROP TABLE reviews;
+DROP TABLE designs;
+DROP TABLE limits;
