@@ -1,0 +1,190 @@
+package electric
+
+import (
+	"errors"
+	"math"
+	"testing"
+)
+
+func within(t *testing.T, what string, got, want, share float64) {
+	t.Helper()
+	if !(math.Abs(got-want) <= share*math.Abs(want)) {
+		t.Errorf("%s = %.6g, want %.6g within %.2g %%", what, got, want, share*100)
+	}
+}
+
+func TestAWGDiameter(t *testing.T) {
+	cases := []struct {
+		awg    int
+		wantMM float64
+		source string
+	}{
+		{36, 0.127, "ASTM B258: 36 AWG is defined as 0.0050 in"},
+		{-3, 11.684, "ASTM B258: 4/0 AWG is defined as 0.4600 in"},
+		{22, 0.644, "ASTM B258 / standard wire table (issue 3)"},
+		{18, 1.024, "ASTM B258 / standard wire table (issue 3)"},
+		{10, 2.588, "ASTM B258 / standard wire table (issue 3)"},
+		{30, 0.2546, "ASTM B258 / standard wire table (from memory)"},
+		{24, 0.5106, "ASTM B258 / standard wire table (from memory)"},
+		{20, 0.812, "ASTM B258 / standard wire table (from memory)"},
+		{14, 1.628, "ASTM B258 / standard wire table (from memory)"},
+		{12, 2.053, "ASTM B258 / standard wire table (from memory)"},
+	}
+	for _, c := range cases {
+		within(t, AWGLabel(c.awg)+" diameter mm ("+c.source+")", AWGDiameterMM(c.awg), c.wantMM, 0.001)
+	}
+}
+
+func TestAWGResistance(t *testing.T) {
+	cases := []struct {
+		label     string
+		wantOhmKm float64
+		source    string
+	}{
+		{"22AWG", 52.96, "standard wire table, annealed copper at 20 °C (issue 3)"},
+		{"18AWG", 20.95, "standard wire table, annealed copper at 20 °C (issue 3)"},
+		{"10AWG", 3.277, "standard wire table, annealed copper at 20 °C (issue 3)"},
+		{"24AWG", 84.22, "standard wire table (from memory)"},
+		{"20AWG", 33.31, "standard wire table (from memory)"},
+		{"14AWG", 8.286, "standard wire table (from memory)"},
+		{"12AWG", 5.211, "standard wire table (from memory)"},
+		{"4/0AWG", 0.1608, "standard wire table (from memory)"},
+	}
+	for _, c := range cases {
+		g, err := ParseGauge(c.label)
+		if err != nil {
+			t.Fatal(err)
+		}
+		within(t, c.label+" Ω/km ("+c.source+")", CopperOhmPerM(g.AreaMM2, 20)*1000, c.wantOhmKm, 0.003)
+	}
+}
+
+// IEC 60228 class 5 (flexible) maxima for plain copper at 20 °C. Stranding
+// and the standard's allowances put the maxima above solid annealed copper,
+// so the computed value must lie below the maximum but not far below it.
+func TestMetricResistanceAgainstIEC60228(t *testing.T) {
+	cases := []struct {
+		label  string
+		maxOhm float64 // Ω/km
+		source string
+	}{
+		{"0.5mm2", 39.0, "IEC 60228 class 5"},
+		{"0.75mm2", 26.0, "IEC 60228 class 5"},
+		{"1mm2", 19.5, "IEC 60228 class 5"},
+		{"1.5mm2", 13.3, "IEC 60228 class 5"},
+		{"2.5mm2", 7.98, "IEC 60228 class 5"},
+		{"4mm2", 4.95, "IEC 60228 class 5 (from memory)"},
+		{"6mm2", 3.30, "IEC 60228 class 5 (from memory)"},
+	}
+	for _, c := range cases {
+		g, err := ParseGauge(c.label)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := CopperOhmPerM(g.AreaMM2, 20) * 1000
+		if got > c.maxOhm || got < 0.85*c.maxOhm {
+			t.Errorf("%s: %.4g Ω/km, want at most %.4g (%s) and within 15 %% of it", c.label, got, c.maxOhm, c.source)
+		}
+	}
+}
+
+// IEC 60228 Annex B factors k_t multiply a resistance measured at t to
+// refer it to 20 °C.
+func TestTemperatureCorrectionAgainstIEC60228(t *testing.T) {
+	cases := []struct {
+		tempC, kt float64
+		source    string
+	}{
+		{40, 0.926, "IEC 60228 Annex B (issue 3)"},
+		{30, 0.962, "IEC 60228 Annex B (from memory)"},
+		{10, 1.042, "IEC 60228 Annex B (from memory)"},
+		{20, 1.000, "IEC 60228 Annex B reference temperature"},
+	}
+	for _, c := range cases {
+		kt := CopperOhmPerM(1, 20) / CopperOhmPerM(1, c.tempC)
+		within(t, "k_t at "+formatC(c.tempC)+" ("+c.source+")", kt, c.kt, 0.003)
+	}
+}
+
+func formatC(c float64) string { return formatSizes([]float64{c}) + " °C" }
+
+// Marine DC wiring practice sizes a conductor by CM = 10.75 × I × L / E,
+// L the round-trip length in feet and CM the area in circular mils. Solved
+// for E it must agree with our loop resistance at the 30 °C of the tables.
+func TestVoltageDropAgainstCircularMilFormula(t *testing.T) {
+	cases := []struct {
+		label string
+		cmil  float64 // standard wire table (from memory)
+	}{
+		{"18AWG", 1620}, {"16AWG", 2580}, {"14AWG", 4110}, {"12AWG", 6530}, {"10AWG", 10380}, {"4AWG", 41740},
+	}
+	const oneWayM, currentA = 3.0, 10.0
+	roundTripFt := 2 * oneWayM / 0.3048
+	for _, c := range cases {
+		g, err := ParseGauge(c.label)
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := 10.75 * currentA * roundTripFt / c.cmil // marine circular-mil formula
+		for _, tempC := range []float64{25, 30} {
+			within(t, c.label+" drop at "+formatC(tempC), VoltageDropV(g, oneWayM, tempC, currentA), want, 0.02)
+		}
+	}
+}
+
+func TestLoopResistanceCountsBothConductors(t *testing.T) {
+	g := MetricGauge(1)
+	// 2 × 10 m of 1 mm² at 20 °C: 20/58 Ω (IEC 60028 resistivity).
+	within(t, "loop resistance", LoopResistanceOhm(g, 10, 20), 20.0/58, 1e-12)
+	// α = 0.00393 /K (IEC 60028): +30 K adds 11.79 %.
+	within(t, "loop resistance at 50 °C", LoopResistanceOhm(g, 10, 50), 20.0/58*1.1179, 1e-12)
+}
+
+func TestParseGauge(t *testing.T) {
+	good := []struct {
+		in, label string
+		awg       int
+		metric    bool
+	}{
+		{"18AWG", "18AWG", 18, false},
+		{"30awg", "30AWG", 30, false},
+		{" 22 AWG ", "22AWG", 22, false},
+		{"1AWG", "1AWG", 1, false},
+		{"1/0AWG", "1/0AWG", 0, false},
+		{"0AWG", "1/0AWG", 0, false},
+		{"2/0AWG", "2/0AWG", -1, false},
+		{"00AWG", "2/0AWG", -1, false},
+		{"3/0AWG", "3/0AWG", -2, false},
+		{"4/0AWG", "4/0AWG", -3, false},
+		{"0000AWG", "4/0AWG", -3, false},
+		{"17AWG", "17AWG", 17, false},
+		{"0.5mm2", "0.5mm2", 0, true},
+		{"1.0mm2", "1mm2", 0, true},
+		{"1.5 mm²", "1.5mm2", 0, true},
+		{"120MM2", "120mm2", 0, true},
+	}
+	for _, c := range good {
+		g, err := ParseGauge(c.in)
+		if err != nil {
+			t.Errorf("ParseGauge(%q): %v", c.in, err)
+			continue
+		}
+		if g.Label != c.label || g.AWG != c.awg || g.Metric != c.metric || !(g.AreaMM2 > 0) {
+			t.Errorf("ParseGauge(%q) = %+v, want label %s awg %d metric %v", c.in, g, c.label, c.awg, c.metric)
+		}
+	}
+	bad := []string{"", "AWG", "31AWG", "40AWG", "5/0AWG", "00000AWG", "0/0AWG", "018AWG", "-2AWG", "+4AWG",
+		"18", "18 gauge", "1.6mm2", "15mm2", "0mm2", "-1.5mm2", "NaNmm2", "infmm2", "mm2", "1,5mm2", "18AWG18AWG"}
+	for _, in := range bad {
+		if g, err := ParseGauge(in); !errors.Is(err, ErrUnknownGauge) {
+			t.Errorf("ParseGauge(%q) = %+v, %v; want ErrUnknownGauge", in, g, err)
+		}
+	}
+}
+
+func TestAWGAreaFromDiameter(t *testing.T) {
+	// 1/0 AWG is 53.5 mm² (standard wire table, from memory).
+	within(t, "1/0AWG area", AWGGauge(0).AreaMM2, 53.49, 0.002)
+	// Each step of three sizes roughly halves the area (common practice).
+	within(t, "area ratio 15AWG/18AWG", AWGGauge(15).AreaMM2/AWGGauge(18).AreaMM2, 2, 0.01)
+}
