@@ -100,3 +100,17 @@ func (p *Problems) CheckOptionalRange(pointer string, v *float64, min, max float
 		p.CheckRange(pointer, *v, min, max, unit)
 	}
 }
+
+// DecodeError says a body is not well-formed JSON (a syntax error, trailing
+// data, or an empty body). Offset is the byte where reading stopped.
+type DecodeError struct {
+	Offset int64
+	Reason string
+}
+
+func (e *DecodeError) Error() string {
+	if e.Offset > 0 {
+		return fmt.Sprintf("malformed JSON at byte %d: %s", e.Offset, e.Reason)
+	}
+	return "malformed JSON: " + e.Reason
+}

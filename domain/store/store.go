@@ -7,6 +7,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io"
+	"net"
 	"net/url"
 	"strings"
 	"time"
@@ -107,4 +109,23 @@ func notFound(err error, what string) error {
 // inTx runs fn in a transaction, committing when it returns nil.
 func (s *Store) inTx(ctx context.Context, fn func(pgx.Tx) error) error {
 	return pgx.BeginFunc(ctx, s.pool, fn)
+}
+
+// IsUnavailable reports whether err means the database could not be
+// reached or the connection was lost, as opposed to a failed statement.
+func IsUnavailable(err error) bool {
+	if err == nil {
+		return false
+	}
+	var connErr *pgconn.ConnectError
+	if errors.As(err, &connErr) || pgconn.SafeToRetry(err) || pgconn.Timeout(err) {
+		return true
+	}
+	var pgErr *pgconn.PgError
+	if errors.As(err, &pgErr) {
+		// Class 08 is connection exceptions; 57P0x is the server shutting down.
+		return strings.HasPrefix(pgErr.Code, "08") || strings.HasPrefix(pgErr.Code, "57P0")
+	}
+	var netErr net.Error
+	return errors.As(err, &netErr) || errors.Is(err, io.ErrUnexpectedEOF) || strings.Contains(err.Error(), "conn closed")
 }

@@ -1,0 +1,356 @@
+package api
+
+import (
+	"crypto/sha256"
+	"encoding/base64"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"math"
+	"net/http"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/labstack/echo/v4"
+
+	"wattshelf/domain"
+	"wattshelf/domain/store"
+)
+
+const (
+	defaultPageSize = 50
+	maxPageSize     = 200
+)
+
+func (s *server) registerShelfRoutes(v1 *echo.Group) {
+	v1.GET("/shelf", s.getShelf)
+	comps := v1.Group("/components", requireUser)
+	comps.GET("", s.listComponents)
+	comps.POST("", s.createComponent)
+	comps.GET("/:id", s.getComponent)
+	comps.PUT("/:id", s.replaceComponent)
+	comps.PATCH("/:id", s.patchComponent)
+	comps.DELETE("/:id", s.deleteComponent)
+	comps.POST("/:id/measurements", s.addMeasurement)
+	comps.GET("/:id/measurements", s.listMeasurements)
+}
+
+// ComponentPage is one page of a component listing.
+type ComponentPage struct {
+	Items []domain.Component `json:"items"`
+	Next  string             `json:"next,omitempty"`
+}
+
+// ShelfView is the public shelf.
+type ShelfView struct {
+	Items []domain.ShelfItem `json:"items"`
+}
+
+// getShelf serves the public shelf with an ETag over its content, so a
+// kiosk polling with If-None-Match costs one query and no body.
+func (s *server) getShelf(c echo.Context) error {
+	items, err := s.store.Shelf(c.Request().Context())
+	if err != nil {
+		return err
+	}
+	body, err := json.Marshal(ShelfView{Items: items})
+	if err != nil {
+		return fmt.Errorf("encode shelf: %w", err)
+	}
+	sum := sha256.Sum256(body)
+	etag := `"` + hex.EncodeToString(sum[:12]) + `"`
+	c.Response().Header().Set("ETag", etag)
+	c.Response().Header().Set("Cache-Control", "no-cache")
+	if match := c.Request().Header.Get("If-None-Match"); match != "" && strings.Contains(match, etag) {
+		return c.NoContent(http.StatusNotModified)
+	}
+	return c.JSONBlob(http.StatusOK, body)
+}
+
+func queryProblem(pointer, format string, args ...any) error {
+	return &problemError{kind: "bad-query", detail: "a query parameter is invalid",
+		fields: []domain.FieldProblem{{Pointer: pointer, Detail: fmt.Sprintf(format, args...)}}}
+}
+
+// parseComponentFilter reads the listing's query parameters.
+func parseComponentFilter(q func(string) string) (store.ComponentFilter, error) {
+	f := store.ComponentFilter{
+		Kind: q("kind"), Bin: q("bin"), Query: q("q"), Limit: defaultPageSize,
+	}
+	if f.Kind != "" && !slices.Contains(domain.ComponentKinds(), f.Kind) {
+		return f, queryProblem("/kind", "must be one of %v", domain.ComponentKinds())
+	}
+	if len(f.Query) > domain.MaxNameLen || len(f.Bin) > domain.MaxShortFieldLen {
+		return f, queryProblem("/q", "is too long")
+	}
+	if v := q("limit"); v != "" {
+		n, err := strconv.Atoi(v)
+		if err != nil || n < 1 || n > maxPageSize {
+			return f, queryProblem("/limit", "must be a whole number from 1 to %d", maxPageSize)
+		}
+		f.Limit = n
+	}
+	if v := q("fits_v"); v != "" {
+		x, err := strconv.ParseFloat(v, 64)
+		if err != nil || math.IsNaN(x) || x < 0 || x > domain.MaxVoltageV {
+			return f, queryProblem("/fits_v", "must be a voltage from 0 to %d", domain.MaxVoltageV)
+		}
+		f.FitsV = &x
+	}
+	if v := q("cursor"); v != "" {
+		id, err := decodeCursor(v)
+		if err != nil {
+			return f, queryProblem("/cursor", "is not a cursor this service issued")
+		}
+		f.AfterID = id
+	}
+	return f, nil
+}
+
+// Cursors are opaque to clients so the paging scheme can change.
+func encodeCursor(afterID int64) string {
+	return base64.RawURLEncoding.EncodeToString([]byte("after:" + strconv.FormatInt(afterID, 10)))
+}
+
+func decodeCursor(s string) (int64, error) {
+	raw, err := base64.RawURLEncoding.DecodeString(s)
+	if err != nil {
+		return 0, err
+	}
+	num, ok := strings.CutPrefix(string(raw), "after:")
+	if !ok {
+		return 0, fmt.Errorf("cursor without prefix")
+	}
+	id, err := strconv.ParseInt(num, 10, 64)
+	if err != nil || id < 0 {
+		return 0, fmt.Errorf("cursor id %q", num)
+	}
+	return id, nil
+}
+
+func (s *server) listComponents(c echo.Context) error {
+	f, err := parseComponentFilter(c.QueryParam)
+	if err != nil {
+		return err
+	}
+	items, more, err := s.store.ListComponents(c.Request().Context(), f)
+	if err != nil {
+		return err
+	}
+	page := ComponentPage{Items: items}
+	if page.Items == nil {
+		page.Items = []domain.Component{}
+	}
+	if more {
+		page.Next = encodeCursor(items[len(items)-1].ID)
+	}
+	return c.JSON(http.StatusOK, page)
+}
+
+// pathID reads a positive integer id from the route.
+func pathID(c echo.Context, name string) (int64, error) {
+	id, err := strconv.ParseInt(c.Param(name), 10, 64)
+	if err != nil || id < 1 {
+		return 0, newProblem("not-found", "%s %q is not an id this service issues", name, c.Param(name))
+	}
+	return id, nil
+}
+
+func etagOf(version int64) string { return `"` + strconv.FormatInt(version, 10) + `"` }
+
+// ifMatchVersion reads the version a client last saw from If-Match, which
+// writes require; "*" matches any version.
+func ifMatchVersion(c echo.Context) (int64, error) {
+	h := strings.TrimSpace(c.Request().Header.Get("If-Match"))
+	if h == "" {
+		return 0, newProblem("precondition-required", "send If-Match with the ETag from your last GET")
+	}
+	if h == "*" {
+		return 0, nil
+	}
+	v, err := strconv.ParseInt(strings.Trim(strings.TrimPrefix(h, "W/"), `"`), 10, 64)
+	if err != nil || v < 1 {
+		return 0, &problemError{kind: "precondition-failed", detail: "If-Match does not hold an ETag this service issued"}
+	}
+	return v, nil
+}
+
+func (s *server) createComponent(c echo.Context) error {
+	var in domain.ComponentInput
+	if err := bindStrict(c, &in); err != nil {
+		return err
+	}
+	in.Defaults()
+	if err := in.Validate(); err != nil {
+		return err
+	}
+	comp, err := s.store.CreateComponent(c.Request().Context(), currentUser(c), in)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("Location", fmt.Sprintf("/v1/components/%d", comp.ID))
+	c.Response().Header().Set("ETag", etagOf(comp.Version))
+	return c.JSON(http.StatusCreated, comp)
+}
+
+func (s *server) getComponent(c echo.Context) error {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	comp, err := s.store.Component(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("ETag", etagOf(comp.Version))
+	return c.JSON(http.StatusOK, comp)
+}
+
+func (s *server) replaceComponent(c echo.Context) error {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	version, err := ifMatchVersion(c)
+	if err != nil {
+		return err
+	}
+	var in domain.ComponentInput
+	if err := bindStrict(c, &in); err != nil {
+		return err
+	}
+	in.Defaults()
+	if err := in.Validate(); err != nil {
+		return err
+	}
+	return s.saveComponent(c, id, version, in)
+}
+
+// patchComponent applies a JSON merge patch (RFC 7386) to the stored
+// component and saves the result as a replacement would.
+func (s *server) patchComponent(c echo.Context) error {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	version, err := ifMatchVersion(c)
+	if err != nil {
+		return err
+	}
+	body, err := readBody(c)
+	if err != nil {
+		return err
+	}
+	var patch map[string]any
+	if err := decodeStrict(body, &patch); err != nil {
+		return err
+	}
+	current, err := s.store.Component(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	currentJSON, err := json.Marshal(current.ComponentInput)
+	if err != nil {
+		return fmt.Errorf("encode component %d: %w", id, err)
+	}
+	var doc map[string]any
+	if err := json.Unmarshal(currentJSON, &doc); err != nil {
+		return fmt.Errorf("decode component %d: %w", id, err)
+	}
+	merged, err := json.Marshal(mergePatch(doc, patch))
+	if err != nil {
+		return fmt.Errorf("encode patched component: %w", err)
+	}
+	var in domain.ComponentInput
+	if err := decodeStrict(merged, &in); err != nil {
+		return err
+	}
+	in.Defaults()
+	if err := in.Validate(); err != nil {
+		return err
+	}
+	return s.saveComponent(c, id, version, in)
+}
+
+// mergePatch applies an RFC 7386 merge patch: null removes, objects merge,
+// anything else replaces.
+func mergePatch(target, patch map[string]any) map[string]any {
+	for k, pv := range patch {
+		if pv == nil {
+			delete(target, k)
+			continue
+		}
+		if po, ok := pv.(map[string]any); ok {
+			to, _ := target[k].(map[string]any)
+			if to == nil {
+				to = map[string]any{}
+			}
+			target[k] = mergePatch(to, po)
+			continue
+		}
+		target[k] = pv
+	}
+	return target
+}
+
+func (s *server) saveComponent(c echo.Context, id, version int64, in domain.ComponentInput) error {
+	comp, err := s.store.UpdateComponent(c.Request().Context(), currentUser(c), id, version, in)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("ETag", etagOf(comp.Version))
+	return c.JSON(http.StatusOK, comp)
+}
+
+func (s *server) deleteComponent(c echo.Context) error {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	var version int64
+	if c.Request().Header.Get("If-Match") != "" {
+		if version, err = ifMatchVersion(c); err != nil {
+			return err
+		}
+	}
+	if err := s.store.DeleteComponent(c.Request().Context(), currentUser(c), id, version); err != nil {
+		return err
+	}
+	return c.NoContent(http.StatusNoContent)
+}
+
+func (s *server) addMeasurement(c echo.Context) error {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	var in domain.MeasurementInput
+	if err := bindStrict(c, &in); err != nil {
+		return err
+	}
+	if err := in.Validate(); err != nil {
+		return err
+	}
+	m, err := s.store.AddMeasurement(c.Request().Context(), currentUser(c), id, in)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("Location", fmt.Sprintf("/v1/components/%d/measurements", id))
+	return c.JSON(http.StatusCreated, m)
+}
+
+func (s *server) listMeasurements(c echo.Context) error {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	list, err := s.store.Measurements(c.Request().Context(), id)
+	if err != nil {
+		return err
+	}
+	if list == nil {
+		list = []domain.Measurement{}
+	}
+	return c.JSON(http.StatusOK, map[string]any{"items": list})
+}

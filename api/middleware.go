@@ -1,0 +1,162 @@
+package api
+
+import (
+	"context"
+	"fmt"
+	"log/slog"
+	"runtime/debug"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/labstack/echo/v4"
+	"github.com/prometheus/client_golang/prometheus"
+
+	"wattshelf/domain"
+)
+
+// accessLog writes one JSON line per request. It never logs headers, so
+// bearer tokens stay out of the logs.
+func accessLog(logger *slog.Logger) echo.MiddlewareFunc {
+	return func(next echo.HandlerFunc) echo.HandlerFunc {
+		return func(c echo.Context) error {
+			start := time.Now()
+			err := next(c)
+			if err != nil {
+				c.Error(err)
+			}
+			req, res := c.Request(), c.Response()
+			logger.LogAttrs(req.Context(), slog.LevelInfo, "request",
+				slog.String("request_id", res.Header().Get(echo.HeaderXRequestID)),
+				slog.String("method", req.Method),
+				slog.String("route", c.Path()),
+				slog.String("path", req.URL.Path),
+				slog.Int("status", res.Status),
+				slog.Int64("bytes", res.Size),
+				slog.Float64("duration_ms", float64(time.Since(start).Microseconds())/1000),
+				slog.String("remote", c.RealIP()),
+			)
+			return nil
+		}
+	}
+}
+
+// recoverPanics turns a panic into a logged stack and an "internal"
+// problem document; the stack never reaches the client.
+func recoverPanics(logger *slog.Logger) echo.MiddlewareFunc {
+	return func(next echo.HandlerFunc) echo.HandlerFunc {
+		return func(c echo.Context) (err error) {
+			defer func() {
+				if r := recover(); r != nil {
+					logger.Error("panic while serving",
+						"request_id", c.Response().Header().Get(echo.HeaderXRequestID),
+						"path", c.Request().URL.Path,
+						"panic", fmt.Sprint(r),
+						"stack", string(debug.Stack()))
+					err = newProblem("internal", "the error has been logged")
+				}
+			}()
+			return next(c)
+		}
+	}
+}
+
+// httpMetrics counts requests and their latency by route and status.
+type httpMetrics struct {
+	requests *prometheus.CounterVec
+	latency  *prometheus.HistogramVec
+}
+
+func newHTTPMetrics(reg prometheus.Registerer) (*httpMetrics, error) {
+	m := &httpMetrics{
+		requests: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "wattshelf_http_requests_total", Help: "HTTP requests served, by route, method and status.",
+		}, []string{"route", "method", "status"}),
+		latency: prometheus.NewHistogramVec(prometheus.HistogramOpts{
+			Name: "wattshelf_http_request_duration_seconds", Help: "Time to serve HTTP requests, by route, method and status.",
+			Buckets: []float64{.0005, .001, .0025, .005, .01, .025, .05, .1, .25, .5, 1, 2.5},
+		}, []string{"route", "method", "status"}),
+	}
+	for _, c := range []prometheus.Collector{m.requests, m.latency} {
+		if err := reg.Register(c); err != nil {
+			return nil, fmt.Errorf("register http metrics: %w", err)
+		}
+	}
+	return m, nil
+}
+
+func (m *httpMetrics) middleware(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		start := time.Now()
+		err := next(c)
+		route := c.Path()
+		if route == "" {
+			route = "unmatched" // keeps label cardinality bounded
+		}
+		status := strconv.Itoa(c.Response().Status)
+		m.requests.WithLabelValues(route, c.Request().Method, status).Inc()
+		m.latency.WithLabelValues(route, c.Request().Method, status).Observe(time.Since(start).Seconds())
+		return err
+	}
+}
+
+// authenticator resolves a bearer token to its user.
+type authenticator interface {
+	Authenticate(ctx context.Context, secret string) (domain.User, error)
+}
+
+const userKey = "wattshelf.user"
+
+// identify attaches the token's user to the request when an Authorization
+// header is sent; a bad, malformed or revoked token is 401 on any route.
+func identify(auth authenticator) echo.MiddlewareFunc {
+	return func(next echo.HandlerFunc) echo.HandlerFunc {
+		return func(c echo.Context) error {
+			h := c.Request().Header.Get(echo.HeaderAuthorization)
+			if h == "" {
+				return next(c)
+			}
+			scheme, secret, ok := strings.Cut(h, " ")
+			if !ok || !strings.EqualFold(scheme, "Bearer") || secret == "" || len(secret) > 200 {
+				return domain.ErrUnauthorized
+			}
+			u, err := auth.Authenticate(c.Request().Context(), strings.TrimSpace(secret))
+			if err != nil {
+				return err
+			}
+			c.Set(userKey, u)
+			return next(c)
+		}
+	}
+}
+
+// requireUser lets only requests with a valid token through.
+func requireUser(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		if _, ok := c.Get(userKey).(domain.User); !ok {
+			return domain.ErrUnauthorized
+		}
+		return next(c)
+	}
+}
+
+// requireStaff lets only staff tokens through.
+func requireStaff(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		u, ok := c.Get(userKey).(domain.User)
+		if !ok {
+			return domain.ErrUnauthorized
+		}
+		if u.Role != domain.RoleStaff {
+			return newProblem("forbidden", "only staff may do this")
+		}
+		return next(c)
+	}
+}
+
+// currentUser is the user behind the request's token; routes behind
+// requireUser always have one.
+func currentUser(c echo.Context) domain.User {
+	u, _ := c.Get(userKey).(domain.User)
+	return u
+}

@@ -1,0 +1,151 @@
+package api
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"log/slog"
+	"net/http"
+	"strconv"
+
+	"github.com/labstack/echo/v4"
+
+	"wattshelf/domain"
+)
+
+// Problem is an RFC 9457 problem document. Type is stable per kind of
+// error so clients can branch on it; Detail is for people.
+type Problem struct {
+	Type      string                `json:"type"`
+	Title     string                `json:"title"`
+	Status    int                   `json:"status"`
+	Detail    string                `json:"detail,omitempty"`
+	Instance  string                `json:"instance,omitempty"`
+	Errors    []domain.FieldProblem `json:"errors,omitempty"`
+	RequestID string                `json:"request_id,omitempty"`
+}
+
+// ProblemTypePrefix starts every problem type URI.
+const ProblemTypePrefix = "urn:wattshelf:problem:"
+
+// The kinds of problem, each with its status and title.
+var problemKinds = map[string]struct {
+	status int
+	title  string
+}{
+	"malformed":             {http.StatusBadRequest, "The request body is not well-formed JSON"},
+	"bad-query":             {http.StatusBadRequest, "A query parameter is not understood"},
+	"unauthorized":          {http.StatusUnauthorized, "A valid bearer token is required"},
+	"forbidden":             {http.StatusForbidden, "This token may not do that"},
+	"not-found":             {http.StatusNotFound, "Nothing is here"},
+	"method-not-allowed":    {http.StatusMethodNotAllowed, "This method is not allowed here"},
+	"conflict":              {http.StatusConflict, "The request conflicts with what is stored"},
+	"precondition-failed":   {http.StatusPreconditionFailed, "The record changed since you read it"},
+	"too-large":             {http.StatusRequestEntityTooLarge, "The request body is too large"},
+	"unsupported-media":     {http.StatusUnsupportedMediaType, "Send application/json"},
+	"validation":            {http.StatusUnprocessableEntity, "The request has invalid fields"},
+	"precondition-required": {http.StatusPreconditionRequired, "Send If-Match with the ETag you read"},
+	"rate-limited":          {http.StatusTooManyRequests, "Too many requests; slow down"},
+	"internal":              {http.StatusInternalServerError, "Something went wrong on our side"},
+	"unavailable":           {http.StatusServiceUnavailable, "The service cannot serve this right now"},
+}
+
+// problemError is an error that already knows its problem kind.
+type problemError struct {
+	kind   string
+	detail string
+	fields []domain.FieldProblem
+	retry  int // seconds for Retry-After, 0 for none
+}
+
+func (e *problemError) Error() string { return e.kind + ": " + e.detail }
+
+func newProblem(kind, format string, args ...any) *problemError {
+	return &problemError{kind: kind, detail: fmt.Sprintf(format, args...)}
+}
+
+// Unavailability reports whether err means the database cannot be reached.
+type unavailabilityCheck func(error) bool
+
+// problemFor maps any error to the problem a client sees. Unknown errors
+// become "internal" with no detail: internals never leak.
+func problemFor(err error, isUnavailable unavailabilityCheck) (Problem, *problemError) {
+	var pe *problemError
+	var ve *domain.ValidationError
+	var de *domain.DecodeError
+	var he *echo.HTTPError
+	switch {
+	case errors.As(err, &pe):
+	case errors.As(err, &ve):
+		pe = &problemError{kind: "validation", detail: fmt.Sprintf("%d field(s) are invalid", len(ve.Problems)), fields: ve.Problems}
+	case errors.As(err, &de):
+		pe = &problemError{kind: "malformed", detail: de.Error()}
+	case errors.Is(err, domain.ErrNotFound):
+		pe = &problemError{kind: "not-found", detail: publicDetail(err)}
+	case errors.Is(err, domain.ErrForbidden):
+		pe = &problemError{kind: "forbidden", detail: "only the owner or staff may change this record"}
+	case errors.Is(err, domain.ErrUnauthorized):
+		pe = &problemError{kind: "unauthorized", detail: "send Authorization: Bearer <token>; the token may be missing, unknown or revoked"}
+	case errors.Is(err, domain.ErrPreconditionFailed):
+		pe = &problemError{kind: "precondition-failed", detail: "read the record again and retry with its new ETag"}
+	case errors.Is(err, domain.ErrConflict):
+		pe = &problemError{kind: "conflict", detail: publicDetail(err)}
+	case errors.Is(err, domain.ErrUnavailable), isUnavailable != nil && isUnavailable(err):
+		pe = &problemError{kind: "unavailable", detail: "the database cannot be reached; try again shortly", retry: 5}
+	case errors.As(err, &he):
+		pe = httpErrorProblem(he)
+	default:
+		pe = &problemError{kind: "internal", detail: "the error has been logged"}
+	}
+	k := problemKinds[pe.kind]
+	return Problem{
+		Type: ProblemTypePrefix + pe.kind, Title: k.title, Status: k.status,
+		Detail: pe.detail, Errors: pe.fields,
+	}, pe
+}
+
+// publicDetail is the message of a domain error, which our own code wrote
+// for clients (e.g. "component 7: not found").
+func publicDetail(err error) string { return err.Error() }
+
+func httpErrorProblem(he *echo.HTTPError) *problemError {
+	switch he.Code {
+	case http.StatusNotFound:
+		return &problemError{kind: "not-found", detail: "no such route"}
+	case http.StatusMethodNotAllowed:
+		return &problemError{kind: "method-not-allowed", detail: "see /openapi.yaml for the routes"}
+	case http.StatusRequestEntityTooLarge:
+		return &problemError{kind: "too-large", detail: "request bodies are limited to 2 MiB"}
+	case http.StatusUnsupportedMediaType:
+		return &problemError{kind: "unsupported-media", detail: "send Content-Type: application/json"}
+	case http.StatusTooManyRequests:
+		return &problemError{kind: "rate-limited", detail: "too many requests from this client", retry: 1}
+	case http.StatusUnauthorized:
+		return &problemError{kind: "unauthorized", detail: "send Authorization: Bearer <token>"}
+	case http.StatusBadRequest:
+		return &problemError{kind: "malformed", detail: fmt.Sprint(he.Message)}
+	}
+	return &problemError{kind: "internal", detail: "the error has been logged"}
+}
+
+// errorHandler writes every error as a problem document.
+func errorHandler(logger *slog.Logger, isUnavailable unavailabilityCheck) echo.HTTPErrorHandler {
+	return func(err error, c echo.Context) {
+		if c.Response().Committed {
+			return
+		}
+		p, pe := problemFor(err, isUnavailable)
+		p.Instance = c.Request().URL.Path
+		p.RequestID = c.Response().Header().Get(echo.HeaderXRequestID)
+		if p.Status >= 500 {
+			logger.Error("request failed", "request_id", p.RequestID, "path", p.Instance, "error", err.Error())
+		}
+		if pe.retry > 0 {
+			c.Response().Header().Set("Retry-After", strconv.Itoa(pe.retry))
+		}
+		body, _ := json.Marshal(p)
+		c.Response().Header().Set(echo.HeaderContentType, "application/problem+json")
+		c.Response().WriteHeader(p.Status)
+		_, _ = c.Response().Write(body)
+	}
+}

@@ -1,0 +1,132 @@
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"io"
+	"strconv"
+	"text/tabwriter"
+	"time"
+
+	"wattshelf/domain"
+	"wattshelf/domain/store"
+)
+
+// hostActor names who did what from the host's command line in the audit.
+const hostActor = "host-cli"
+
+func migrateCommand(ctx context.Context, args []string, env environment, stdout io.Writer) error {
+	if len(args) == 0 {
+		return &exitError{code: 2, msg: "usage: wattshelf migrate up | down N | status"}
+	}
+	if err := store.EnsureDatabase(ctx, env.databaseURL); err != nil {
+		return err
+	}
+	m, err := store.NewMigrator(env.databaseURL)
+	if err != nil {
+		return err
+	}
+	defer m.Close()
+	switch args[0] {
+	case "up":
+		if err := m.Up(); err != nil {
+			return err
+		}
+	case "down":
+		if len(args) != 2 {
+			return &exitError{code: 2, msg: "usage: wattshelf migrate down N"}
+		}
+		n, err := strconv.Atoi(args[1])
+		if err != nil || n < 1 {
+			return &exitError{code: 2, msg: "migrate down needs a positive step count"}
+		}
+		if err := m.Down(n); err != nil {
+			return err
+		}
+	case "status":
+	default:
+		return &exitError{code: 2, msg: fmt.Sprintf("unknown migrate action %q", args[0])}
+	}
+	st, err := m.Status()
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "schema version %d of %d", st.Current, st.Latest)
+	if st.Dirty {
+		fmt.Fprint(stdout, " (dirty: a migration failed part-way; fix it by hand, then force the version)")
+	}
+	fmt.Fprintln(stdout)
+	return nil
+}
+
+func seedDemoCommand(ctx context.Context, env environment, stdout io.Writer) error {
+	st, err := env.openMigrated(ctx)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	return seedDemo(ctx, st, env.logger(stdout))
+}
+
+func tokenCommand(ctx context.Context, args []string, env environment, stdout io.Writer) error {
+	if len(args) == 0 {
+		return &exitError{code: 2, msg: "usage: wattshelf token create --name NAME --role member|staff | list | revoke NAME"}
+	}
+	st, err := env.openMigrated(ctx)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	switch args[0] {
+	case "create":
+		fs := flag.NewFlagSet("token create", flag.ContinueOnError)
+		fs.SetOutput(io.Discard)
+		name := fs.String("name", "", "who the token is for")
+		role := fs.String("role", "member", "member or staff")
+		if err := fs.Parse(args[1:]); err != nil || *name == "" {
+			return &exitError{code: 2, msg: "usage: wattshelf token create --name NAME --role member|staff"}
+		}
+		secret, err := st.CreateToken(ctx, hostActor, *name, domain.Role(*role))
+		if err != nil {
+			return fmt.Errorf("create token: %w", err)
+		}
+		// The secret alone, so scripts can capture it; it is not shown again.
+		fmt.Fprintln(stdout, secret)
+		return nil
+	case "list":
+		infos, err := st.ListTokens(ctx)
+		if err != nil {
+			return err
+		}
+		tw := tabwriter.NewWriter(stdout, 2, 4, 2, ' ', 0)
+		fmt.Fprintln(tw, "NAME\tROLE\tCREATED\tLAST USED\tSTATE")
+		for _, ti := range infos {
+			state := "live"
+			if ti.RevokedAt != nil {
+				state = "revoked " + ti.RevokedAt.UTC().Format(time.DateTime)
+			}
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\n", ti.Name, ti.Role,
+				ti.CreatedAt.UTC().Format(time.DateTime), formatOptionalTime(ti.LastUsed), state)
+		}
+		return tw.Flush()
+	case "revoke":
+		if len(args) != 2 {
+			return &exitError{code: 2, msg: "usage: wattshelf token revoke NAME"}
+		}
+		n, err := st.RevokeTokens(ctx, hostActor, args[1])
+		if err != nil {
+			return fmt.Errorf("revoke: %w", err)
+		}
+		fmt.Fprintf(stdout, "revoked %d token(s) of %s\n", n, args[1])
+		return nil
+	}
+	return &exitError{code: 2, msg: fmt.Sprintf("unknown token action %q", args[0])}
+}
+
+func formatOptionalTime(t *time.Time) string {
+	if t == nil {
+		return "never"
+	}
+	return t.UTC().Format(time.DateTime)
+}

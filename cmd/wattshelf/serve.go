@@ -1,0 +1,78 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"net"
+	"net/http"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus"
+
+	"wattshelf/api"
+)
+
+// shutdownGrace bounds how long in-flight requests may take to finish.
+const shutdownGrace = 15 * time.Second
+
+func serve(ctx context.Context, args []string, env environment, stderr io.Writer) error {
+	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	addr := fs.String("addr", "127.0.0.1:8080", "address to listen on")
+	demo := fs.Bool("demo", false, "load the demo shelf and designs into an empty database")
+	if err := fs.Parse(args); err != nil {
+		return &exitError{code: 2}
+	}
+	logger := env.logger(stderr)
+
+	st, err := env.openMigrated(ctx)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	if err := prepareData(ctx, st, *demo, logger); err != nil {
+		return err
+	}
+
+	handler, err := api.New(api.Config{
+		Store: st, Logger: logger, Registry: prometheus.NewRegistry(), PublicBaseURL: env.publicURL,
+	})
+	if err != nil {
+		return err
+	}
+	ln, err := net.Listen("tcp", *addr)
+	if err != nil {
+		return fmt.Errorf("listen on %s: %w", *addr, err)
+	}
+	srv := &http.Server{
+		Handler:           handler,
+		ReadHeaderTimeout: 5 * time.Second,
+		ReadTimeout:       30 * time.Second,
+		WriteTimeout:      60 * time.Second,
+		IdleTimeout:       120 * time.Second,
+		MaxHeaderBytes:    64 << 10,
+	}
+	logger.Info("serving", "addr", "http://"+ln.Addr().String(), "demo", *demo)
+
+	served := make(chan error, 1)
+	go func() { served <- srv.Serve(ln) }()
+	select {
+	case err := <-served:
+		return fmt.Errorf("serve: %w", err)
+	case <-ctx.Done():
+	}
+	logger.Info("shutting down: refusing new requests, finishing in-flight ones", "grace", shutdownGrace.String())
+	shutdownCtx, cancel := context.WithTimeout(context.Background(), shutdownGrace)
+	defer cancel()
+	if err := srv.Shutdown(shutdownCtx); err != nil {
+		return fmt.Errorf("shut down: %w", err)
+	}
+	if err := <-served; err != nil && !errors.Is(err, http.ErrServerClosed) {
+		return fmt.Errorf("serve: %w", err)
+	}
+	logger.Info("stopped")
+	return nil
+}

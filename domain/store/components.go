@@ -1,0 +1,217 @@
+package store
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"strings"
+
+	"github.com/jackc/pgx/v5"
+
+	"wattshelf/domain"
+)
+
+// ComponentFilter narrows a listing. Zero values do not filter.
+type ComponentFilter struct {
+	Kind    string
+	Query   string   // matched in name and description
+	Bin     string
+	FitsV   *float64 // components whose voltage window contains this
+	AfterID int64    // cursor: list ids above this
+	Limit   int
+}
+
+const componentColumns = `id, name, kind, description, origin, mains_origin, bin, quantity,
+	condition, spec_source, notes, electrical, owner, created_at, updated_at, version`
+
+func scanComponent(row pgx.Row) (domain.Component, error) {
+	var c domain.Component
+	var electrical []byte
+	err := row.Scan(&c.ID, &c.Name, &c.Kind, &c.Description, &c.Origin, &c.MainsOrigin, &c.Bin,
+		&c.Quantity, &c.Condition, &c.SpecSource, &c.Notes, &electrical, &c.Owner,
+		&c.CreatedAt, &c.UpdatedAt, &c.Version)
+	if err != nil {
+		return c, err
+	}
+	if err := json.Unmarshal(electrical, &c.Electrical); err != nil {
+		return c, fmt.Errorf("decode electrical fields of component %d: %w", c.ID, err)
+	}
+	return c, nil
+}
+
+// CreateComponent stores a new component owned by actor.
+func (s *Store) CreateComponent(ctx context.Context, actor domain.User, in domain.ComponentInput) (domain.Component, error) {
+	electrical, err := json.Marshal(in.Electrical)
+	if err != nil {
+		return domain.Component{}, fmt.Errorf("encode electrical fields: %w", err)
+	}
+	var c domain.Component
+	err = s.inTx(ctx, func(tx pgx.Tx) error {
+		c, err = scanComponent(tx.QueryRow(ctx, `INSERT INTO components
+			(name, kind, description, origin, mains_origin, bin, quantity, condition, spec_source, notes, electrical, owner)
+			VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12)
+			RETURNING `+componentColumns,
+			in.Name, in.Kind, in.Description, in.Origin, in.MainsOrigin, in.Bin, in.Quantity,
+			in.Condition, in.SpecSource, in.Notes, electrical, actor.Name))
+		if err != nil {
+			return fmt.Errorf("insert component: %w", err)
+		}
+		return audit(ctx, tx, actor.Name, "component.create", "component", c.ID, map[string]any{"name": c.Name})
+	})
+	return c, err
+}
+
+// Component returns one component.
+func (s *Store) Component(ctx context.Context, id int64) (domain.Component, error) {
+	c, err := scanComponent(s.pool.QueryRow(ctx, `SELECT `+componentColumns+` FROM components WHERE id = $1`, id))
+	if err != nil {
+		return c, notFound(err, fmt.Sprintf("component %d", id))
+	}
+	return c, nil
+}
+
+// ComponentsByID returns the components with the given ids that exist.
+func (s *Store) ComponentsByID(ctx context.Context, ids []int64) (map[int64]domain.Component, error) {
+	found := make(map[int64]domain.Component, len(ids))
+	if len(ids) == 0 {
+		return found, nil
+	}
+	rows, err := s.pool.Query(ctx, `SELECT `+componentColumns+` FROM components WHERE id = ANY($1)`, ids)
+	if err != nil {
+		return nil, fmt.Errorf("load components: %w", err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		c, err := scanComponent(rows)
+		if err != nil {
+			return nil, fmt.Errorf("load components: %w", err)
+		}
+		found[c.ID] = c
+	}
+	if err := rows.Err(); err != nil {
+		return nil, fmt.Errorf("load components: %w", err)
+	}
+	return found, nil
+}
+
+// escapeLike makes a user's text match literally inside ILIKE.
+func escapeLike(s string) string {
+	return strings.NewReplacer(`\`, `\\`, `%`, `\%`, `_`, `\_`).Replace(s)
+}
+
+// ListComponents returns up to f.Limit components in id order after
+// f.AfterID, and whether more follow.
+func (s *Store) ListComponents(ctx context.Context, f ComponentFilter) ([]domain.Component, bool, error) {
+	limit := f.Limit
+	if limit <= 0 {
+		limit = 50
+	}
+	var fits any
+	if f.FitsV != nil {
+		fits = *f.FitsV
+	}
+	rows, err := s.pool.Query(ctx, `SELECT `+componentColumns+` FROM components
+		WHERE id > $1
+		  AND ($2 = '' OR kind = $2)
+		  AND ($3 = '' OR bin = $3)
+		  AND ($4 = '' OR (name || ' ' || description) ILIKE '%' || $4 || '%')
+		  AND ($5::double precision IS NULL OR (window_low_v <= $5 AND window_high_v >= $5))
+		ORDER BY id LIMIT $6`,
+		f.AfterID, f.Kind, f.Bin, escapeLike(f.Query), fits, limit+1)
+	if err != nil {
+		return nil, false, fmt.Errorf("list components: %w", err)
+	}
+	list, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (domain.Component, error) { return scanComponent(r) })
+	if err != nil {
+		return nil, false, fmt.Errorf("list components: %w", err)
+	}
+	more := len(list) > limit
+	if more {
+		list = list[:limit]
+	}
+	return list, more, nil
+}
+
+// lockOwned loads a row's owner and version for change, enforcing that
+// actor may change it and that the client saw the current version
+// (expectVersion 0 skips the version check).
+func lockOwned(ctx context.Context, tx pgx.Tx, table string, id int64, actor domain.User, expectVersion int64) error {
+	var owner string
+	var version int64
+	err := tx.QueryRow(ctx, `SELECT owner, version FROM `+table+` WHERE id = $1 FOR UPDATE`, id).Scan(&owner, &version)
+	if err != nil {
+		return notFound(err, fmt.Sprintf("%s %d", strings.TrimSuffix(table, "s"), id))
+	}
+	if !actor.MayChange(owner) {
+		return fmt.Errorf("%s %d belongs to %s: %w", strings.TrimSuffix(table, "s"), id, owner, domain.ErrForbidden)
+	}
+	if expectVersion != 0 && version != expectVersion {
+		return fmt.Errorf("%s %d is at version %d, not %d: %w", strings.TrimSuffix(table, "s"), id, version, expectVersion, domain.ErrPreconditionFailed)
+	}
+	return nil
+}
+
+// UpdateComponent replaces a component's fields when actor may change it
+// and expectVersion is current; the version then goes up by one.
+func (s *Store) UpdateComponent(ctx context.Context, actor domain.User, id, expectVersion int64, in domain.ComponentInput) (domain.Component, error) {
+	electrical, err := json.Marshal(in.Electrical)
+	if err != nil {
+		return domain.Component{}, fmt.Errorf("encode electrical fields: %w", err)
+	}
+	var c domain.Component
+	err = s.inTx(ctx, func(tx pgx.Tx) error {
+		if err := lockOwned(ctx, tx, "components", id, actor, expectVersion); err != nil {
+			return err
+		}
+		c, err = scanComponent(tx.QueryRow(ctx, `UPDATE components SET
+			name = $2, kind = $3, description = $4, origin = $5, mains_origin = $6, bin = $7,
+			quantity = $8, condition = $9, spec_source = $10, notes = $11, electrical = $12,
+			updated_at = now(), version = version + 1
+			WHERE id = $1 RETURNING `+componentColumns,
+			id, in.Name, in.Kind, in.Description, in.Origin, in.MainsOrigin, in.Bin, in.Quantity,
+			in.Condition, in.SpecSource, in.Notes, electrical))
+		if err != nil {
+			return fmt.Errorf("update component %d: %w", id, err)
+		}
+		return audit(ctx, tx, actor.Name, "component.update", "component", id, map[string]any{"version": c.Version})
+	})
+	return c, err
+}
+
+// DeleteComponent removes a component and its measurements.
+func (s *Store) DeleteComponent(ctx context.Context, actor domain.User, id, expectVersion int64) error {
+	return s.inTx(ctx, func(tx pgx.Tx) error {
+		if err := lockOwned(ctx, tx, "components", id, actor, expectVersion); err != nil {
+			return err
+		}
+		if _, err := tx.Exec(ctx, `DELETE FROM components WHERE id = $1`, id); err != nil {
+			return fmt.Errorf("delete component %d: %w", id, err)
+		}
+		return audit(ctx, tx, actor.Name, "component.delete", "component", id, nil)
+	})
+}
+
+// Shelf returns the public view of every component, by bin then name.
+func (s *Store) Shelf(ctx context.Context) ([]domain.ShelfItem, error) {
+	rows, err := s.pool.Query(ctx, `SELECT `+componentColumns+` FROM components ORDER BY bin, name, id`)
+	if err != nil {
+		return nil, fmt.Errorf("read shelf: %w", err)
+	}
+	items, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (domain.ShelfItem, error) {
+		c, err := scanComponent(r)
+		return c.Public(), err
+	})
+	if err != nil {
+		return nil, fmt.Errorf("read shelf: %w", err)
+	}
+	return items, nil
+}
+
+// CountComponents reports how many components the shelf holds.
+func (s *Store) CountComponents(ctx context.Context) (int64, error) {
+	var n int64
+	if err := s.pool.QueryRow(ctx, `SELECT count(*) FROM components`).Scan(&n); err != nil {
+		return 0, fmt.Errorf("count components: %w", err)
+	}
+	return n, nil
+}
