@@ -82,4 +82,3 @@ func prepareData(ctx context.Context, st *store.Store, demo bool, logger *slog.L
 	}
 	return nil
 }
-

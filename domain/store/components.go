@@ -14,7 +14,7 @@ import (
 // ComponentFilter narrows a listing. Zero values do not filter.
 type ComponentFilter struct {
 	Kind    string
-	Query   string   // matched in name and description
+	Query   string // matched in name and description
 	Bin     string
 	FitsV   *float64 // components whose voltage window contains this
 	AfterID int64    // cursor: list ids above this
