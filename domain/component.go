@@ -151,6 +151,10 @@ func (e Electrical) validate(p *Problems) {
 	if e.MinV != nil && e.MaxV != nil && *e.MinV > *e.MaxV {
 		p.Add("/min_v", "is above max_v")
 	}
+	// An upside-down input window would make fits_v match nothing.
+	if e.MinInputV != nil && e.MaxInputV != nil && *e.MinInputV > *e.MaxInputV {
+		p.Add("/min_input_v", "is above max_input_v")
+	}
 	p.CheckText("/topology", e.Topology, MaxShortFieldLen, false)
 	p.CheckText("/chemistry", e.Chemistry, MaxShortFieldLen, false)
 	p.CheckText("/gauge", e.Gauge, MaxShortFieldLen, false)
