@@ -45,8 +45,8 @@ func insulationColumnsC() []string {
 }
 
 // DefaultConductorTable is the seeded conductor table:
-//   - 18 AWG to 4/0 AWG: 33 CFR 183.425 Table 5, 30 °C ambient, outside
-//     engine spaces. The issue quotes the 105 °C and 60 °C values for
+//   - 18 AWG to 4/0 AWG: 33 CFR 183.425 Table 5, 30 °C ambient. The issue
+//     quotes the 105 °C and 60 °C values for
 //     18–10 AWG; every other cell is from memory of the same table.
 //   - metric sizes: the ampacity of the largest Table 5 size whose area is
 //     not larger (never credits a metric wire with more than the AWG size

@@ -210,3 +210,20 @@ func TestConductorTableValidate(t *testing.T) {
 		}
 	}
 }
+
+func TestAmpacityFromTrimmedTable(t *testing.T) {
+	full := DefaultConductorTable()
+	trimmed := full
+	trimmed.Rows = full.Rows[:14] // the Table 5 rows only: 18 AWG and up
+	if _, err := trimmed.Ampacity(mustGauge(t, "22AWG"), 105, 1); !errors.Is(err, ErrNoAmpacity) {
+		t.Errorf("22AWG against a table starting at 18AWG: err %v, want ErrNoAmpacity", err)
+	}
+	// 2.5 mm² has no row here and takes 14 AWG's (2.08 mm²) 35 A.
+	if amps, err := trimmed.Ampacity(mustGauge(t, "2.5mm2"), 105, 1); err != nil || amps != 35 {
+		t.Errorf("2.5mm2 against Table 5 rows: %g, %v; want 35 A", amps, err)
+	}
+	trimmed.Bundling = trimmed.Bundling[1:] // starts at 3 conductors
+	if _, err := trimmed.Ampacity(mustGauge(t, "14AWG"), 105, 1); !errors.Is(err, ErrNoAmpacity) {
+		t.Errorf("no bundling factor for 1 conductor: err %v, want ErrNoAmpacity", err)
+	}
+}

@@ -41,19 +41,20 @@ func metricSizesMM2() []float64 {
 }
 
 // ParseGauge reads "30AWG" … "4/0AWG" (also "0AWG"…"0000AWG" for the
-// aught sizes) or a metric size such as "0.5mm2" or "1.5mm²". Case and
-// spaces are ignored.
+// aught sizes) or a metric size such as "0.5mm2" or "1.5mm²". Case,
+// surrounding spaces and a space before the unit are ignored.
 func ParseGauge(label string) (Gauge, error) {
-	s := strings.ToLower(strings.Join(strings.Fields(label), ""))
+	s := strings.ToLower(strings.TrimSpace(label))
+	number := func(unit string) string { return strings.TrimSpace(strings.TrimSuffix(s, unit)) }
 	switch {
 	case s == "":
 		return Gauge{}, fmt.Errorf("%w: empty label; write e.g. \"18AWG\" or \"1.5mm2\"", ErrUnknownGauge)
 	case strings.HasSuffix(s, "awg"):
-		return parseAWG(label, strings.TrimSuffix(s, "awg"))
+		return parseAWG(label, number("awg"))
 	case strings.HasSuffix(s, "mm2"):
-		return parseMetric(label, strings.TrimSuffix(s, "mm2"))
+		return parseMetric(label, number("mm2"))
 	case strings.HasSuffix(s, "mm²"):
-		return parseMetric(label, strings.TrimSuffix(s, "mm²"))
+		return parseMetric(label, number("mm²"))
 	}
 	return Gauge{}, fmt.Errorf("%w: %q has no unit; write \"NNAWG\" (30AWG to 4/0AWG) or a metric size like \"1.5mm2\"", ErrUnknownGauge, label)
 }

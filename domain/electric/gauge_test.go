@@ -174,7 +174,7 @@ func TestParseGauge(t *testing.T) {
 		}
 	}
 	bad := []string{"", "AWG", "31AWG", "40AWG", "5/0AWG", "00000AWG", "0/0AWG", "018AWG", "-2AWG", "+4AWG",
-		"18", "18 gauge", "1.6mm2", "15mm2", "0mm2", "-1.5mm2", "NaNmm2", "infmm2", "mm2", "1,5mm2", "18AWG18AWG"}
+		"18", "18 gauge", "1 8AWG", "1. 5mm2", "1.6mm2", "15mm2", "0mm2", "-1.5mm2", "NaNmm2", "infmm2", "mm2", "1,5mm2", "18AWG18AWG"}
 	for _, in := range bad {
 		if g, err := ParseGauge(in); !errors.Is(err, ErrUnknownGauge) {
 			t.Errorf("ParseGauge(%q) = %+v, %v; want ErrUnknownGauge", in, g, err)

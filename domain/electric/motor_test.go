@@ -36,6 +36,9 @@ func TestMotorWorkedExample(t *testing.T) {
 	if p := m.OutputPowerW(0.5); p != 0 {
 		t.Errorf("power below the no-load current = %g, want 0", p)
 	}
+	if e := m.EfficiencyAt(0); e != 0 {
+		t.Errorf("efficiency at no current = %g, want 0", e)
+	}
 	if p := m.OutputPowerW(30); p != 0 {
 		t.Errorf("power past stall = %g, want 0", p)
 	}
