@@ -1,0 +1,144 @@
+package store
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"time"
+
+	"github.com/jackc/pgx/v5"
+
+	"wattshelf/domain"
+)
+
+// LimitsSet is one stored version of the limits a review applies. The body
+// is kept as JSON so the store need not know the limits' shape; the review
+// engine decodes and validates it.
+type LimitsSet struct {
+	Version   int             `json:"version"`
+	Body      json.RawMessage `json:"limits"`
+	Note      string          `json:"note,omitempty"`
+	CreatedBy string          `json:"created_by"`
+	CreatedAt time.Time       `json:"created_at"`
+}
+
+// LimitsVersionSummary describes a stored version without its body.
+type LimitsVersionSummary struct {
+	Version   int       `json:"version"`
+	Note      string    `json:"note,omitempty"`
+	CreatedBy string    `json:"created_by"`
+	CreatedAt time.Time `json:"created_at"`
+}
+
+// defaultLimitsActor is who the audit names for the seeded version 1.
+const defaultLimitsActor = "system"
+
+// EnsureDefaultLimits stores body as version 1 unless a version 1 exists,
+// and reports whether it stored it. Replicas starting together are safe:
+// the insert yields to an existing row instead of failing.
+func (s *Store) EnsureDefaultLimits(ctx context.Context, body []byte, note string) (bool, error) {
+	if !json.Valid(body) {
+		return false, errors.New("ensure default limits: body is not JSON")
+	}
+	inserted := false
+	err := s.inTx(ctx, func(tx pgx.Tx) error {
+		tag, err := tx.Exec(ctx, `INSERT INTO limits (version, body, note, created_by)
+			VALUES (1, $1, $2, $3) ON CONFLICT (version) DO NOTHING`, body, note, defaultLimitsActor)
+		if err != nil {
+			return fmt.Errorf("insert default limits: %w", err)
+		}
+		if tag.RowsAffected() == 0 {
+			return nil
+		}
+		inserted = true
+		return audit(ctx, tx, defaultLimitsActor, "limits.seed", "limits", 1, map[string]any{"note": note})
+	})
+	return inserted, err
+}
+
+// CurrentLimitsVersion returns the newest version number; a database
+// without limits is ErrNotFound.
+func (s *Store) CurrentLimitsVersion(ctx context.Context) (int, error) {
+	var v *int
+	if err := s.pool.QueryRow(ctx, `SELECT max(version) FROM limits`).Scan(&v); err != nil {
+		return 0, fmt.Errorf("read current limits version: %w", err)
+	}
+	if v == nil {
+		return 0, fmt.Errorf("no limits are stored: %w", domain.ErrNotFound)
+	}
+	return *v, nil
+}
+
+// CurrentLimits returns the newest version.
+func (s *Store) CurrentLimits(ctx context.Context) (LimitsSet, error) {
+	l, err := scanLimits(s.pool.QueryRow(ctx, `SELECT version, body, note, created_by, created_at
+		FROM limits ORDER BY version DESC LIMIT 1`))
+	if err != nil {
+		return l, notFound(err, "current limits")
+	}
+	return l, nil
+}
+
+// Limits returns one version.
+func (s *Store) Limits(ctx context.Context, version int) (LimitsSet, error) {
+	l, err := scanLimits(s.pool.QueryRow(ctx, `SELECT version, body, note, created_by, created_at
+		FROM limits WHERE version = $1`, version))
+	if err != nil {
+		return l, notFound(err, fmt.Sprintf("limits version %d", version))
+	}
+	return l, nil
+}
+
+// LimitsVersions lists every version without bodies, newest first.
+func (s *Store) LimitsVersions(ctx context.Context) ([]LimitsVersionSummary, error) {
+	rows, err := s.pool.Query(ctx, `SELECT version, note, created_by, created_at FROM limits ORDER BY version DESC`)
+	if err != nil {
+		return nil, fmt.Errorf("list limits versions: %w", err)
+	}
+	list, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (LimitsVersionSummary, error) {
+		var v LimitsVersionSummary
+		err := r.Scan(&v.Version, &v.Note, &v.CreatedBy, &v.CreatedAt)
+		return v, err
+	})
+	if err != nil {
+		return nil, fmt.Errorf("list limits versions: %w", err)
+	}
+	return list, nil
+}
+
+// limitsLockKey serialises writers of new limits versions; readers are
+// never blocked.
+const limitsLockKey = 0x6c696d73 // "lims"
+
+// PutLimits stores body as the next version (the newest plus one) and
+// records it in the audit trail. Two staff saving at once get two
+// consecutive versions, never a clash.
+func (s *Store) PutLimits(ctx context.Context, actor domain.User, body []byte, note string) (LimitsSet, error) {
+	if !json.Valid(body) {
+		return LimitsSet{}, errors.New("put limits: body is not JSON")
+	}
+	var l LimitsSet
+	err := s.inTx(ctx, func(tx pgx.Tx) error {
+		if _, err := tx.Exec(ctx, `SELECT pg_advisory_xact_lock($1)`, limitsLockKey); err != nil {
+			return fmt.Errorf("lock limits for a new version: %w", err)
+		}
+		var err error
+		l, err = scanLimits(tx.QueryRow(ctx, `INSERT INTO limits (version, body, note, created_by)
+			SELECT coalesce(max(version), 0) + 1, $1, $2, $3 FROM limits
+			RETURNING version, body, note, created_by, created_at`, body, note, actor.Name))
+		if err != nil {
+			return fmt.Errorf("insert limits version: %w", err)
+		}
+		return audit(ctx, tx, actor.Name, "limits.put", "limits", l.Version, map[string]any{"note": note})
+	})
+	return l, err
+}
+
+func scanLimits(row pgx.Row) (LimitsSet, error) {
+	var l LimitsSet
+	var body []byte
+	err := row.Scan(&l.Version, &body, &l.Note, &l.CreatedBy, &l.CreatedAt)
+	l.Body = body
+	return l, err
+}

@@ -1,0 +1,151 @@
+package store
+
+import (
+	"context"
+	"crypto/rand"
+	"crypto/sha256"
+	"encoding/base64"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"time"
+
+	"github.com/jackc/pgx/v5"
+
+	"wattshelf/domain"
+)
+
+// StoredReview is a stored review of a design.
+type StoredReview struct {
+	ID         int64  `json:"id"`
+	DesignID   int64  `json:"design_id"`
+	DesignName string `json:"design_name"`
+	// ShareID opens the printable report without a login; it is random,
+	// not derived from anything a stranger could know.
+	ShareID        string          `json:"share_id"`
+	Status         string          `json:"status"`
+	LimitsVersion  int             `json:"limits_version"`
+	DocumentSHA256 string          `json:"document_sha256"`
+	Report         json.RawMessage `json:"report"`
+	CreatedBy      string          `json:"created_by"`
+	CreatedAt      time.Time       `json:"created_at"`
+}
+
+// NewReview is what the caller computed: the report of one document
+// under one limits version.
+type NewReview struct {
+	DesignID      int64
+	Document      []byte
+	Status        string
+	LimitsVersion int
+	Report        []byte
+}
+
+// shareIDBytes is the randomness in a share id: 144 bits, well past the
+// 128 that put guessing out of reach, and a whole number of base64 digits.
+const shareIDBytes = 18
+
+func newShareID() (string, error) {
+	var raw [shareIDBytes]byte
+	if _, err := rand.Read(raw[:]); err != nil {
+		return "", fmt.Errorf("read random share id: %w", err)
+	}
+	return base64.RawURLEncoding.EncodeToString(raw[:]), nil
+}
+
+// DocumentDigest is the hex SHA-256 of a document's bytes, as stored with
+// each review so a member can tell which revision a report covers.
+func DocumentDigest(document []byte) string {
+	sum := sha256.Sum256(document)
+	return hex.EncodeToString(sum[:])
+}
+
+const reviewColumns = `r.id, r.design_id, d.name, r.share_id, r.status, r.limits_version,
+	r.document_sha256, r.report, r.created_by, r.created_at`
+
+func scanReview(row pgx.Row) (StoredReview, error) {
+	var r StoredReview
+	var report []byte
+	err := row.Scan(&r.ID, &r.DesignID, &r.DesignName, &r.ShareID, &r.Status, &r.LimitsVersion,
+		&r.DocumentSHA256, &report, &r.CreatedBy, &r.CreatedAt)
+	r.Report = report
+	return r, err
+}
+
+// AddReview stores a review of a design that actor may change (its owner
+// or staff), with a fresh share id and the digest of the document.
+func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) (StoredReview, error) {
+	if !json.Valid(in.Report) {
+		return StoredReview{}, errors.New("add review: report is not JSON")
+	}
+	shareID, err := newShareID()
+	if err != nil {
+		return StoredReview{}, err
+	}
+	var r StoredReview
+	err = s.inTx(ctx, func(tx pgx.Tx) error {
+		// Locking the design keeps it from being deleted under the insert.
+		if err := lockOwned(ctx, tx, "designs", in.DesignID, actor, 0); err != nil {
+			return err
+		}
+		var id int64
+		err := tx.QueryRow(ctx, `INSERT INTO reviews
+			(design_id, share_id, status, limits_version, document_sha256, report, created_by)
+			VALUES ($1, $2, $3, $4, $5, $6, $7) RETURNING id`,
+			in.DesignID, shareID, in.Status, in.LimitsVersion, DocumentDigest(in.Document),
+			in.Report, actor.Name).Scan(&id)
+		if err != nil {
+			return fmt.Errorf("insert review of design %d: %w", in.DesignID, err)
+		}
+		r, err = scanReview(tx.QueryRow(ctx, `SELECT `+reviewColumns+`
+			FROM reviews r JOIN designs d ON d.id = r.design_id WHERE r.id = $1`, id))
+		if err != nil {
+			return fmt.Errorf("read back review %d: %w", id, err)
+		}
+		return audit(ctx, tx, actor.Name, "review.create", "design", in.DesignID,
+			map[string]any{"review": id, "status": in.Status, "limits_version": in.LimitsVersion})
+	})
+	return r, err
+}
+
+// ReviewsOfDesign returns up to limit reviews of a design, newest first,
+// older than beforeID when it is positive, and whether more follow.
+func (s *Store) ReviewsOfDesign(ctx context.Context, designID, beforeID int64, limit int) ([]StoredReview, bool, error) {
+	if limit <= 0 {
+		limit = 20
+	}
+	rows, err := s.pool.Query(ctx, `SELECT `+reviewColumns+`
+		FROM reviews r JOIN designs d ON d.id = r.design_id
+		WHERE r.design_id = $1 AND ($2 <= 0 OR r.id < $2)
+		ORDER BY r.id DESC LIMIT $3`, designID, beforeID, limit+1)
+	if err != nil {
+		return nil, false, fmt.Errorf("list reviews of design %d: %w", designID, err)
+	}
+	list, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (StoredReview, error) { return scanReview(r) })
+	if err != nil {
+		return nil, false, fmt.Errorf("list reviews of design %d: %w", designID, err)
+	}
+	more := len(list) > limit
+	if more {
+		list = list[:limit]
+	}
+	return list, more, nil
+}
+
+// maxShareIDLen bounds the lookups a stranger can make us do.
+const maxShareIDLen = 64
+
+// ReviewByShareID returns the review a share id opens, with the name of
+// its design. Anyone holding the id may see it.
+func (s *Store) ReviewByShareID(ctx context.Context, shareID string) (StoredReview, error) {
+	if shareID == "" || len(shareID) > maxShareIDLen {
+		return StoredReview{}, fmt.Errorf("shared report: %w", domain.ErrNotFound)
+	}
+	r, err := scanReview(s.pool.QueryRow(ctx, `SELECT `+reviewColumns+`
+		FROM reviews r JOIN designs d ON d.id = r.design_id WHERE r.share_id = $1`, shareID))
+	if err != nil {
+		return r, notFound(err, "shared report")
+	}
+	return r, nil
+}

@@ -1,0 +1,106 @@
+package store_test
+
+import (
+	"context"
+	"errors"
+	"regexp"
+	"testing"
+
+	"wattshelf/domain"
+	"wattshelf/domain/store"
+	"wattshelf/domain/store/storetest"
+)
+
+func TestDocumentDigest(t *testing.T) {
+	// FIPS 180-2, appendix B.1: the SHA-256 of "abc".
+	const want = "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+	if got := store.DocumentDigest([]byte("abc")); got != want {
+		t.Fatalf("digest of abc = %s, want %s", got, want)
+	}
+}
+
+func TestReviews(t *testing.T) {
+	ctx := context.Background()
+	st, _ := storetest.NewStore(t)
+	ada := domain.User{Name: "ada", Role: domain.RoleMember}
+	bo := domain.User{Name: "bo", Role: domain.RoleMember}
+	staff := domain.User{Name: "rowan", Role: domain.RoleStaff}
+	if _, err := st.EnsureDefaultLimits(ctx, []byte(`{}`), "defaults"); err != nil {
+		t.Fatal(err)
+	}
+	doc := []byte(`{"format":1,"name":"lamp","nodes":[]}`)
+	d, err := st.CreateDesign(ctx, ada, "lamp", doc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	in := store.NewReview{DesignID: d.ID, Document: doc, Status: "warn", LimitsVersion: 1,
+		Report: []byte(`{"status":"warn","limits_version":1}`)}
+
+	if _, err := st.AddReview(ctx, bo, in); !errors.Is(err, domain.ErrForbidden) {
+		t.Fatalf("review of ada's design by bo: %v, want forbidden", err)
+	}
+	if _, err := st.AddReview(ctx, ada, store.NewReview{DesignID: 999, Document: doc, Status: "pass", LimitsVersion: 1, Report: []byte(`{}`)}); !errors.Is(err, domain.ErrNotFound) {
+		t.Fatalf("review of a missing design: %v, want not found", err)
+	}
+	if _, err := st.AddReview(ctx, ada, store.NewReview{DesignID: d.ID, Document: doc, Status: "pass", LimitsVersion: 5, Report: []byte(`{}`)}); err == nil {
+		t.Fatal("a review naming a limits version that does not exist was stored")
+	}
+
+	shareIDs := map[string]bool{}
+	urlSafe := regexp.MustCompile(`^[A-Za-z0-9_-]{24}$`) // 18 random bytes in base64url
+	var last store.StoredReview
+	for i, actor := range []domain.User{ada, staff, ada} {
+		r, err := st.AddReview(ctx, actor, in)
+		if err != nil {
+			t.Fatalf("review %d: %v", i, err)
+		}
+		if !urlSafe.MatchString(r.ShareID) {
+			t.Fatalf("share id %q is not 24 URL-safe characters", r.ShareID)
+		}
+		if shareIDs[r.ShareID] {
+			t.Fatalf("share id %q issued twice", r.ShareID)
+		}
+		shareIDs[r.ShareID] = true
+		if r.DocumentSHA256 != store.DocumentDigest(doc) || r.Status != "warn" || r.LimitsVersion != 1 ||
+			r.CreatedBy != actor.Name || r.DesignName != "lamp" || !jsonEqual(t, r.Report, string(in.Report)) {
+			t.Fatalf("stored review %+v does not match what was sent", r)
+		}
+		last = r
+	}
+
+	list, more, err := st.ReviewsOfDesign(ctx, d.ID, 0, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(list) != 2 || !more || list[0].ID != last.ID || list[0].ID <= list[1].ID {
+		t.Fatalf("first page = %+v more=%t, want the newest two, newest first", list, more)
+	}
+	rest, more, err := st.ReviewsOfDesign(ctx, d.ID, list[1].ID, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rest) != 1 || more || rest[0].ID >= list[1].ID {
+		t.Fatalf("second page = %+v more=%t, want the oldest one", rest, more)
+	}
+
+	shared, err := st.ReviewByShareID(ctx, last.ShareID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if shared.ID != last.ID || shared.DesignName != "lamp" {
+		t.Fatalf("by share id: %+v, want review %d of lamp", shared, last.ID)
+	}
+	for _, bad := range []string{"", "nope", last.ShareID + "x", string(make([]byte, 200))} {
+		if _, err := st.ReviewByShareID(ctx, bad); !errors.Is(err, domain.ErrNotFound) {
+			t.Fatalf("share id %q: %v, want not found", bad, err)
+		}
+	}
+
+	// Deleting a design takes its reviews and their shared pages with it.
+	if err := st.DeleteDesign(ctx, ada, d.ID, 0); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := st.ReviewByShareID(ctx, last.ShareID); !errors.Is(err, domain.ErrNotFound) {
+		t.Fatalf("share id after the design was deleted: %v, want not found", err)
+	}
+}
