@@ -47,6 +47,8 @@ Usage:
   wattshelf token create --name NAME --role member|staff
   wattshelf token list
   wattshelf token revoke NAME
+  wattshelf export [--format json|csv] [--out FILE]
+  wattshelf import FILE
 
 Environment:
   DATABASE_URL          PostgreSQL URL (default ` + defaultDatabaseURL + `)
@@ -71,6 +73,10 @@ func run(ctx context.Context, args []string, getenv func(string) string, stdout,
 		return seedDemoCommand(ctx, env, stdout)
 	case "token":
 		return tokenCommand(ctx, args[1:], env, stdout)
+	case "export":
+		return exportCommand(ctx, args[1:], env, stdout, stderr)
+	case "import":
+		return importCommand(ctx, args[1:], env, stdout)
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, usage)
 		return nil

@@ -1,0 +1,57 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+
+	"wattshelf/domain/store"
+)
+
+const importUsage = "usage: wattshelf import FILE   (a JSON file written by wattshelf export)"
+
+// importCommand restores a JSON export into an empty database, creating
+// and migrating it first when it can.
+func importCommand(ctx context.Context, args []string, env environment, stdout io.Writer) error {
+	if len(args) != 1 {
+		return &exitError{code: 2, msg: importUsage}
+	}
+	f, err := os.Open(args[0])
+	if err != nil {
+		return fmt.Errorf("import: %w", err)
+	}
+	defer f.Close()
+	snap, err := store.ReadSnapshot(f)
+	if err != nil {
+		return fmt.Errorf("import %s: %w", args[0], err)
+	}
+	schema, err := store.SchemaVersion()
+	if err != nil {
+		return err
+	}
+	if snap.SchemaVersion > schema {
+		return fmt.Errorf("import %s: the file was written at schema version %d by a newer wattshelf; this one knows version %d",
+			args[0], snap.SchemaVersion, schema)
+	}
+	st, err := env.openMigrated(ctx)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	if err := st.Import(ctx, snap); err != nil {
+		var ne *store.NotEmptyError
+		if errors.As(err, &ne) {
+			return &exitError{code: 1, msg: "import refused: " + ne.Error()}
+		}
+		return err
+	}
+	fmt.Fprintf(stdout, "imported %d components, %d measurements, %d designs, %d reviews, %d limits versions, %d users, %d audit entries into %s\n",
+		len(snap.Components), len(snap.Measurements), len(snap.Designs), len(snap.Reviews), len(snap.Limits),
+		len(snap.Users), len(snap.Audit), redactURL(env.databaseURL))
+	if len(snap.Users) > 0 {
+		fmt.Fprintln(stdout, "tokens are not part of an export: mint new ones with `wattshelf token create --name NAME --role ROLE`")
+	}
+	return nil
+}
