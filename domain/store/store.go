@@ -82,8 +82,11 @@ func EnsureDatabase(ctx context.Context, databaseURL string) error {
 		return nil
 	}
 	_, err = conn.Exec(ctx, "CREATE DATABASE "+pgx.Identifier{name}.Sanitize())
+	// Another replica won the race: PostgreSQL says so either as "database
+	// exists" (42P04) or, when both got past its own check, as a unique
+	// violation on pg_database's name index (23505).
 	var pgErr *pgconn.PgError
-	if errors.As(err, &pgErr) && pgErr.Code == "42P04" { // another replica won the race
+	if errors.As(err, &pgErr) && (pgErr.Code == "42P04" || pgErr.Code == "23505") {
 		return nil
 	}
 	if err != nil {
