@@ -112,9 +112,11 @@ func (s *Store) LimitsVersions(ctx context.Context) ([]LimitsVersionSummary, err
 const limitsLockKey = 0x6c696d73 // "lims"
 
 // PutLimits stores body as the next version (the newest plus one) and
-// records it in the audit trail. Two staff saving at once get two
-// consecutive versions, never a clash.
-func (s *Store) PutLimits(ctx context.Context, actor domain.User, body []byte, note string) (LimitsSet, error) {
+// records it in the audit trail. When expectVersion is not 0 it must be
+// the newest version, so a change made from a stale copy is refused
+// rather than silently undoing a colleague's; with 0, two staff saving at
+// once get two consecutive versions, never a clash.
+func (s *Store) PutLimits(ctx context.Context, actor domain.User, expectVersion int, body []byte, note string) (LimitsSet, error) {
 	if !json.Valid(body) {
 		return LimitsSet{}, errors.New("put limits: body is not JSON")
 	}
@@ -122,6 +124,15 @@ func (s *Store) PutLimits(ctx context.Context, actor domain.User, body []byte, n
 	err := s.inTx(ctx, func(tx pgx.Tx) error {
 		if _, err := tx.Exec(ctx, `SELECT pg_advisory_xact_lock($1)`, limitsLockKey); err != nil {
 			return fmt.Errorf("lock limits for a new version: %w", err)
+		}
+		if expectVersion != 0 {
+			var newest int
+			if err := tx.QueryRow(ctx, `SELECT coalesce(max(version), 0) FROM limits`).Scan(&newest); err != nil {
+				return fmt.Errorf("read newest limits version: %w", err)
+			}
+			if newest != expectVersion {
+				return fmt.Errorf("limits are at version %d, not %d: %w", newest, expectVersion, domain.ErrPreconditionFailed)
+			}
 		}
 		var err error
 		l, err = scanLimits(tx.QueryRow(ctx, `INSERT INTO limits (version, body, note, created_by)

@@ -51,12 +51,15 @@ func TestLimitsVersions(t *testing.T) {
 		t.Fatalf("version 1 = %s by %s, want the first seed by system", v1.Body, v1.CreatedBy)
 	}
 
-	put, err := st.PutLimits(ctx, staff, []byte(`{"seed":1,"changed":true}`), "raise the drop limit")
+	put, err := st.PutLimits(ctx, staff, 1, []byte(`{"seed":1,"changed":true}`), "raise the drop limit")
 	if err != nil {
 		t.Fatal(err)
 	}
 	if put.Version != 2 || put.CreatedBy != "rowan" || put.Note != "raise the drop limit" {
 		t.Fatalf("put limits = %+v, want version 2 by rowan", put)
+	}
+	if _, err := st.PutLimits(ctx, staff, 1, []byte(`{}`), "from a stale copy"); !errors.Is(err, domain.ErrPreconditionFailed) {
+		t.Fatalf("put from version 1 when 2 is newest: %v, want precondition failed", err)
 	}
 	cur, err := st.CurrentLimits(ctx)
 	if err != nil || cur.Version != 2 {
@@ -71,7 +74,7 @@ func TestLimitsVersions(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			_, errs[i] = st.PutLimits(ctx, staff, []byte(`{}`), "")
+			_, errs[i] = st.PutLimits(ctx, staff, 0, []byte(`{}`), "")
 		}()
 	}
 	wg.Wait()
@@ -110,7 +113,7 @@ func TestLimitsVersions(t *testing.T) {
 
 func TestPutLimitsRejectsNonJSON(t *testing.T) {
 	st, _ := storetest.NewStore(t)
-	if _, err := st.PutLimits(context.Background(), domain.User{Name: "rowan", Role: domain.RoleStaff}, []byte(`{`), ""); err == nil {
+	if _, err := st.PutLimits(context.Background(), domain.User{Name: "rowan", Role: domain.RoleStaff}, 0, []byte(`{`), ""); err == nil {
 		t.Fatal("a body that is not JSON was stored")
 	}
 	if _, err := st.CurrentLimitsVersion(context.Background()); !errors.Is(err, domain.ErrNotFound) {
