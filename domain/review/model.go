@@ -1,0 +1,384 @@
+package review
+
+import (
+	"errors"
+	"fmt"
+	"strconv"
+
+	"wattshelf/domain"
+	"wattshelf/domain/electric"
+)
+
+type kind uint8
+
+const (
+	kindBattery kind = iota
+	kindSupply
+	kindRegulator
+	kindDriver
+	kindMotor
+	kindLoad
+)
+
+type topology uint8
+
+const (
+	topoLinear topology = iota
+	topoBuck
+	topoBoost
+	topoBuckBoost
+)
+
+// node is a design node resolved for the engine: component fields filled
+// in, defaults applied, units in SI, and room for its operating point.
+type node struct {
+	id        string
+	ptr       string
+	typ       string
+	kind      kind
+	parent    int // -1 at a root
+	root      int // the source at the top of its tree
+	mains     bool
+	mainsPart bool // its component came out of a mains-powered appliance
+
+	// battery
+	pack          electric.Pack
+	maxDischargeA float64
+
+	// supply, regulator
+	outputV float64
+	maxA    float64
+
+	// regulator, driver
+	topo        topology
+	maxOutA     float64
+	quiescentA  float64
+	dropoutV    float64
+	thetaJA     float64
+	tjMaxC      float64
+	efficiency  float64
+	minInputV   float64 // 0: not given
+	maxInputV   float64 // 0: not given
+	continuousA float64
+	peakRatingA float64 // driver; 0: not given
+
+	// motor, load
+	ratedV, stallA, runningA float64
+	minV, maxV               float64
+	hasMinV, hasMaxV         bool
+	currentA, peakA, duty    float64
+	critical                 bool
+
+	feed *feed
+
+	// operating point
+	vLow, vNom, vHigh       float64 // at the input (a source: its terminals)
+	outLow, outNom, outHigh float64 // what it passes to its children
+	run, peak, avg          float64 // drawn from its feed (a source: delivered)
+	outRun, outPeak, outAvg float64 // sum drawn by its children
+	collapsed               bool    // a switching regulator whose feed cannot carry its power
+	hasMotor                bool    // a motor at or below this node
+
+	path pathMap // its input voltage as a function of its battery's voltage
+}
+
+type feed struct {
+	from        string
+	gauge       electric.Gauge
+	lengthM     float64
+	insulationC float64
+	bundled     int
+	resistance  float64 // both conductors at the design's ambient
+	ampacity    float64
+	fuse        *fuse
+	connectors  []connector
+}
+
+type fuse struct {
+	ratingA   float64
+	fast      bool
+	voltageV  float64 // 0: unknown
+	distanceM float64
+	hasDist   bool
+	sheathed  bool
+	family    *electric.FuseFamily
+}
+
+type connector struct {
+	family           string
+	ratingA, ratingV float64 // ratingV 0: unknown
+}
+
+func (n *node) isSource() bool { return n.kind == kindBattery || n.kind == kindSupply }
+
+func (n *node) switching() bool { return n.kind == kindRegulator && n.topo != topoLinear }
+
+// minWorkingInputV is the lowest input at which a switching regulator can
+// hold its output: its stated minimum, else for a buck its output voltage;
+// 0 when nothing bounds it.
+func (n *node) minWorkingInputV() float64 {
+	if n.minInputV > 0 {
+		return n.minInputV
+	}
+	if n.topo == topoBuck {
+		return n.outputV
+	}
+	return 0
+}
+
+// fill completes a node from its stored component: every field the node
+// leaves out and its type uses. The node's own fields win.
+func fill(n domain.Node, c domain.Component) domain.Node {
+	e := c.Electrical
+	f64 := func(dst **float64, src ...*float64) {
+		if *dst != nil {
+			return
+		}
+		for _, s := range src {
+			if s != nil {
+				v := *s
+				*dst = &v
+				return
+			}
+		}
+	}
+	switch n.Type {
+	case domain.NodeBattery:
+		if n.Chemistry == "" {
+			n.Chemistry = e.Chemistry
+		}
+		if n.Series == nil && e.Series != nil {
+			v := *e.Series
+			n.Series = &v
+		}
+		if n.Parallel == nil && e.Parallel != nil {
+			v := *e.Parallel
+			n.Parallel = &v
+		}
+		f64(&n.CellCapacityMAh, e.CellCapacityMAh)
+		f64(&n.MaxDischargeA, e.MaxDischargeA)
+	case domain.NodeSupply:
+		f64(&n.OutputV, e.OutputV, e.NominalV)
+		f64(&n.MaxA, e.MaxOutputA, e.CurrentA)
+	case domain.NodeRegulator:
+		if n.Topology == "" {
+			n.Topology = e.Topology
+		}
+		f64(&n.OutputV, e.OutputV)
+		f64(&n.MaxOutputA, e.MaxOutputA)
+		f64(&n.QuiescentA, e.QuiescentA)
+		f64(&n.MaxInputV, e.MaxInputV)
+		if n.Topology == domain.TopologyLinear {
+			f64(&n.DropoutV, e.DropoutV)
+			f64(&n.ThetaJACPerW, e.ThetaJACPerW)
+			f64(&n.TjMaxC, e.TjMaxC)
+		} else {
+			f64(&n.Efficiency, e.Efficiency)
+			f64(&n.MinInputV, e.MinInputV)
+		}
+	case domain.NodeDriver:
+		f64(&n.MaxInputV, e.MaxInputV)
+		f64(&n.ContinuousA, e.ContinuousA)
+		f64(&n.PeakA, e.PeakA)
+		f64(&n.QuiescentA, e.QuiescentA)
+	case domain.NodeMotor:
+		f64(&n.RatedV, e.RatedV)
+		f64(&n.NoLoadA, e.NoLoadA)
+		f64(&n.StallA, e.StallA)
+		f64(&n.RunningA, e.RunningA)
+		f64(&n.MinV, e.MinV)
+		f64(&n.MaxV, e.MaxV)
+	case domain.NodeLoad:
+		f64(&n.MinV, e.MinV)
+		f64(&n.MaxV, e.MaxV)
+		f64(&n.CurrentA, e.CurrentA)
+		f64(&n.PeakA, e.PeakA)
+	}
+	return n
+}
+
+func parseTopology(s string) topology {
+	switch s {
+	case domain.TopologyBuck:
+		return topoBuck
+	case domain.TopologyBoost:
+		return topoBoost
+	case domain.TopologyBuckBoost:
+		return topoBuckBoost
+	}
+	return topoLinear
+}
+
+func or(v *float64, def float64) float64 {
+	if v == nil {
+		return def
+	}
+	return *v
+}
+
+// build resolves a validated design into engine nodes. Problems that only
+// show once components and limits are known (an unknown component, a field
+// neither the node nor its component gives, a chemistry or fuse family the
+// limits do not store, a wire the conductor table cannot rate) come back as
+// a *domain.ValidationError.
+func build(doc domain.Design, limits Limits, components map[int64]domain.Component, ambientC float64) ([]node, error) {
+	var p domain.Problems
+	nodes := make([]node, len(doc.Nodes))
+	index := make(map[string]int, len(doc.Nodes))
+	for i, dn := range doc.Nodes {
+		index[dn.ID] = i
+	}
+	for i, dn := range doc.Nodes {
+		ptr := "/nodes/" + strconv.Itoa(i)
+		n := &nodes[i]
+		n.id, n.ptr, n.typ, n.parent, n.mains = dn.ID, ptr, dn.Type, -1, dn.Mains
+		if dn.ComponentID != nil {
+			c, ok := components[*dn.ComponentID]
+			if !ok {
+				p.Add(ptr+"/component_id", "names component %d, which is not on the shelf", *dn.ComponentID)
+				continue
+			}
+			n.mainsPart = c.MainsOrigin
+			dn = fill(dn, c)
+			var np domain.Problems
+			dn.CheckValues(&np, ptr)
+			dn.CheckComplete(&np, ptr)
+			var ve *domain.ValidationError
+			if errors.As(np.Err(), &ve) {
+				for _, fp := range ve.Problems {
+					p.Add(fp.Pointer, "%s (after filling the node from component %d)", fp.Detail, c.ID)
+				}
+				continue
+			}
+		}
+		if dn.Feed != nil {
+			n.parent = index[dn.Feed.From]
+		}
+		resolveNode(&p, n, dn, limits)
+		if dn.Feed != nil {
+			n.feed = resolveFeed(&p, ptr+"/feed", *dn.Feed, limits, ambientC)
+		}
+	}
+	return nodes, p.Err()
+}
+
+func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits Limits) {
+	switch dn.Type {
+	case domain.NodeBattery:
+		n.kind = kindBattery
+		chem, ok := limits.chemistry(dn.Chemistry)
+		if !ok {
+			p.Add(n.ptr+"/chemistry", "names %q, which the limits do not store (stored: %s)", dn.Chemistry,
+				names(limits.Chemistries, func(c electric.Chemistry) string { return c.Name }))
+			return
+		}
+		chem.FullV = or(dn.CellFullV, chem.FullV)
+		chem.NominalV = or(dn.CellNominalV, chem.NominalV)
+		chem.CutoffV = or(dn.CellCutoffV, chem.CutoffV)
+		chem.InternalOhm = or(dn.CellInternalOhm, chem.InternalOhm)
+		n.pack = electric.Pack{Chem: chem, Series: *dn.Series, Parallel: *dn.Parallel, CellCapacityAh: *dn.CellCapacityMAh / 1000}
+		// The node's cell values override the stored ones; together they
+		// must still describe a cell (cutoff below nominal, and so on).
+		addJoined(p, n.ptr, n.pack.Validate())
+		n.maxDischargeA = or(dn.MaxDischargeA, n.pack.MaxDischargeA())
+	case domain.NodeSupply:
+		n.kind = kindSupply
+		n.outputV, n.maxA = *dn.OutputV, *dn.MaxA
+	case domain.NodeRegulator:
+		n.kind = kindRegulator
+		n.topo = parseTopology(dn.Topology)
+		n.outputV, n.maxOutA = *dn.OutputV, *dn.MaxOutputA
+		n.quiescentA = or(dn.QuiescentA, 0)
+		n.maxInputV = or(dn.MaxInputV, 0)
+		if n.topo == topoLinear {
+			n.dropoutV, n.thetaJA = *dn.DropoutV, *dn.ThetaJACPerW
+			n.tjMaxC = or(dn.TjMaxC, limits.Regulators.TjMaxC.Value)
+		} else {
+			n.efficiency = or(dn.Efficiency, limits.Regulators.SwitchingEfficiency.Value)
+			n.minInputV = or(dn.MinInputV, 0)
+		}
+	case domain.NodeDriver:
+		n.kind = kindDriver
+		n.maxInputV, n.continuousA = *dn.MaxInputV, *dn.ContinuousA
+		n.peakRatingA = or(dn.PeakA, 0)
+		n.quiescentA = or(dn.QuiescentA, 0)
+	case domain.NodeMotor:
+		n.kind = kindMotor
+		n.ratedV, n.stallA = *dn.RatedV, *dn.StallA
+		if dn.RunningA != nil {
+			n.runningA = *dn.RunningA
+		} else {
+			n.runningA = electric.Motor{RatedV: n.ratedV, NoLoadA: *dn.NoLoadA, StallA: n.stallA}.MaxEfficiencyA()
+		}
+		n.duty = or(dn.Duty, 1)
+		n.setRange(dn)
+	case domain.NodeLoad:
+		n.kind = kindLoad
+		n.currentA = *dn.CurrentA
+		n.peakA = or(dn.PeakA, n.currentA)
+		n.duty = or(dn.Duty, 1)
+		n.critical = dn.Critical
+		n.setRange(dn)
+	}
+}
+
+func (n *node) setRange(dn domain.Node) {
+	n.hasMinV, n.hasMaxV = dn.MinV != nil, dn.MaxV != nil
+	n.minV, n.maxV = or(dn.MinV, 0), or(dn.MaxV, 0)
+}
+
+func resolveFeed(p *domain.Problems, ptr string, df domain.Feed, limits Limits, ambientC float64) *feed {
+	w := df.Wire
+	g, err := electric.ParseGauge(w.Gauge)
+	if err != nil { // Validate has already said so; keep the pointer honest anyway
+		p.Add(ptr+"/wire/gauge", "%v", err)
+		return nil
+	}
+	f := &feed{
+		from: df.From, gauge: g, lengthM: w.LengthM, insulationC: or(w.InsulationC, 105), bundled: 1,
+	}
+	if w.Bundled != nil {
+		f.bundled = *w.Bundled
+	}
+	f.resistance = electric.LoopResistanceOhm(g, w.LengthM, ambientC)
+	f.ampacity, err = limits.Conductors.Ampacity(g, f.insulationC, f.bundled)
+	if err != nil {
+		p.Add(ptr+"/wire", "the stored conductor table cannot rate this wire: %v", err)
+	}
+	if df.Fuse != nil {
+		fu := df.Fuse
+		f.fuse = &fuse{
+			ratingA: fu.RatingA, fast: fu.Speed == domain.FuseFast, voltageV: or(fu.VoltageRatingV, 0),
+			distanceM: or(fu.DistanceFromSourceM, 0), hasDist: fu.DistanceFromSourceM != nil, sheathed: fu.Sheathed,
+		}
+		if fu.Family != "" {
+			fam, ok := limits.fuseFamily(fu.Family)
+			if !ok {
+				p.Add(ptr+"/fuse/family", "names %q, which the limits do not store (stored: %s)", fu.Family,
+					names(limits.Fuses.Families, func(f electric.FuseFamily) string { return f.Name }))
+			} else {
+				f.fuse.family = &fam
+				if f.fuse.voltageV == 0 {
+					f.fuse.voltageV = fam.MaxVoltageV
+				}
+			}
+		}
+	}
+	for k, dc := range df.Connectors {
+		c := connector{family: dc.Family, ratingA: or(dc.RatingA, 0), ratingV: or(dc.RatingV, 0)}
+		if dc.Family != "" && (dc.RatingA == nil || dc.RatingV == nil) {
+			fam, ok := limits.connectorFamily(dc.Family)
+			switch {
+			case ok:
+				c.ratingA = or(dc.RatingA, fam.RatingA)
+				c.ratingV = or(dc.RatingV, fam.RatingV)
+			case dc.RatingA == nil:
+				p.Add(fmt.Sprintf("%s/connectors/%d/rating_a", ptr, k),
+					"is required: the limits store no connector family %q to take it from (stored: %s)", dc.Family,
+					names(limits.Connectors, func(c ConnectorFamily) string { return c.Family }))
+			}
+		}
+		f.connectors = append(f.connectors, c)
+	}
+	return f
+}

@@ -1,0 +1,144 @@
+package review
+
+// EngineVersion changes whenever the same design and limits could give a
+// different report, so stored reviews can be told apart.
+const EngineVersion = "1"
+
+// Status is the outcome of one check or of a whole review.
+type Status string
+
+// Check and report outcomes. A check of the design's scope is OutOfScope
+// when the design includes mains or a source above the in-scope voltage;
+// the report then never says pass.
+const (
+	Pass       Status = "pass"
+	Warn       Status = "warn"
+	Fail       Status = "fail"
+	OutOfScope Status = "out_of_scope"
+)
+
+func (s Status) rank() int {
+	switch s {
+	case Warn:
+		return 1
+	case Fail:
+		return 2
+	case OutOfScope:
+		return 3
+	}
+	return 0
+}
+
+// Check names (DESIGN section 7).
+const (
+	CheckVoltageRange      = "voltage.range"
+	CheckRegulatorHeadroom = "regulator.headroom"
+	CheckRegulatorCurrent  = "regulator.current"
+	CheckRegulatorThermal  = "regulator.thermal"
+	CheckDriverVoltage     = "driver.voltage"
+	CheckDriverCurrent     = "driver.current"
+	CheckSourceCurrent     = "source.current"
+	CheckSourceRuntime     = "source.runtime"
+	CheckWireAmpacity      = "wire.ampacity"
+	CheckWireDrop          = "wire.drop"
+	CheckFuseMissing       = "fuse.missing"
+	CheckFuseRating        = "fuse.rating"
+	CheckFusePlacement     = "fuse.placement"
+	CheckConnectorRating   = "connector.rating"
+	CheckScopeMains        = "scope.mains"
+)
+
+// Report is the outcome of a review (DESIGN section 8).
+type Report struct {
+	Status        Status          `json:"status"`
+	LimitsVersion int             `json:"limits_version"`
+	EngineVersion string          `json:"engine_version"`
+	Counts        Counts          `json:"counts"`
+	Checks        []Check         `json:"checks"`
+	Nodes         []NodeResult    `json:"nodes"`
+	Feeds         []FeedResult    `json:"feeds"`
+	Runtime       []RuntimeResult `json:"runtime"`
+	Cautions      []string        `json:"cautions"`
+}
+
+// Counts tallies the checks by status.
+type Counts struct {
+	Pass       int `json:"pass"`
+	Warn       int `json:"warn"`
+	Fail       int `json:"fail"`
+	OutOfScope int `json:"out_of_scope"`
+}
+
+// Check is one finding. Node names the node a feed supplies for a check on
+// a feed, the source for a check on a source, and is empty for a check of
+// the whole design. Pointer locates what was checked in the document.
+type Check struct {
+	Check   string  `json:"check"`
+	Node    string  `json:"node"`
+	Pointer string  `json:"pointer"`
+	Status  Status  `json:"status"`
+	Value   float64 `json:"value"`
+	Limit   float64 `json:"limit"`
+	Unit    string  `json:"unit"`
+	Message string  `json:"message"`
+	Basis   string  `json:"basis"`
+}
+
+// NodeResult is a node's operating point. Voltages are at its input (a
+// source's at its terminals); currents are what it draws from its feed (a
+// source's, what it delivers). Regulators add their output range and heat.
+type NodeResult struct {
+	ID           string   `json:"id"`
+	Type         string   `json:"type"`
+	Parent       string   `json:"parent,omitempty"`
+	VLow         float64  `json:"v_low"`
+	VNominal     float64  `json:"v_nominal"`
+	VHigh        float64  `json:"v_high"`
+	RunA         float64  `json:"run_a"`
+	PeakA        float64  `json:"peak_a"`
+	AvgA         float64  `json:"avg_a"`
+	OutVLow      *float64 `json:"out_v_low,omitempty"`
+	OutVNominal  *float64 `json:"out_v_nominal,omitempty"`
+	OutVHigh     *float64 `json:"out_v_high,omitempty"`
+	DissipationW *float64 `json:"dissipation_w,omitempty"`
+	JunctionC    *float64 `json:"junction_c,omitempty"`
+}
+
+// FeedResult is the wire run to a node: its loop resistance, the current
+// it carries and the drop across it.
+type FeedResult struct {
+	Node          string   `json:"node"`
+	From          string   `json:"from"`
+	Gauge         string   `json:"gauge"`
+	LengthM       float64  `json:"length_m"`
+	ResistanceOhm float64  `json:"resistance_ohm"`
+	RunA          float64  `json:"run_a"`
+	PeakA         float64  `json:"peak_a"`
+	DropV         float64  `json:"drop_v"`
+	DropPct       float64  `json:"drop_pct"`
+	AmpacityA     float64  `json:"ampacity_a"`
+	FuseA         *float64 `json:"fuse_a,omitempty"`
+}
+
+// RuntimeResult is how long a battery lasts. Hours is absent when the
+// battery delivers no average current.
+type RuntimeResult struct {
+	Source      string   `json:"source"`
+	Hours       *float64 `json:"hours"`
+	UsableShare float64  `json:"usable_share"`
+	LimitedBy   string   `json:"limited_by"`
+}
+
+// Cautions are carried by every report, whatever it found.
+func Cautions() []string {
+	return []string{
+		"Mains is out of scope. Leave the mains side of a salvaged appliance out of your build: power it from a " +
+			"battery or a ready-made, certified low-voltage adapter, and have a qualified person deal with anything " +
+			"that touches mains.",
+		"Lithium packs (Li-ion, LiFePO4) need a protection circuit against over-charge, over-discharge and " +
+			"over-current, and a charger made for their chemistry; charge them supervised, on a surface that " +
+			"cannot burn.",
+		"This review checks the numbers in the design against the stored limits. It is no substitute for " +
+			"inspection by a qualified person, for local codes, or for the space's own rules.",
+	}
+}

@@ -1,0 +1,308 @@
+package review
+
+import (
+	"fmt"
+	"math"
+
+	"wattshelf/domain"
+	"wattshelf/domain/electric"
+)
+
+type reviewer struct {
+	t       *tree
+	limits  Limits
+	ambient float64
+	basis   bases
+	checks  []Check
+	buf     []cond
+}
+
+// Review checks a design against a limits set. It validates the document,
+// fills nodes that name a component_id from components (the node's own
+// fields win), solves the operating point (DESIGN section 6) and runs every
+// check of section 7. A document that breaks the contract, names a
+// component that is not in components, or leaves out a field neither it nor
+// its component gives comes back as a *domain.ValidationError with JSON
+// pointers. An unusable limits set is a plain error: it is the service's
+// fault, not the member's.
+//
+// The cost is linear in the number of nodes, times the handful of steps a
+// design with switching regulators needs to settle (at most maxSolveSteps).
+func Review(doc domain.Design, limits Limits, limitsVersion int, components map[int64]domain.Component) (Report, error) {
+	if err := doc.Validate(); err != nil {
+		return Report{}, err
+	}
+	if err := limits.Validate(); err != nil {
+		// %v, not %w: the problems are in the limits, not in the document.
+		return Report{}, fmt.Errorf("limits v%d cannot be used: %v", limitsVersion, err)
+	}
+	ambient := limits.Policy.DefaultAmbientC.Value
+	if doc.AmbientC != nil {
+		ambient = *doc.AmbientC
+	}
+	nodes, err := build(doc, limits, components, ambient)
+	if err != nil {
+		return Report{}, err
+	}
+	t := newTree(nodes)
+	t.solve()
+	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: newBases(limits),
+		checks: make([]Check, 0, 6*len(nodes)+1)}
+	rep := Report{
+		LimitsVersion: limitsVersion,
+		EngineVersion: EngineVersion,
+		Nodes:         make([]NodeResult, 0, len(nodes)),
+		Feeds:         make([]FeedResult, 0, len(nodes)),
+		Runtime:       []RuntimeResult{},
+		Cautions:      Cautions(),
+	}
+	r.scope()
+
+	need := r.brownouts()
+	protAmp, protID := r.protectedConductors()
+	for i := range t.nodes {
+		n := &t.nodes[i]
+		switch n.kind {
+		case kindBattery:
+			run := r.runtime(n, need[i])
+			rep.Runtime = append(rep.Runtime, run)
+			r.sourceCurrent(n, need[i].criticalV, need[i].criticalID)
+			if doc.TargetRuntimeH != nil && run.Hours != nil {
+				r.sourceRuntime(n, *run.Hours, *doc.TargetRuntimeH, run.LimitedBy)
+			}
+		case kindSupply:
+			r.sourceCurrent(n, math.Inf(-1), "")
+		case kindRegulator:
+			r.regulatorHeadroom(n)
+			r.regulatorCurrent(n)
+			if n.topo == topoLinear {
+				r.regulatorThermal(n)
+			}
+		case kindDriver:
+			r.driverChecks(n)
+		case kindMotor, kindLoad:
+			r.voltageRange(n)
+		}
+		if n.feed != nil {
+			r.feedChecks(n, protAmp[i], protID[i])
+			rep.Feeds = append(rep.Feeds, r.feedResult(n))
+		}
+		rep.Nodes = append(rep.Nodes, r.nodeResult(n))
+	}
+
+	rep.Checks = r.checks
+	rep.Status = Pass
+	for _, c := range r.checks {
+		switch c.Status {
+		case Pass:
+			rep.Counts.Pass++
+		case Warn:
+			rep.Counts.Warn++
+		case Fail:
+			rep.Counts.Fail++
+		case OutOfScope:
+			rep.Counts.OutOfScope++
+		}
+		if c.Status.rank() > rep.Status.rank() {
+			rep.Status = c.Status
+		}
+	}
+	if err := rep.checkFinite(); err != nil {
+		return Report{}, fmt.Errorf("review of %q: %w", doc.Name, err)
+	}
+	return rep, nil
+}
+
+func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
+	r.wireAmpacity(n)
+	r.wireDrop(n)
+	fromSource := r.t.nodes[n.parent].isSource()
+	if fromSource {
+		r.fuseMissing(n)
+	}
+	if n.feed.fuse != nil {
+		r.fuseRating(n, protAmp, protID)
+		if fromSource {
+			r.fusePlacement(n)
+		}
+	}
+	for k, c := range n.feed.connectors {
+		r.connectorRating(n, k, c)
+	}
+}
+
+// need is what a battery's loads ask of it: the pack voltage at which the
+// first load with a min_v browns out, and the same for critical loads.
+type need struct {
+	brownoutV, criticalV   float64 // -Inf: nothing asks
+	brownoutID, criticalID string
+	never                  []string // loads a full pack cannot satisfy: they fail voltage.range and are left out here
+}
+
+// brownouts reads each load's min_v back through its path to its battery.
+func (r *reviewer) brownouts() []need {
+	nodes := r.t.nodes
+	out := make([]need, len(nodes))
+	for i := range out {
+		out[i].brownoutV, out[i].criticalV = math.Inf(-1), math.Inf(-1)
+	}
+	for i := range nodes {
+		n := &nodes[i]
+		if (n.kind != kindMotor && n.kind != kindLoad) || !n.hasMinV || n.minV <= 0 {
+			continue
+		}
+		v := n.path.packVFor(n.minV)
+		nd := &out[n.root]
+		if src := &nodes[n.root]; src.kind == kindBattery && v > src.pack.FullV() {
+			nd.never = append(nd.never, n.id)
+			continue
+		}
+		if v > nd.brownoutV {
+			nd.brownoutV, nd.brownoutID = v, n.id
+		}
+		if n.critical && v > nd.criticalV {
+			nd.criticalV, nd.criticalID = v, n.id
+		}
+	}
+	return out
+}
+
+func (r *reviewer) runtime(n *node, nd need) RuntimeResult {
+	p := n.pack
+	share := 0.0
+	var limitedBy string
+	switch {
+	case nd.brownoutV > p.CutoffV():
+		share = p.UsableShare(nd.brownoutV)
+		limitedBy = fmt.Sprintf("brownout of %s at %s V", nd.brownoutID, num(nd.brownoutV))
+	default:
+		share = p.UsableShare(0)
+		limitedBy = fmt.Sprintf("cell cutoff at %s V", num(p.CutoffV()))
+	}
+	if len(nd.never) > 0 {
+		limitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
+	}
+	res := RuntimeResult{Source: n.id, UsableShare: clean(share), LimitedBy: limitedBy}
+	// A vanishing average current gives hours too large to print; the
+	// runtime is then simply not a concern and is left out.
+	if h := p.RuntimeH(n.avg, share); n.avg > 0 && !math.IsInf(h, 0) && !math.IsNaN(h) {
+		h = clean(h)
+		res.Hours = &h
+	}
+	return res
+}
+
+// protectedConductors finds, for each feed, the smallest ampacity among the
+// conductors a fuse on it would protect: its own and every feed below it
+// down to the next fuse or regulator.
+func (r *reviewer) protectedConductors() ([]float64, []string) {
+	t := r.t
+	amp := make([]float64, len(t.nodes))
+	id := make([]string, len(t.nodes))
+	for k := len(t.order) - 1; k >= 0; k-- {
+		i := int(t.order[k])
+		n := &t.nodes[i]
+		if n.feed == nil {
+			continue
+		}
+		amp[i], id[i] = n.feed.ampacity, n.id
+		if n.kind == kindRegulator {
+			continue
+		}
+		for _, c := range t.children(i) {
+			if ch := &t.nodes[c]; ch.feed.fuse == nil && amp[c] < amp[i] {
+				amp[i], id[i] = amp[c], id[c]
+			}
+		}
+	}
+	return amp, id
+}
+
+func (r *reviewer) nodeResult(n *node) NodeResult {
+	res := NodeResult{
+		ID: n.id, Type: n.typ,
+		VLow: clean(n.vLow), VNominal: clean(n.vNom), VHigh: clean(n.vHigh),
+		RunA: clean(n.run), PeakA: clean(n.peak), AvgA: clean(n.avg),
+	}
+	if n.parent >= 0 {
+		res.Parent = r.t.nodes[n.parent].id
+	}
+	if n.kind == kindRegulator {
+		res.OutVLow, res.OutVNominal, res.OutVHigh = ptr(n.outLow), ptr(n.outNom), ptr(n.outHigh)
+		if n.topo == topoLinear {
+			p, tj := r.junction(n)
+			res.DissipationW, res.JunctionC = ptr(p), ptr(tj)
+		} else {
+			res.DissipationW = ptr(electric.SwitchingLossW(n.outputV, n.outRun, n.efficiency))
+		}
+	}
+	return res
+}
+
+func (r *reviewer) feedResult(n *node) FeedResult {
+	f := n.feed
+	dropV, share := r.dropPct(n)
+	res := FeedResult{
+		Node: n.id, From: f.from, Gauge: f.gauge.Label, LengthM: clean(f.lengthM),
+		ResistanceOhm: clean(f.resistance), RunA: clean(n.run), PeakA: clean(n.peak),
+		DropV: clean(dropV), DropPct: clean(share), AmpacityA: clean(f.ampacity),
+	}
+	if f.fuse != nil {
+		res.FuseA = ptr(f.fuse.ratingA)
+	}
+	return res
+}
+
+func ptr(x float64) *float64 {
+	c := clean(x)
+	return &c
+}
+
+// clean rounds a reported number to a millionth, which is finer than any
+// input, so reports do not change with the last bits of float arithmetic.
+// Non-finite values pass through for checkFinite to catch.
+func clean(x float64) float64 {
+	if math.IsNaN(x) || math.IsInf(x, 0) || math.Abs(x) > 1e12 {
+		return x
+	}
+	return math.Round(x*1e6)/1e6 + 0 // + 0 turns −0 into 0
+}
+
+// checkFinite guards the promise that a report never holds NaN or ±Inf.
+func (rep *Report) checkFinite() error {
+	var bad []string
+	see := func(what string, xs ...float64) {
+		for _, x := range xs {
+			if math.IsNaN(x) || math.IsInf(x, 0) {
+				bad = append(bad, what)
+				return
+			}
+		}
+	}
+	seeOpt := func(what string, ps ...*float64) {
+		for _, p := range ps {
+			if p != nil {
+				see(what, *p)
+			}
+		}
+	}
+	for _, c := range rep.Checks {
+		see(c.Check+" of "+c.Node, c.Value, c.Limit)
+	}
+	for _, n := range rep.Nodes {
+		see("operating point of "+n.ID, n.VLow, n.VNominal, n.VHigh, n.RunA, n.PeakA, n.AvgA)
+		seeOpt("regulator "+n.ID, n.OutVLow, n.OutVNominal, n.OutVHigh, n.DissipationW, n.JunctionC)
+	}
+	for _, f := range rep.Feeds {
+		see("feed to "+f.Node, f.LengthM, f.ResistanceOhm, f.RunA, f.PeakA, f.DropV, f.DropPct, f.AmpacityA)
+		seeOpt("fuse to "+f.Node, f.FuseA)
+	}
+	for _, rt := range rep.Runtime {
+		see("runtime of "+rt.Source, rt.UsableShare)
+		seeOpt("runtime of "+rt.Source, rt.Hours)
+	}
+	if len(bad) > 0 {
+		return fmt.Errorf("non-finite numbers in the report: %v", bad)
+	}
+	return nil
+}
