@@ -32,6 +32,10 @@ type Config struct {
 	// PublicBaseURL is the address printed into QR codes and links, e.g.
 	// "http://shelf.local:8080"; empty means the address the request came to.
 	PublicBaseURL string
+	// ReviewsPerMinute and ReviewBurst bound POST /v1/reviews per client;
+	// zero means 60 a minute in bursts of 20.
+	ReviewsPerMinute float64
+	ReviewBurst      int
 }
 
 // server holds the dependencies the handlers share.
@@ -40,6 +44,8 @@ type server struct {
 	store         *store.Store
 	logger        *slog.Logger
 	schemaVersion uint
+	limits        *limitsCache
+	reviewLimiter *clientLimiter
 }
 
 // New builds the router with every route and middleware.
@@ -80,6 +86,7 @@ func New(cfg Config) (*echo.Echo, error) {
 
 	v1 := e.Group("/v1")
 	s.registerShelfRoutes(v1)
+	s.registerDesignRoutes(e, v1)
 	return e, nil
 }
 

@@ -1,0 +1,240 @@
+package api
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"io"
+	"net/http"
+	"strconv"
+	"time"
+
+	"github.com/labstack/echo/v4"
+
+	"wattshelf/domain"
+	"wattshelf/domain/store"
+)
+
+// registerDesignRoutes adds designs, reviews, limits, the motor fit and
+// the OpenAPI document, and sets up what the reviews share: the limits
+// cache and the per-client limiter of anonymous reviews.
+func (s *server) registerDesignRoutes(e *echo.Echo, v1 *echo.Group) {
+	s.limits = newLimitsCache(s.store, time.Now)
+	s.reviewLimiter = newClientLimiter(s.cfg.ReviewsPerMinute, s.cfg.ReviewBurst)
+
+	designs := v1.Group("/designs", requireUser)
+	designs.GET("", s.listDesigns)
+	designs.POST("", s.createDesign)
+	designs.GET("/:id", s.getDesign)
+	designs.PUT("/:id", s.replaceDesign)
+	designs.PATCH("/:id", s.patchDesign)
+	designs.DELETE("/:id", s.deleteDesign)
+	designs.POST("/:id/reviews", s.reviewStoredDesign)
+	designs.GET("/:id/reviews", s.listDesignReviews)
+
+	v1.POST("/reviews", s.reviewDocument)
+	v1.GET("/components/:id/motor-fit", s.motorFit, requireUser)
+	s.registerLimitsRoutes(v1)
+	e.GET("/openapi.yaml", serveOpenAPI)
+}
+
+// DesignPage is one page of a design listing.
+type DesignPage struct {
+	Items []store.DesignSummary `json:"items"`
+	Next  string                `json:"next,omitempty"`
+}
+
+// checkDesign decodes and validates a design document: broken JSON is a
+// *domain.DecodeError (400), a document that breaks the contract a
+// *domain.ValidationError (422).
+func checkDesign(body []byte) (domain.Design, error) {
+	doc, err := domain.DecodeDesign(body)
+	if err != nil {
+		return doc, err
+	}
+	return doc, doc.Validate()
+}
+
+// readDesignBody reads and checks a design document sent as the body.
+func readDesignBody(c echo.Context) ([]byte, domain.Design, error) {
+	body, err := readBody(c)
+	if err != nil {
+		return nil, domain.Design{}, err
+	}
+	doc, err := checkDesign(body)
+	return body, doc, err
+}
+
+func (s *server) listDesigns(c echo.Context) error {
+	u := currentUser(c)
+	f := store.DesignFilter{Owner: u.Name, Limit: defaultPageSize}
+	if owner := c.QueryParam("owner"); owner != "" {
+		if u.Role != domain.RoleStaff && owner != u.Name {
+			return newProblem("forbidden", "members list only their own designs")
+		}
+		f.Owner = owner
+	} else if u.Role == domain.RoleStaff {
+		f.Owner = ""
+	}
+	if v := c.QueryParam("limit"); v != "" {
+		n, err := strconv.Atoi(v)
+		if err != nil || n < 1 || n > maxPageSize {
+			return queryProblem("/limit", "must be a whole number from 1 to %d", maxPageSize)
+		}
+		f.Limit = n
+	}
+	if v := c.QueryParam("cursor"); v != "" {
+		id, err := decodeCursor(v)
+		if err != nil {
+			return queryProblem("/cursor", "is not a cursor this service issued")
+		}
+		f.AfterID = id
+	}
+	items, more, err := s.store.ListDesigns(c.Request().Context(), f)
+	if err != nil {
+		return err
+	}
+	page := DesignPage{Items: items}
+	if page.Items == nil {
+		page.Items = []store.DesignSummary{}
+	}
+	if more {
+		page.Next = encodeCursor(items[len(items)-1].ID)
+	}
+	return c.JSON(http.StatusOK, page)
+}
+
+// createDesign stores the document sent as the body, byte for byte, once
+// it decodes and validates; its name comes from the document.
+func (s *server) createDesign(c echo.Context) error {
+	body, doc, err := readDesignBody(c)
+	if err != nil {
+		return err
+	}
+	d, err := s.store.CreateDesign(c.Request().Context(), currentUser(c), doc.Name, body)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("Location", fmt.Sprintf("/v1/designs/%d", d.ID))
+	c.Response().Header().Set("ETag", etagOf(d.Version))
+	return c.JSON(http.StatusCreated, d)
+}
+
+// visibleDesign loads a design the caller may see: its owner's or, for
+// staff, anyone's. Designs are private to their owner.
+func (s *server) visibleDesign(c echo.Context) (store.StoredDesign, error) {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return store.StoredDesign{}, err
+	}
+	d, err := s.store.Design(c.Request().Context(), id)
+	if err != nil {
+		return d, err
+	}
+	if !currentUser(c).MayChange(d.Owner) {
+		return d, newProblem("forbidden", "design %d belongs to another member; only its owner or staff may use it", id)
+	}
+	return d, nil
+}
+
+func (s *server) getDesign(c echo.Context) error {
+	d, err := s.visibleDesign(c)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("ETag", etagOf(d.Version))
+	return c.JSON(http.StatusOK, d)
+}
+
+func (s *server) replaceDesign(c echo.Context) error {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	version, err := ifMatchVersion(c)
+	if err != nil {
+		return err
+	}
+	body, doc, err := readDesignBody(c)
+	if err != nil {
+		return err
+	}
+	return s.saveDesign(c, id, version, doc.Name, body)
+}
+
+// patchDesign applies a JSON merge patch (RFC 7386) to the stored
+// document. Arrays such as nodes are replaced whole, as the RFC says.
+func (s *server) patchDesign(c echo.Context) error {
+	version, err := ifMatchVersion(c)
+	if err != nil {
+		return err
+	}
+	current, err := s.visibleDesign(c)
+	if err != nil {
+		return err
+	}
+	body, err := readBody(c)
+	if err != nil {
+		return err
+	}
+	var patch map[string]any
+	if err := decodeNumbers(body, &patch); err != nil {
+		return err
+	}
+	var doc map[string]any
+	if err := decodeNumbers(current.Document, &doc); err != nil {
+		return fmt.Errorf("decode stored design %d: %w", current.ID, err)
+	}
+	merged, err := json.Marshal(mergePatch(doc, patch))
+	if err != nil {
+		return fmt.Errorf("encode patched design: %w", err)
+	}
+	checked, err := checkDesign(merged)
+	if err != nil {
+		return err
+	}
+	return s.saveDesign(c, current.ID, version, checked.Name, merged)
+}
+
+// decodeNumbers decodes one JSON object keeping numbers as written, so a
+// merge patch does not round the values it leaves alone.
+func decodeNumbers(body []byte, v *map[string]any) error {
+	if len(bytes.TrimSpace(body)) == 0 {
+		return &domain.DecodeError{Reason: "the body is empty; send a JSON object"}
+	}
+	dec := json.NewDecoder(bytes.NewReader(body))
+	dec.UseNumber()
+	if err := dec.Decode(v); err != nil {
+		return classifyDecodeError(err, dec.InputOffset())
+	}
+	if _, err := dec.Token(); err != io.EOF {
+		return &domain.DecodeError{Offset: dec.InputOffset(), Reason: "trailing data after the JSON value"}
+	}
+	return nil
+}
+
+func (s *server) saveDesign(c echo.Context, id, version int64, name string, document []byte) error {
+	d, err := s.store.UpdateDesign(c.Request().Context(), currentUser(c), id, version, name, document)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("ETag", etagOf(d.Version))
+	return c.JSON(http.StatusOK, d)
+}
+
+func (s *server) deleteDesign(c echo.Context) error {
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	var version int64
+	if c.Request().Header.Get("If-Match") != "" {
+		if version, err = ifMatchVersion(c); err != nil {
+			return err
+		}
+	}
+	if err := s.store.DeleteDesign(c.Request().Context(), currentUser(c), id, version); err != nil {
+		return err
+	}
+	return c.NoContent(http.StatusNoContent)
+}

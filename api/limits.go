@@ -1,0 +1,211 @@
+package api
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"net/http"
+	"strconv"
+	"sync"
+	"time"
+
+	"github.com/labstack/echo/v4"
+
+	"wattshelf/domain"
+	"wattshelf/domain/review"
+	"wattshelf/domain/store"
+)
+
+func (s *server) registerLimitsRoutes(v1 *echo.Group) {
+	v1.GET("/limits", s.getCurrentLimits, requireUser)
+	v1.GET("/limits/:version", s.getLimitsVersion, requireUser)
+	v1.PUT("/limits", s.putLimits, requireStaff)
+}
+
+// LimitsInput is what staff send to replace the limits: the whole set and
+// a note saying why.
+type LimitsInput struct {
+	Limits *review.Limits `json:"limits"`
+	Note   string         `json:"note"`
+}
+
+func (s *server) getCurrentLimits(c echo.Context) error {
+	l, err := s.store.CurrentLimits(c.Request().Context())
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("ETag", etagOf(int64(l.Version)))
+	return c.JSON(http.StatusOK, l)
+}
+
+func (s *server) getLimitsVersion(c echo.Context) error {
+	v, err := strconv.Atoi(c.Param("version"))
+	if err != nil || v < 1 {
+		return newProblem("not-found", "limits version %q is not a version number", c.Param("version"))
+	}
+	l, err := s.store.Limits(c.Request().Context(), v)
+	if err != nil {
+		return err
+	}
+	c.Response().Header().Set("ETag", etagOf(int64(l.Version)))
+	return c.JSON(http.StatusOK, l)
+}
+
+// putLimits stores a new limits version. If-Match must name the version
+// the change was made from, so one staff member cannot unknowingly undo
+// another's change.
+func (s *server) putLimits(c echo.Context) error {
+	expect, err := ifMatchVersion(c)
+	if err != nil {
+		return err
+	}
+	var in LimitsInput
+	if err := bindStrict(c, &in); err != nil {
+		return err
+	}
+	if in.Limits == nil {
+		return &domain.ValidationError{Problems: []domain.FieldProblem{{Pointer: "/limits", Detail: "is required: send the whole limits set"}}}
+	}
+	var p domain.Problems
+	p.CheckText("/note", in.Note, domain.MaxTextLen, false)
+	if err := p.Err(); err != nil {
+		return err
+	}
+	if err := in.Limits.Validate(); err != nil {
+		return underPointer("/limits", err)
+	}
+	body, err := json.Marshal(in.Limits)
+	if err != nil {
+		return fmt.Errorf("encode limits: %w", err)
+	}
+	l, err := s.store.PutLimits(c.Request().Context(), currentUser(c), int(expect), body, in.Note)
+	if err != nil {
+		return err
+	}
+	s.limits.remember(l.Version, *in.Limits)
+	c.Response().Header().Set("Location", fmt.Sprintf("/v1/limits/%d", l.Version))
+	c.Response().Header().Set("ETag", etagOf(int64(l.Version)))
+	return c.JSON(http.StatusCreated, l)
+}
+
+// underPointer moves a validation error's pointers under prefix, so they
+// point into the request body rather than into the part validated.
+func underPointer(prefix string, err error) error {
+	var ve *domain.ValidationError
+	if !errors.As(err, &ve) {
+		return err
+	}
+	moved := make([]domain.FieldProblem, len(ve.Problems))
+	for i, p := range ve.Problems {
+		moved[i] = domain.FieldProblem{Pointer: prefix + p.Pointer, Detail: p.Detail}
+	}
+	return &domain.ValidationError{Problems: moved}
+}
+
+// limitsStore is what the limits cache reads and seeds.
+type limitsStore interface {
+	CurrentLimitsVersion(ctx context.Context) (int, error)
+	Limits(ctx context.Context, version int) (store.LimitsSet, error)
+	EnsureDefaultLimits(ctx context.Context, body []byte, note string) (bool, error)
+}
+
+// currentLimitsTTL bounds how long another replica's new limits version
+// can go unnoticed here; a PUT to this replica is seen at once.
+const currentLimitsTTL = 10 * time.Second
+
+// limitsCache keeps decoded limits versions and the number of the current
+// one, so a review normally costs no query for its limits. A version never
+// changes once stored, so cached versions never go stale; only which
+// version is current does, and that is re-read after currentLimitsTTL.
+type limitsCache struct {
+	store limitsStore
+	now   func() time.Time
+
+	mu        sync.Mutex
+	versions  map[int]review.Limits
+	current   int
+	checkedAt time.Time
+}
+
+func newLimitsCache(st limitsStore, now func() time.Time) *limitsCache {
+	return &limitsCache{store: st, now: now, versions: map[int]review.Limits{}}
+}
+
+// defaultLimitsNote is stored with the seeded version 1.
+const defaultLimitsNote = "defaults seeded by wattshelf; every value names its source"
+
+// ensureDefaultLimits stores the default limits as version 1 when none exist.
+func ensureDefaultLimits(ctx context.Context, st limitsStore) (bool, error) {
+	body, err := json.Marshal(review.DefaultLimits())
+	if err != nil {
+		return false, fmt.Errorf("encode default limits: %w", err)
+	}
+	return st.EnsureDefaultLimits(ctx, body, defaultLimitsNote)
+}
+
+// get returns limits version v, or the current version when v is 0, with
+// the version number used.
+func (lc *limitsCache) get(ctx context.Context, v int) (review.Limits, int, error) {
+	if v == 0 {
+		var err error
+		if v, err = lc.currentVersion(ctx); err != nil {
+			return review.Limits{}, 0, err
+		}
+	}
+	lc.mu.Lock()
+	l, ok := lc.versions[v]
+	lc.mu.Unlock()
+	if ok {
+		return l, v, nil
+	}
+	set, err := lc.store.Limits(ctx, v)
+	if err != nil {
+		return review.Limits{}, 0, err
+	}
+	// Stored versions passed validation when written; fields added since
+	// then simply stay at their zero value.
+	if err := json.Unmarshal(set.Body, &l); err != nil {
+		return review.Limits{}, 0, fmt.Errorf("decode limits v%d: %w", v, err)
+	}
+	lc.mu.Lock()
+	lc.versions[v] = l
+	lc.mu.Unlock()
+	return l, v, nil
+}
+
+func (lc *limitsCache) currentVersion(ctx context.Context) (int, error) {
+	lc.mu.Lock()
+	cur, fresh := lc.current, lc.now().Sub(lc.checkedAt) < currentLimitsTTL
+	lc.mu.Unlock()
+	if cur != 0 && fresh {
+		return cur, nil
+	}
+	v, err := lc.store.CurrentLimitsVersion(ctx)
+	if errors.Is(err, domain.ErrNotFound) {
+		// A database nobody prepared still reviews with the defaults.
+		if _, err := ensureDefaultLimits(ctx, lc.store); err != nil {
+			return 0, err
+		}
+		v, err = lc.store.CurrentLimitsVersion(ctx)
+	}
+	if err != nil {
+		return 0, fmt.Errorf("read current limits version: %w", err)
+	}
+	lc.mu.Lock()
+	// Versions only grow; a PUT here may have raised current meanwhile.
+	lc.current, lc.checkedAt = max(lc.current, v), lc.now()
+	v = lc.current
+	lc.mu.Unlock()
+	return v, nil
+}
+
+// remember records a version just stored here as the current one.
+func (lc *limitsCache) remember(v int, l review.Limits) {
+	lc.mu.Lock()
+	defer lc.mu.Unlock()
+	lc.versions[v] = l
+	if v > lc.current {
+		lc.current, lc.checkedAt = v, lc.now()
+	}
+}

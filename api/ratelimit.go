@@ -1,0 +1,121 @@
+package api
+
+import (
+	"math"
+	"net"
+	"net/http"
+	"net/netip"
+	"sync"
+	"time"
+
+	"golang.org/x/time/rate"
+)
+
+// Defaults for the anonymous review endpoint: a script reviewing a folder
+// of designs gets its burst at once and then one a second.
+const (
+	defaultReviewsPerMinute = 60
+	defaultReviewBurst      = 20
+	// maxTrackedClients bounds the limiter's memory when many addresses
+	// arrive at once; clients past it share one bucket.
+	maxTrackedClients = 50000
+)
+
+// clientLimiter gives each client address its own token bucket. An entry
+// idle long enough to have refilled completely is indistinguishable from
+// a fresh one, so dropping it loses nothing; entries are swept on use,
+// which needs no goroutine to stop at shutdown.
+type clientLimiter struct {
+	every rate.Limit
+	burst int
+	idle  time.Duration // a bucket is full again after this long unused
+
+	mu        sync.Mutex
+	clients   map[string]*clientBucket
+	overflow  *rate.Limiter
+	lastSweep time.Time
+}
+
+type clientBucket struct {
+	limiter  *rate.Limiter
+	lastSeen time.Time
+}
+
+func newClientLimiter(perMinute float64, burst int) *clientLimiter {
+	if perMinute <= 0 {
+		perMinute = defaultReviewsPerMinute
+	}
+	if burst <= 0 {
+		burst = defaultReviewBurst
+	}
+	every := rate.Limit(perMinute / 60)
+	refill := time.Duration(float64(burst) / float64(every) * float64(time.Second))
+	return &clientLimiter{
+		every:    every,
+		burst:    burst,
+		idle:     refill + time.Second,
+		clients:  map[string]*clientBucket{},
+		overflow: rate.NewLimiter(every, burst),
+	}
+}
+
+// allow takes one token for client at now. When the bucket is empty it
+// returns how long until a token is free, rounded up to whole seconds
+// for Retry-After.
+func (l *clientLimiter) allow(client string, now time.Time) (bool, int) {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	if now.Sub(l.lastSweep) > l.idle {
+		for k, b := range l.clients {
+			if now.Sub(b.lastSeen) > l.idle {
+				delete(l.clients, k)
+			}
+		}
+		l.lastSweep = now
+	}
+	var lim *rate.Limiter
+	if b, ok := l.clients[client]; ok {
+		b.lastSeen = now
+		lim = b.limiter
+	} else if len(l.clients) < maxTrackedClients {
+		lim = rate.NewLimiter(l.every, l.burst)
+		l.clients[client] = &clientBucket{limiter: lim, lastSeen: now}
+	} else {
+		lim = l.overflow
+	}
+	r := lim.ReserveN(now, 1)
+	delay := r.DelayFrom(now)
+	if delay == 0 {
+		return true, 0
+	}
+	r.CancelAt(now)
+	return false, max(1, int(math.Ceil(delay.Seconds())))
+}
+
+// tracked is how many clients hold a bucket, for tests of the sweep.
+func (l *clientLimiter) tracked() int {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return len(l.clients)
+}
+
+// clientKey names the client behind a request by the address the
+// connection came from. Forwarding headers are ignored: anyone can write
+// them, and honouring them would let a client pick a fresh bucket per
+// request. IPv6 clients are keyed by their /64, the block one site gets.
+func clientKey(r *http.Request) string {
+	host, _, err := net.SplitHostPort(r.RemoteAddr)
+	if err != nil {
+		host = r.RemoteAddr
+	}
+	addr, err := netip.ParseAddr(host)
+	if err != nil {
+		return host
+	}
+	addr = addr.Unmap()
+	if addr.Is6() {
+		prefix, _ := addr.Prefix(64)
+		return prefix.String()
+	}
+	return addr.String()
+}

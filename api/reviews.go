@@ -1,0 +1,167 @@
+package api
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"net/http"
+	"strconv"
+	"time"
+
+	"github.com/labstack/echo/v4"
+
+	"wattshelf/domain"
+	"wattshelf/domain/review"
+	"wattshelf/domain/store"
+)
+
+const (
+	defaultReviewPageSize = 20
+	maxReviewPageSize     = 100
+)
+
+// StoredReviewView is a stored review as the API returns it: the record
+// and the address of its printable report.
+type StoredReviewView struct {
+	store.StoredReview
+	ReportURL string `json:"report_url"`
+}
+
+// ReviewPage is one page of a design's reviews, newest first.
+type ReviewPage struct {
+	Items []StoredReviewView `json:"items"`
+	Next  string             `json:"next,omitempty"`
+}
+
+// limitsVersionParam reads ?limits_version=N; 0 means the current one.
+func limitsVersionParam(c echo.Context) (int, error) {
+	v := c.QueryParam("limits_version")
+	if v == "" {
+		return 0, nil
+	}
+	n, err := strconv.Atoi(v)
+	if err != nil || n < 1 {
+		return 0, queryProblem("/limits_version", "must be a limits version number, 1 or more")
+	}
+	return n, nil
+}
+
+// review decodes and reviews a document against limits version v (0:
+// the current one). review.Review validates the document itself.
+func (s *server) review(ctx context.Context, document []byte, v int) (review.Report, error) {
+	doc, err := domain.DecodeDesign(document)
+	if err != nil {
+		return review.Report{}, err
+	}
+	limits, used, err := s.limits.get(ctx, v)
+	if errors.Is(err, domain.ErrNotFound) {
+		return review.Report{}, queryProblem("/limits_version", "no limits version %d is stored; GET /v1/limits for the current one", v)
+	}
+	if err != nil {
+		return review.Report{}, err
+	}
+	components, err := s.store.ComponentsByID(ctx, doc.ComponentIDs())
+	if err != nil {
+		return review.Report{}, err
+	}
+	return review.Review(doc, limits, used, components)
+}
+
+// reviewDocument reviews the document sent as the body and stores
+// nothing. It needs no token, so each client is rate-limited; a token
+// holder is counted by name instead of by address.
+func (s *server) reviewDocument(c echo.Context) error {
+	key := "addr:" + clientKey(c.Request())
+	if u, ok := c.Get(userKey).(domain.User); ok {
+		key = "user:" + u.Name
+	}
+	if ok, wait := s.reviewLimiter.allow(key, time.Now()); !ok {
+		return &problemError{kind: "rate-limited", retry: wait,
+			detail: fmt.Sprintf("too many reviews from this client; try again in %d s", wait)}
+	}
+	v, err := limitsVersionParam(c)
+	if err != nil {
+		return err
+	}
+	body, err := readBody(c)
+	if err != nil {
+		return err
+	}
+	report, err := s.review(c.Request().Context(), body, v)
+	if err != nil {
+		return err
+	}
+	return c.JSON(http.StatusOK, report)
+}
+
+// reviewStoredDesign reviews a stored design and keeps the report, with
+// a share id that opens it without a login.
+func (s *server) reviewStoredDesign(c echo.Context) error {
+	v, err := limitsVersionParam(c)
+	if err != nil {
+		return err
+	}
+	d, err := s.visibleDesign(c)
+	if err != nil {
+		return err
+	}
+	ctx := c.Request().Context()
+	report, err := s.review(ctx, d.Document, v)
+	if err != nil {
+		return err
+	}
+	body, err := json.Marshal(report)
+	if err != nil {
+		return fmt.Errorf("encode report of design %d: %w", d.ID, err)
+	}
+	r, err := s.store.AddReview(ctx, currentUser(c), store.NewReview{
+		DesignID: d.ID, Document: d.Document, Status: string(report.Status),
+		LimitsVersion: report.LimitsVersion, Report: body,
+	})
+	if err != nil {
+		return err
+	}
+	view := s.reviewView(r)
+	c.Response().Header().Set("Location", view.ReportURL)
+	return c.JSON(http.StatusCreated, view)
+}
+
+func (s *server) listDesignReviews(c echo.Context) error {
+	d, err := s.visibleDesign(c)
+	if err != nil {
+		return err
+	}
+	limit := defaultReviewPageSize
+	if v := c.QueryParam("limit"); v != "" {
+		n, err := strconv.Atoi(v)
+		if err != nil || n < 1 || n > maxReviewPageSize {
+			return queryProblem("/limit", "must be a whole number from 1 to %d", maxReviewPageSize)
+		}
+		limit = n
+	}
+	var before int64
+	if v := c.QueryParam("cursor"); v != "" {
+		if before, err = decodeCursor(v); err != nil {
+			return queryProblem("/cursor", "is not a cursor this service issued")
+		}
+	}
+	list, more, err := s.store.ReviewsOfDesign(c.Request().Context(), d.ID, before, limit)
+	if err != nil {
+		return err
+	}
+	page := ReviewPage{Items: make([]StoredReviewView, 0, len(list))}
+	for _, r := range list {
+		page.Items = append(page.Items, s.reviewView(r))
+	}
+	if more {
+		page.Next = encodeCursor(list[len(list)-1].ID)
+	}
+	return c.JSON(http.StatusOK, page)
+}
+
+// reviewView adds the report page's address: absolute when the service
+// knows its public address, else a path on the address asked.
+func (s *server) reviewView(r store.StoredReview) StoredReviewView {
+	return StoredReviewView{StoredReview: r, ReportURL: s.cfg.PublicBaseURL + "/reports/" + r.ShareID}
+}

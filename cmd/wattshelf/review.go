@@ -1,0 +1,305 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"net/http"
+	"net/url"
+	"os"
+	"strconv"
+	"strings"
+	"time"
+)
+
+// Exit statuses of `wattshelf review`, worst last: the command exits with
+// the worst status any file earned.
+const (
+	reviewExitClean       = 0 // nothing reached the --fail-on level
+	reviewExitFindings    = 1 // some design has a finding at or past it
+	reviewExitRejected    = 2 // the service refused a document, or a file could not be read
+	reviewExitUnreachable = 3 // the service could not be reached or could not answer
+)
+
+const (
+	defaultReviewServer = "http://127.0.0.1:8080"
+	// reviewRetries bounds how often one file waits out a rate limit.
+	reviewRetries = 5
+	// maxRetryWait caps a Retry-After the client will honour.
+	maxRetryWait = time.Minute
+)
+
+const reviewUsage = `usage: wattshelf review FILE... [--server URL] [--token T] [--json] [--fail-on warn|fail] [--limits-version N]
+
+Sends each design file (- for standard input) to the service's review and
+prints what it found. Exit status: 0 when no design reaches the --fail-on
+level (default fail; out_of_scope always counts), 1 when one does, 2 when
+the service rejects a document or a file cannot be read, 3 when the
+service cannot be reached.
+
+Environment: WATTSHELF_SERVER (default ` + defaultReviewServer + `), WATTSHELF_TOKEN.
+`
+
+// reviewOptions are the parsed arguments of `wattshelf review`.
+type reviewOptions struct {
+	server        string
+	token         string
+	asJSON        bool
+	failOn        string
+	limitsVersion int
+	files         []string
+}
+
+// parseReviewArgs accepts flags before, between and after the files, as
+// people type them.
+func parseReviewArgs(args []string, getenv func(string) string) (reviewOptions, error) {
+	opts := reviewOptions{server: getenv("WATTSHELF_SERVER"), token: getenv("WATTSHELF_TOKEN"), failOn: "fail"}
+	if opts.server == "" {
+		opts.server = defaultReviewServer
+	}
+	fs := flag.NewFlagSet("review", flag.ContinueOnError)
+	fs.SetOutput(io.Discard)
+	fs.StringVar(&opts.server, "server", opts.server, "service address")
+	fs.StringVar(&opts.token, "token", opts.token, "bearer token")
+	fs.BoolVar(&opts.asJSON, "json", false, "print each report as JSON")
+	fs.StringVar(&opts.failOn, "fail-on", opts.failOn, "warn or fail")
+	fs.IntVar(&opts.limitsVersion, "limits-version", 0, "review against this limits version")
+	for {
+		if err := fs.Parse(args); err != nil {
+			return opts, err
+		}
+		args = fs.Args()
+		if len(args) == 0 {
+			break
+		}
+		opts.files = append(opts.files, args[0])
+		args = args[1:]
+	}
+	if len(opts.files) == 0 {
+		return opts, errors.New("name at least one design file")
+	}
+	if opts.failOn != "warn" && opts.failOn != "fail" {
+		return opts, fmt.Errorf("--fail-on takes warn or fail, not %q", opts.failOn)
+	}
+	if opts.limitsVersion < 0 {
+		return opts, errors.New("--limits-version takes a version number")
+	}
+	u, err := url.Parse(opts.server)
+	if err != nil || (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
+		return opts, fmt.Errorf("--server takes an http or https address, not %q", opts.server)
+	}
+	opts.server = strings.TrimRight(opts.server, "/")
+	return opts, nil
+}
+
+// reviewCommand runs `wattshelf review`.
+func reviewCommand(ctx context.Context, args []string, getenv func(string) string, stdin io.Reader, stdout, stderr io.Writer) error {
+	opts, err := parseReviewArgs(args, getenv)
+	if err != nil {
+		fmt.Fprint(stderr, reviewUsage)
+		return &exitError{code: 2, msg: err.Error()}
+	}
+	client := &http.Client{Timeout: 2 * time.Minute}
+	worst := reviewExitClean
+	for _, file := range opts.files {
+		worst = max(worst, reviewFile(ctx, client, opts, file, stdin, stdout, stderr))
+	}
+	if worst == reviewExitClean {
+		return nil
+	}
+	return &exitError{code: worst}
+}
+
+// reviewReport is the part of a report (DESIGN section 8) the summary
+// prints. It is decoded from the service's JSON, the contract between the
+// two, rather than from the engine's Go types.
+type reviewReport struct {
+	Status        string `json:"status"`
+	LimitsVersion int    `json:"limits_version"`
+	Counts        struct {
+		Pass int `json:"pass"`
+		Warn int `json:"warn"`
+		Fail int `json:"fail"`
+	} `json:"counts"`
+	Checks []struct {
+		Check   string  `json:"check"`
+		Node    string  `json:"node"`
+		Status  string  `json:"status"`
+		Value   float64 `json:"value"`
+		Limit   float64 `json:"limit"`
+		Unit    string  `json:"unit"`
+		Message string  `json:"message"`
+	} `json:"checks"`
+}
+
+// problemReply is the part of an RFC 9457 problem document worth showing.
+type problemReply struct {
+	Title  string `json:"title"`
+	Detail string `json:"detail"`
+	Errors []struct {
+		Pointer string `json:"pointer"`
+		Detail  string `json:"detail"`
+	} `json:"errors"`
+}
+
+// reviewFile reviews one file and returns its exit status.
+func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, file string, stdin io.Reader, stdout, stderr io.Writer) int {
+	var doc []byte
+	var err error
+	if file == "-" {
+		doc, err = io.ReadAll(stdin)
+	} else {
+		doc, err = os.ReadFile(file)
+	}
+	if err != nil {
+		fmt.Fprintf(stderr, "%s: cannot read: %v\n", file, err)
+		return reviewExitRejected
+	}
+	status, body, err := postForReview(ctx, client, opts, doc)
+	if err != nil {
+		fmt.Fprintf(stderr, "%s: cannot reach %s: %v\n", file, opts.server, err)
+		return reviewExitUnreachable
+	}
+	switch {
+	case status >= 500 || status == http.StatusTooManyRequests:
+		fmt.Fprintf(stderr, "%s: the service could not review it (HTTP %d)%s\n", file, status, describeProblem(body))
+		return reviewExitUnreachable
+	case status >= 400:
+		fmt.Fprintf(stderr, "%s: rejected (HTTP %d)%s\n", file, status, describeProblem(body))
+		return reviewExitRejected
+	case status != http.StatusOK:
+		fmt.Fprintf(stderr, "%s: unexpected answer HTTP %d\n", file, status)
+		return reviewExitUnreachable
+	}
+	var rep reviewReport
+	if err := json.Unmarshal(body, &rep); err != nil || rep.Status == "" {
+		fmt.Fprintf(stderr, "%s: the answer is not a review report\n", file)
+		return reviewExitUnreachable
+	}
+	if opts.asJSON {
+		stdout.Write(body)
+		if !bytes.HasSuffix(body, []byte("\n")) {
+			fmt.Fprintln(stdout)
+		}
+	} else {
+		printReviewSummary(stdout, file, rep)
+	}
+	if statusRank(rep.Status) >= statusRank(opts.failOn) {
+		return reviewExitFindings
+	}
+	return reviewExitClean
+}
+
+// postForReview sends one document, waiting out rate limits, and returns
+// the answer's status and body; err is set only when no answer came.
+func postForReview(ctx context.Context, client *http.Client, opts reviewOptions, doc []byte) (int, []byte, error) {
+	target := opts.server + "/v1/reviews"
+	if opts.limitsVersion > 0 {
+		target += "?limits_version=" + strconv.Itoa(opts.limitsVersion)
+	}
+	for attempt := 0; ; attempt++ {
+		req, err := http.NewRequestWithContext(ctx, http.MethodPost, target, bytes.NewReader(doc))
+		if err != nil {
+			return 0, nil, err
+		}
+		req.Header.Set("Content-Type", "application/json")
+		req.Header.Set("Accept", "application/json, application/problem+json")
+		if opts.token != "" {
+			req.Header.Set("Authorization", "Bearer "+opts.token)
+		}
+		resp, err := client.Do(req)
+		if err != nil {
+			return 0, nil, err
+		}
+		body, err := io.ReadAll(io.LimitReader(resp.Body, 256<<20))
+		resp.Body.Close()
+		if err != nil {
+			return 0, nil, fmt.Errorf("read the answer: %w", err)
+		}
+		if resp.StatusCode != http.StatusTooManyRequests || attempt == reviewRetries {
+			return resp.StatusCode, body, nil
+		}
+		wait, err := strconv.Atoi(resp.Header.Get("Retry-After"))
+		if err != nil || wait < 1 {
+			wait = 1
+		}
+		select {
+		case <-ctx.Done():
+			return 0, nil, ctx.Err()
+		case <-time.After(min(time.Duration(wait)*time.Second, maxRetryWait)):
+		}
+	}
+}
+
+func describeProblem(body []byte) string {
+	var p problemReply
+	if json.Unmarshal(body, &p) != nil || (p.Title == "" && p.Detail == "") {
+		return ""
+	}
+	var b strings.Builder
+	b.WriteString(": " + p.Title)
+	if p.Detail != "" {
+		b.WriteString(" (" + p.Detail + ")")
+	}
+	for _, e := range p.Errors {
+		ptr := e.Pointer
+		if ptr == "" {
+			ptr = "(document)"
+		}
+		fmt.Fprintf(&b, "\n  %s: %s", ptr, e.Detail)
+	}
+	return b.String()
+}
+
+// statusRank orders statuses; out_of_scope ranks with fail, since such a
+// design must never be taken as passed.
+func statusRank(s string) int {
+	switch s {
+	case "pass":
+		return 0
+	case "warn":
+		return 1
+	}
+	return 2
+}
+
+func printReviewSummary(w io.Writer, file string, rep reviewReport) {
+	fmt.Fprintf(w, "%s: %s (limits v%d; %d pass, %d warn, %d fail)\n",
+		file, strings.ToUpper(rep.Status), rep.LimitsVersion, rep.Counts.Pass, rep.Counts.Warn, rep.Counts.Fail)
+	for _, want := range []string{"out_of_scope", "fail", "warn"} {
+		for _, c := range rep.Checks {
+			if c.Status != want {
+				continue
+			}
+			subject := c.Node
+			if subject == "" {
+				subject = "design"
+			}
+			measure := ""
+			if c.Unit != "" || c.Value != 0 || c.Limit != 0 {
+				measure = fmt.Sprintf(" %s (limit %s)", quantity(c.Value, c.Unit), quantity(c.Limit, c.Unit))
+			}
+			fmt.Fprintf(w, "  %s %s at %s:%s %s\n", c.Status, c.Check, subject, measure, c.Message)
+		}
+	}
+}
+
+func quantity(v float64, unit string) string {
+	if unit == "" {
+		return shortNumber(v)
+	}
+	return shortNumber(v) + " " + unit
+}
+
+// shortNumber prints four significant digits without exponent noise.
+func shortNumber(v float64) string {
+	rounded, err := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 4, 64), 64)
+	if err != nil {
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	return strconv.FormatFloat(rounded, 'f', -1, 64)
+}
