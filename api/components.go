@@ -81,8 +81,11 @@ func parseComponentFilter(q func(string) string) (store.ComponentFilter, error) 
 	if f.Kind != "" && !slices.Contains(domain.ComponentKinds(), f.Kind) {
 		return f, queryProblem("/kind", "must be one of %v", domain.ComponentKinds())
 	}
-	if len(f.Query) > domain.MaxNameLen || len(f.Bin) > domain.MaxShortFieldLen {
-		return f, queryProblem("/q", "is too long")
+	if len(f.Query) > domain.MaxNameLen {
+		return f, queryProblem("/q", "is longer than %d bytes", domain.MaxNameLen)
+	}
+	if len(f.Bin) > domain.MaxShortFieldLen {
+		return f, queryProblem("/bin", "is longer than %d bytes", domain.MaxShortFieldLen)
 	}
 	if v := q("limit"); v != "" {
 		n, err := strconv.Atoi(v)

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"net/http"
+	"reflect"
 	"strings"
 
 	"github.com/labstack/echo/v4"
@@ -43,7 +44,7 @@ func decodeStrict(body []byte, v any) error {
 	dec := json.NewDecoder(bytes.NewReader(body))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(v); err != nil {
-		return classifyDecodeError(err, dec.InputOffset())
+		return classifyDecodeErrorFor(err, dec.InputOffset(), reflect.TypeOf(v))
 	}
 	if _, err := dec.Token(); err != io.EOF {
 		return &domain.DecodeError{Offset: dec.InputOffset(), Reason: "trailing data after the JSON value"}
@@ -51,7 +52,15 @@ func decodeStrict(body []byte, v any) error {
 	return nil
 }
 
+// classifyDecodeError is classifyDecodeErrorFor without a target type.
 func classifyDecodeError(err error, offset int64) error {
+	return classifyDecodeErrorFor(err, offset, nil)
+}
+
+// classifyDecodeErrorFor sorts a decoding error into malformed (400) or
+// invalid (422); target, the type decoded into, lets wrong-type pointers
+// name the keys the client sent.
+func classifyDecodeErrorFor(err error, offset int64, target reflect.Type) error {
 	var syn *json.SyntaxError
 	var typ *json.UnmarshalTypeError
 	switch {
@@ -60,20 +69,62 @@ func classifyDecodeError(err error, offset int64) error {
 	case errors.Is(err, io.ErrUnexpectedEOF), errors.Is(err, io.EOF):
 		return &domain.DecodeError{Offset: offset, Reason: "the JSON ends too early"}
 	case errors.As(err, &typ):
-		ptr := "/" + strings.ReplaceAll(typ.Field, ".", "/")
-		if typ.Field == "" {
-			ptr = ""
-		}
 		return &domain.ValidationError{Problems: []domain.FieldProblem{{
-			Pointer: ptr, Detail: fmt.Sprintf("must be %s, not a JSON %s", jsonKind(typ.Type.Kind().String()), typ.Value),
+			Pointer: fieldPointer(target, typ.Field), Detail: fmt.Sprintf("must be %s, not a JSON %s", jsonKind(typ.Type.Kind().String()), typ.Value),
 		}}}
 	case strings.HasPrefix(err.Error(), "json: unknown field "):
 		field := strings.Trim(strings.TrimPrefix(err.Error(), "json: unknown field "), `"`)
 		return &domain.ValidationError{Problems: []domain.FieldProblem{{
-			Pointer: "/" + field, Detail: "is not a known field",
+			Pointer: "/" + escapePointerToken(field), Detail: "is not a known field",
 		}}}
 	}
 	return &domain.DecodeError{Offset: offset, Reason: err.Error()}
+}
+
+// fieldPointer turns encoding/json's dotted field path into the JSON
+// pointer of the keys the client sent. The path names embedded structs by
+// their Go name ("Electrical.max_v"), which no client ever sent, so those
+// steps are dropped by looking them up in the decoded type.
+func fieldPointer(target reflect.Type, path string) string {
+	if path == "" {
+		return ""
+	}
+	var b strings.Builder
+	t := target
+	for _, step := range strings.Split(path, ".") {
+		for t != nil && (t.Kind() == reflect.Pointer || t.Kind() == reflect.Slice || t.Kind() == reflect.Array || t.Kind() == reflect.Map) {
+			t = t.Elem()
+		}
+		if t != nil && t.Kind() == reflect.Struct {
+			if f, ok := t.FieldByName(step); ok && f.Anonymous && f.Tag.Get("json") == "" {
+				t = f.Type
+				continue
+			}
+			t = jsonFieldType(t, step)
+		} else {
+			t = nil
+		}
+		b.WriteString("/" + escapePointerToken(step))
+	}
+	return b.String()
+}
+
+// jsonFieldType is the type of the field of struct t that JSON calls
+// name, or nil.
+func jsonFieldType(t reflect.Type, name string) reflect.Type {
+	for _, f := range reflect.VisibleFields(t) {
+		tag, _, _ := strings.Cut(f.Tag.Get("json"), ",")
+		if tag == name || (tag == "" && f.Name == name) {
+			return f.Type
+		}
+	}
+	return nil
+}
+
+// escapePointerToken escapes one reference token of a JSON pointer
+// (RFC 6901 section 3), so a key holding "/" or "~" names itself.
+func escapePointerToken(key string) string {
+	return strings.NewReplacer("~", "~0", "/", "~1").Replace(key)
 }
 
 func jsonKind(goKind string) string {
