@@ -77,6 +77,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.Use(metrics.middleware)
 	e.Use(accessLog(cfg.Logger))
 	e.Use(recoverPanics(cfg.Logger))
+	e.Use(requestDeadline(DatabaseWaitLimit))
 	e.Use(middleware.BodyLimit(fmt.Sprint(MaxBodyBytes)))
 	e.Use(identify(cfg.Store))
 
