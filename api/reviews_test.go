@@ -1,0 +1,163 @@
+package api
+
+import (
+	"encoding/json"
+	"fmt"
+	"math"
+	"net/http"
+	"regexp"
+	"strconv"
+	"testing"
+
+	"wattshelf/domain/review"
+	"wattshelf/domain/store"
+)
+
+func TestStoredReviews(t *testing.T) {
+	h := newDesignHarness(t, Config{PublicBaseURL: "http://shelf.example"})
+	var d store.StoredDesign
+	h.expect(h.call(http.MethodPost, "/v1/designs", "ada", []byte(benchLampDesign)), http.StatusCreated, &d)
+	reviews := fmt.Sprintf("/v1/designs/%d/reviews", d.ID)
+
+	// Only the owner and staff may review or read the reviews.
+	h.expect(h.call(http.MethodPost, reviews, "bo", nil), http.StatusForbidden, nil)
+	h.expect(h.call(http.MethodGet, reviews, "bo", nil), http.StatusForbidden, nil)
+	h.expect(h.call(http.MethodPost, reviews, "", nil), http.StatusUnauthorized, nil)
+	h.expect(h.call(http.MethodPost, "/v1/designs/999/reviews", "ada", nil), http.StatusNotFound, nil)
+
+	shareID := regexp.MustCompile(`^[A-Za-z0-9_-]{24}$`)
+	var made []StoredReviewView
+	for _, who := range []string{"ada", "rowan", "ada"} {
+		var r StoredReviewView
+		rec := h.call(http.MethodPost, reviews, who, nil)
+		h.expect(rec, http.StatusCreated, &r)
+		if !shareID.MatchString(r.ShareID) {
+			t.Fatalf("share id %q is not 24 URL-safe characters (144 random bits)", r.ShareID)
+		}
+		if want := "http://shelf.example/reports/" + r.ShareID; r.ReportURL != want || rec.Header().Get("Location") != want {
+			t.Fatalf("report url %q, Location %q; want %q", r.ReportURL, rec.Header().Get("Location"), want)
+		}
+		if r.DocumentSHA256 != store.DocumentDigest([]byte(benchLampDesign)) || r.CreatedBy != who || r.LimitsVersion != 1 {
+			t.Fatalf("review %+v: wrong digest, author or limits version", r.StoredReview)
+		}
+		var rep review.Report
+		if err := json.Unmarshal(r.Report, &rep); err != nil {
+			t.Fatal(err)
+		}
+		if rep.Status != review.Pass || string(rep.Status) != r.Status || rep.LimitsVersion != 1 {
+			t.Fatalf("report status %s (stored %s), limits v%d; want pass under v1", rep.Status, r.Status, rep.LimitsVersion)
+		}
+		if got := checkValue(t, rep, review.CheckWireDrop, "lamp"); math.Abs(got-benchLampDropPct) > 0.01*benchLampDropPct {
+			t.Fatalf("wire.drop to lamp = %g %%, want %g %% (worked by hand beside benchLampDesign)", got, benchLampDropPct)
+		}
+		made = append(made, r)
+	}
+	if made[0].ShareID == made[1].ShareID || made[1].ShareID == made[2].ShareID || made[0].ShareID == made[2].ShareID {
+		t.Fatal("two reviews got the same share id")
+	}
+
+	var page ReviewPage
+	h.expect(h.call(http.MethodGet, reviews+"?limit=2", "rowan", nil), http.StatusOK, &page)
+	if len(page.Items) != 2 || page.Items[0].ID != made[2].ID || page.Items[1].ID != made[1].ID || page.Next == "" {
+		t.Fatalf("first page %+v, want the two newest, newest first, and a cursor", page)
+	}
+	var rest ReviewPage
+	h.expect(h.call(http.MethodGet, reviews+"?limit=2&cursor="+page.Next, "ada", nil), http.StatusOK, &rest)
+	if len(rest.Items) != 1 || rest.Items[0].ID != made[0].ID || rest.Next != "" {
+		t.Fatalf("second page %+v, want the oldest review alone", rest)
+	}
+
+	// The share id opens the stored review without any token.
+	shared, err := h.store.ReviewByShareID(t.Context(), made[1].ShareID)
+	if err != nil || shared.ID != made[1].ID {
+		t.Fatalf("ReviewByShareID: %+v, %v", shared, err)
+	}
+
+	// A stored design that no longer reviews (its part left the shelf)
+	// is a 422 naming the node, and no review is stored.
+	withPart := []byte(`{"format": 1, "name": "Needs a part", "nodes": [
+		{"id": "bench", "type": "supply", "output_v": 5, "max_a": 2},
+		{"id": "lamp", "type": "load", "component_id": 31337,
+		 "feed": {"from": "bench", "wire": {"gauge": "24AWG", "length_m": 0.5}}}]}`)
+	var orphan store.StoredDesign
+	h.expect(h.call(http.MethodPost, "/v1/designs", "ada", withPart), http.StatusCreated, &orphan)
+	rec := h.call(http.MethodPost, fmt.Sprintf("/v1/designs/%d/reviews", orphan.ID), "ada", nil)
+	h.expect(rec, http.StatusUnprocessableEntity, nil)
+	var empty ReviewPage
+	h.expect(h.call(http.MethodGet, fmt.Sprintf("/v1/designs/%d/reviews", orphan.ID), "ada", nil), http.StatusOK, &empty)
+	if len(empty.Items) != 0 {
+		t.Fatalf("a failed review was stored: %+v", empty.Items)
+	}
+}
+
+func TestAnonymousReview(t *testing.T) {
+	h := newDesignHarness(t, Config{})
+	var rep review.Report
+	rec := h.call(http.MethodPost, "/v1/reviews", "", []byte(overvoltDesign))
+	h.expect(rec, http.StatusOK, &rep)
+	if rep.Status != review.Fail || rep.LimitsVersion != 1 || len(rep.Cautions) == 0 {
+		t.Fatalf("status %s under v%d with %d cautions; want fail under v1 with the cautions", rep.Status, rep.LimitsVersion, len(rep.Cautions))
+	}
+	if got := checkStatus(t, rep, review.CheckVoltageRange, "sensor"); got != review.Fail {
+		t.Fatalf("voltage.range of sensor = %s, want fail: 14 V reaches a 5.5 V part", got)
+	}
+	// A database nobody prepared got the defaults as version 1 on first use.
+	if v, err := h.store.CurrentLimitsVersion(t.Context()); err != nil || v != 1 {
+		t.Fatalf("current limits version %d, %v; want 1", v, err)
+	}
+	// Nothing is stored by an anonymous review.
+	if list, _, err := h.store.ListDesigns(t.Context(), store.DesignFilter{}); err != nil || len(list) != 0 {
+		t.Fatalf("designs after an anonymous review: %d, %v", len(list), err)
+	}
+	h.expect(h.call(http.MethodPost, "/v1/reviews?limits_version=2", "", []byte(overvoltDesign)), http.StatusBadRequest, nil)
+	h.expect(h.call(http.MethodPost, "/v1/reviews?limits_version=one", "", []byte(overvoltDesign)), http.StatusBadRequest, nil)
+}
+
+func TestAnonymousReviewRateLimit(t *testing.T) {
+	h := newDesignHarness(t, Config{ReviewsPerMinute: 1, ReviewBurst: 2})
+	doc := []byte(benchLampDesign)
+	for range 2 {
+		h.expect(h.callFrom("198.51.100.7:1000", http.MethodPost, "/v1/reviews", "", doc), http.StatusOK, nil)
+	}
+	// Forwarding headers are anyone's to write; they do not buy a new bucket.
+	rec := h.callFrom("198.51.100.7:1001", http.MethodPost, "/v1/reviews", "", doc, "X-Forwarded-For", "203.0.113.9")
+	h.expect(rec, http.StatusTooManyRequests, nil)
+	var p Problem
+	if err := json.Unmarshal(rec.Body.Bytes(), &p); err != nil || p.Type != ProblemTypePrefix+"rate-limited" {
+		t.Fatalf("429 body %s is not the rate-limited problem", rec.Body.String())
+	}
+	// One review a minute: the next token is a minute away.
+	retry, err := strconv.Atoi(rec.Header().Get("Retry-After"))
+	if err != nil || retry < 55 || retry > 60 {
+		t.Fatalf("Retry-After %q, want about 60 seconds", rec.Header().Get("Retry-After"))
+	}
+	// Another address, and a token holder at the same address, have buckets of their own.
+	h.expect(h.callFrom("198.51.100.8:1000", http.MethodPost, "/v1/reviews", "", doc), http.StatusOK, nil)
+	h.expect(h.callFrom("198.51.100.7:1002", http.MethodPost, "/v1/reviews", "ada", doc), http.StatusOK, nil)
+	// IPv6 clients are counted by their /64.
+	h.expect(h.callFrom("[2001:db8::1]:1000", http.MethodPost, "/v1/reviews", "", doc), http.StatusOK, nil)
+	h.expect(h.callFrom("[2001:db8::2]:1000", http.MethodPost, "/v1/reviews", "", doc), http.StatusOK, nil)
+	h.expect(h.callFrom("[2001:db8::3]:1000", http.MethodPost, "/v1/reviews", "", doc), http.StatusTooManyRequests, nil)
+}
+
+func checkValue(t *testing.T, rep review.Report, check, node string) float64 {
+	t.Helper()
+	for _, c := range rep.Checks {
+		if c.Check == check && c.Node == node {
+			return c.Value
+		}
+	}
+	t.Fatalf("no %s check on %s in the report", check, node)
+	return 0
+}
+
+func checkStatus(t *testing.T, rep review.Report, check, node string) review.Status {
+	t.Helper()
+	for _, c := range rep.Checks {
+		if c.Check == check && c.Node == node {
+			return c.Status
+		}
+	}
+	t.Fatalf("no %s check on %s in the report", check, node)
+	return ""
+}
