@@ -274,6 +274,14 @@ func (s *Store) Import(ctx context.Context, snap Snapshot) error {
 				return &NotEmptyError{Table: t.name}
 			}
 		}
+		var badJSON error
+		js := func(raw json.RawMessage) string {
+			text, err := jsonArg(raw)
+			if err != nil && badJSON == nil {
+				badJSON = err
+			}
+			return text
+		}
 		b := &pgx.Batch{}
 		for _, u := range snap.Users {
 			b.Queue(`INSERT INTO users (id, name, role, created_at) OVERRIDING SYSTEM VALUE VALUES ($1, $2, $3, $4)`,
@@ -281,14 +289,14 @@ func (s *Store) Import(ctx context.Context, snap Snapshot) error {
 		}
 		for _, l := range snap.Limits {
 			b.Queue(`INSERT INTO limits (version, body, note, created_by, created_at) VALUES ($1, $2, $3, $4, $5)`,
-				l.Version, jsonbArg(l.Body), l.Note, l.CreatedBy, l.CreatedAt)
+				l.Version, js(l.Body), l.Note, l.CreatedBy, l.CreatedAt)
 		}
 		for _, c := range snap.Components {
 			b.Queue(`INSERT INTO components (id, name, kind, description, origin, mains_origin, bin, quantity, condition,
 				spec_source, notes, electrical, owner, created_at, updated_at, version)
 				OVERRIDING SYSTEM VALUE VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14, $15, $16)`,
 				c.ID, c.Name, c.Kind, c.Description, c.Origin, c.MainsOrigin, c.Bin, c.Quantity, c.Condition,
-				c.SpecSource, c.Notes, jsonbArg(c.Electrical), c.Owner, c.CreatedAt, c.UpdatedAt, c.Version)
+				c.SpecSource, c.Notes, js(c.Electrical), c.Owner, c.CreatedAt, c.UpdatedAt, c.Version)
 		}
 		for _, m := range snap.Measurements {
 			b.Queue(`INSERT INTO measurements (id, component_id, voltage_v, current_a, speed_rpm, note, recorded_by, recorded_at)
@@ -303,13 +311,16 @@ func (s *Store) Import(ctx context.Context, snap Snapshot) error {
 		for _, r := range snap.Reviews {
 			b.Queue(`INSERT INTO reviews (id, design_id, share_id, status, limits_version, document_sha256, report,
 				created_by, created_at) OVERRIDING SYSTEM VALUE VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9)`,
-				r.ID, r.DesignID, r.ShareID, r.Status, r.LimitsVersion, r.DocumentSHA256, jsonbArg(r.Report),
+				r.ID, r.DesignID, r.ShareID, r.Status, r.LimitsVersion, r.DocumentSHA256, js(r.Report),
 				r.CreatedBy, r.CreatedAt)
 		}
 		for _, e := range snap.Audit {
 			b.Queue(`INSERT INTO audit (id, at, actor, action, subject_type, subject_id, detail)
 				OVERRIDING SYSTEM VALUE VALUES ($1, $2, $3, $4, $5, $6, $7)`,
-				e.ID, e.At, e.Actor, e.Action, e.SubjectType, e.SubjectID, jsonbArg(e.Detail))
+				e.ID, e.At, e.Actor, e.Action, e.SubjectType, e.SubjectID, js(e.Detail))
+		}
+		if badJSON != nil {
+			return fmt.Errorf("import: a JSON value in the file is broken: %w", badJSON)
 		}
 		for _, t := range importedTables() {
 			if t.identity == "" {
@@ -325,13 +336,19 @@ func (s *Store) Import(ctx context.Context, snap Snapshot) error {
 	})
 }
 
-// jsonbArg passes stored JSON as text for a jsonb column; a missing value
-// becomes the empty object the columns default to.
-func jsonbArg(raw json.RawMessage) string {
+// jsonArg passes exported JSON back as compact text. The json columns
+// keep text as written, and what the service writes is compact, so this
+// restores the original bytes rather than the export file's indentation.
+// A missing value becomes the empty object the columns default to.
+func jsonArg(raw json.RawMessage) (string, error) {
 	if len(bytes.TrimSpace(raw)) == 0 {
-		return "{}"
+		return "{}", nil
 	}
-	return string(raw)
+	var buf bytes.Buffer
+	if err := json.Compact(&buf, raw); err != nil {
+		return "", err
+	}
+	return buf.String(), nil
 }
 
 // WriteJSON writes snap as indented JSON. The same snapshot always gives

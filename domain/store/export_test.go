@@ -70,12 +70,12 @@ func fillForExport(t *testing.T, s *store.Store, dbURL string) {
 	}
 	defer conn.Close(ctx)
 	for _, q := range []string{
-		`INSERT INTO limits (version, body, note, created_by) VALUES (1, '{"policy": {"in_scope_v": 50}, "drop": {"critical_pct": 3}}', 'defaults', 'system')`,
-		`INSERT INTO limits (version, body, note, created_by) VALUES (2, '{"policy": {"in_scope_v": 50}, "drop": {"critical_pct": 2.5}}', 'tighter', 'ada')`,
+		`INSERT INTO limits (version, body, note, created_by) VALUES (1, '{"policy":{"in_scope_v":50},"drop":{"critical_pct":3}}', 'defaults', 'system')`,
+		`INSERT INTO limits (version, body, note, created_by) VALUES (2, '{"policy":{"in_scope_v":50},"drop":{"critical_pct":2.5}}', 'tighter', 'ada')`,
 		`INSERT INTO designs (name, document, owner) VALUES ('Cart', '{"format": 1,  "name": "Cart", "nodes": []}', 'bo')`,
 		`UPDATE designs SET version = 3, updated_at = now() + interval '1 second'`,
 		`INSERT INTO reviews (design_id, share_id, status, limits_version, document_sha256, report, created_by)
-		 SELECT id, 'Zx9_share-id', 'warn', 2, 'abc123', '{"status": "warn", "counts": {"pass": 3, "warn": 1, "fail": 0}}', 'bo' FROM designs`,
+		 SELECT id, 'Zx9_share-id', 'warn', 2, 'abc123', '{"status":"warn","counts":{"pass":3,"warn":1,"fail":0}}', 'bo' FROM designs`,
 	} {
 		if _, err := conn.Exec(ctx, q); err != nil {
 			t.Fatalf("%s: %v", q, err)
@@ -117,13 +117,21 @@ func TestExportImportRoundTripIsByteIdentical(t *testing.T) {
 		t.Error("export carries token material")
 	}
 
-	dst, _ := storetest.NewStore(t)
+	dst, dstURL := storetest.NewStore(t)
 	if err := dst.Import(ctx, snap); err != nil {
 		t.Fatal(err)
 	}
 	second := exportBytes(t, dst)
 	if !bytes.Equal(first, second) {
 		t.Fatalf("export after import differs:\nfirst:\n%s\nsecond:\n%s", first, second)
+	}
+	// JSON the service keeps as written comes back as written, not in the
+	// export file's layout.
+	for _, q := range []string{`SELECT string_agg(body::text, '|' ORDER BY version) FROM limits`,
+		`SELECT string_agg(report::text, '|' ORDER BY id) FROM reviews`} {
+		if a, b := queryText(t, srcURL, q), queryText(t, dstURL, q); a != b {
+			t.Errorf("%s: stored %q, restored %q", q, a, b)
+		}
 	}
 
 	// New records continue after the restored ids instead of colliding.
@@ -140,6 +148,21 @@ func TestExportImportRoundTripIsByteIdentical(t *testing.T) {
 	if _, err := dst.CreateToken(ctx, "test", "ada", domain.RoleStaff); err != nil {
 		t.Errorf("mint token for restored user: %v", err)
 	}
+}
+
+func queryText(t *testing.T, dbURL, q string) string {
+	t.Helper()
+	ctx := context.Background()
+	conn, err := pgx.Connect(ctx, dbURL)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close(ctx)
+	var s string
+	if err := conn.QueryRow(ctx, q).Scan(&s); err != nil {
+		t.Fatalf("%s: %v", q, err)
+	}
+	return s
 }
 
 func TestImportRefusesANonEmptyDatabase(t *testing.T) {
