@@ -1,0 +1,181 @@
+package web
+
+import (
+	"encoding/json"
+	"io/fs"
+	"math"
+	"os"
+	"path"
+	"regexp"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"wattshelf"
+	"wattshelf/domain"
+	"wattshelf/domain/review"
+)
+
+// demoShelf is the invented demo shelf with the ids SeedDemo gives it:
+// 1, 2, … in file order.
+func demoShelf(t *testing.T) []domain.Component {
+	t.Helper()
+	raw, err := fs.ReadFile(wattshelf.DemoFiles, "testdata/demo/components.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ins []domain.ComponentInput
+	if err := json.Unmarshal(raw, &ins); err != nil {
+		t.Fatal(err)
+	}
+	out := make([]domain.Component, len(ins))
+	for i, in := range ins {
+		in.Defaults()
+		out[i] = domain.Component{ID: int64(i + 1), ComponentInput: in, Version: 1,
+			UpdatedAt: time.Date(2026, 3, 1, 12, 0, 0, 0, time.UTC)}
+	}
+	return out
+}
+
+// demoDesignNames lists the demo designs.
+func demoDesignNames(t *testing.T) []string {
+	t.Helper()
+	names, err := fs.Glob(wattshelf.DemoFiles, "testdata/demo/designs/*.json")
+	if err != nil || len(names) == 0 {
+		t.Fatalf("no demo designs: %v", err)
+	}
+	return names
+}
+
+// demoReport reviews one demo design with the default limits, as the
+// service does, and returns what the report page renders.
+func demoReport(t *testing.T, name string) ReportInput {
+	t.Helper()
+	raw, err := fs.ReadFile(wattshelf.DemoFiles, name)
+	if err != nil {
+		t.Fatal(err)
+	}
+	doc, err := domain.DecodeDesign(raw)
+	if err != nil {
+		t.Fatalf("%s: %v", name, err)
+	}
+	comps := map[int64]domain.Component{}
+	for _, c := range demoShelf(t) {
+		comps[c.ID] = c
+	}
+	limits := review.DefaultLimits()
+	rep, err := review.Review(doc, limits, 1, comps)
+	if err != nil {
+		t.Fatalf("review %s: %v", name, err)
+	}
+	return ReportInput{Report: rep, Design: &doc, DesignName: doc.Name,
+		ReviewedAt: time.Date(2026, 3, 2, 9, 30, 0, 0, time.UTC), Chemistries: limits.Chemistries, Components: comps}
+}
+
+func mustViews(t *testing.T) *views {
+	t.Helper()
+	v, err := newViews()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return v
+}
+
+func renderReportHTML(t *testing.T, v *views, in ReportInput) string {
+	t.Helper()
+	var b strings.Builder
+	if err := v.renderReport(&b, in); err != nil {
+		t.Fatal(err)
+	}
+	return b.String()
+}
+
+// TestWriteDemoReports writes the demo reports to files for a person to
+// look at: go test ./api/web -run TestWriteDemoReports -out DIR.
+func TestWriteDemoReports(t *testing.T) {
+	dir := os.Getenv("WATTSHELF_WEB_OUT")
+	if dir == "" {
+		t.Skip("set WATTSHELF_WEB_OUT to a directory to write the demo reports there")
+	}
+	v := mustViews(t)
+	for _, name := range demoDesignNames(t) {
+		html := renderReportHTML(t, v, demoReport(t, name))
+		out := path.Join(dir, strings.TrimSuffix(path.Base(name), ".json")+".html")
+		if err := os.WriteFile(out, []byte(html), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+}
+
+var (
+	limitingBrownout = regexp.MustCompile(`^brownout of (\S+) at ([0-9.]+) V`)
+	nodeGroup        = regexp.MustCompile(`<g class="node" data-node="([^"]*)" data-status="([^"]*)"`)
+	plotSVG          = regexp.MustCompile(`<svg class="plot"`)
+)
+
+func TestReportTreeHasEveryNode(t *testing.T) {
+	v := mustViews(t)
+	for _, name := range demoDesignNames(t) {
+		t.Run(path.Base(name), func(t *testing.T) {
+			in := demoReport(t, name)
+			html := renderReportHTML(t, v, in)
+			got := nodeGroup.FindAllStringSubmatch(html, -1)
+			if len(got) != len(in.Design.Nodes) {
+				t.Fatalf("tree draws %d nodes, the design has %d", len(got), len(in.Design.Nodes))
+			}
+			worst := worstByNode(in.Report.Checks)
+			for i, m := range got {
+				if m[1] != in.Design.Nodes[i].ID {
+					t.Errorf("box %d is %q, want %q", i, m[1], in.Design.Nodes[i].ID)
+				}
+				want := "none"
+				if s, ok := worst[m[1]]; ok {
+					want = string(s)
+				}
+				if m[2] != want {
+					t.Errorf("box %s marked %q, its worst finding is %q", m[1], m[2], want)
+				}
+			}
+			batteries := 0
+			for _, n := range in.Design.Nodes {
+				if n.Type == domain.NodeBattery {
+					batteries++
+				}
+			}
+			if n := len(plotSVG.FindAllString(html, -1)); n != batteries {
+				t.Errorf("%d discharge plots for %d batteries", n, batteries)
+			}
+		})
+	}
+}
+
+// The brownout lines are computed here from the report's feed drops and
+// the document; the engine words the one that limits the runtime. Both
+// must name the same voltage.
+func TestBrownoutLinesAgreeWithTheEngine(t *testing.T) {
+	checked := 0
+	for _, name := range demoDesignNames(t) {
+		in := demoReport(t, name)
+		lines := brownoutVoltages(resolveNodes(*in.Design, in.Components), in.Report)
+		for _, r := range in.Report.Runtime {
+			m := limitingBrownout.FindStringSubmatch(r.LimitedBy)
+			if m == nil {
+				continue
+			}
+			node := m[1]
+			want, err := strconv.ParseFloat(m[2], 64)
+			if err != nil {
+				t.Fatalf("%s: cannot read %q", name, r.LimitedBy)
+			}
+			got := lines[r.Source]
+			if len(got) == 0 || got[0].node != node || math.Abs(got[0].packV-want) > 0.06 {
+				t.Errorf("%s: engine says %q; the plot's highest brownout line is %+v", name, r.LimitedBy, got)
+			}
+			checked++
+		}
+	}
+	if checked == 0 {
+		t.Fatal("no demo design is limited by a brownout, so nothing was compared")
+	}
+}

@@ -1,0 +1,204 @@
+package web
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"slices"
+	"time"
+
+	"wattshelf/domain"
+	"wattshelf/domain/electric"
+	"wattshelf/domain/review"
+)
+
+// ReportInput is everything the printable report shows. Rendering is a
+// pure function of it: the handler only loads it.
+type ReportInput struct {
+	Report review.Report
+	// Design is the document reviewed, or nil when it is no longer stored
+	// as it was (the design changed or was deleted since): the tree is then
+	// drawn from the report alone, without connectors or discharge plots.
+	Design     *domain.Design
+	DesignName string
+	ReviewedAt time.Time
+	// Chemistries are the limits set's, for the discharge curves.
+	Chemistries []electric.Chemistry
+	// Components are the shelf records the design's nodes name; they fill
+	// what a node leaves out, as they did for the review.
+	Components map[int64]domain.Component
+}
+
+// reportPage is the report's view model.
+type reportPage struct {
+	DesignName    string
+	Status        string
+	Headline      string
+	Counts        review.Counts
+	LimitsVersion int
+	EngineVersion string
+	ReviewedAt    time.Time
+	Tree          treeDiagram
+	Plots         []dischargePlot
+	Groups        []findingGroup
+	Runtime       []runtimeRow
+	Nodes         []review.NodeResult
+	Cautions      []string
+	// DesignChanged says the diagrams lack what only the document held.
+	DesignChanged bool
+}
+
+type findingGroup struct {
+	Node   string
+	Type   string
+	Worst  string
+	Checks []review.Check
+}
+
+type runtimeRow struct {
+	Source      string
+	Hours       *float64
+	UsableShare float64
+	LimitedBy   string
+}
+
+func (v *views) renderReport(w io.Writer, in ReportInput) error {
+	return v.report.ExecuteTemplate(w, "page", reportView(in))
+}
+
+// chemistriesOf reads the chemistry table out of a stored limits body.
+func chemistriesOf(body json.RawMessage) ([]electric.Chemistry, error) {
+	var l struct {
+		Chemistries []electric.Chemistry `json:"chemistries"`
+	}
+	if err := json.Unmarshal(body, &l); err != nil {
+		return nil, fmt.Errorf("decode chemistries: %w", err)
+	}
+	return l.Chemistries, nil
+}
+
+func reportView(in ReportInput) reportPage {
+	rep := in.Report
+	page := reportPage{
+		DesignName: in.DesignName, Status: string(rep.Status), Counts: rep.Counts,
+		LimitsVersion: rep.LimitsVersion, EngineVersion: rep.EngineVersion, ReviewedAt: in.ReviewedAt,
+		Nodes: rep.Nodes, Cautions: rep.Cautions,
+	}
+	if page.DesignName == "" {
+		page.DesignName = "Untitled design"
+	}
+	page.Headline = headline(rep)
+	worst := worstByNode(rep.Checks)
+	var nodes []domain.Node
+	if in.Design != nil {
+		nodes = resolveNodes(*in.Design, in.Components)
+		page.Plots = dischargePlots(nodes, rep, in.Chemistries)
+	} else {
+		page.DesignChanged = true
+	}
+	page.Tree = layoutTree(rep, nodes, worst)
+	page.Groups = groupFindings(rep.Nodes, rep.Checks, worst)
+	for _, r := range rep.Runtime {
+		page.Runtime = append(page.Runtime, runtimeRow(r))
+	}
+	return page
+}
+
+func headline(rep review.Report) string {
+	switch rep.Status {
+	case review.Pass:
+		return fmt.Sprintf("Every one of the %d checks passed. Inspect the build before you connect the battery all the same.", rep.Counts.Pass)
+	case review.Warn:
+		return fmt.Sprintf("No check failed, but %d finding(s) need a look before you connect the battery.", rep.Counts.Warn)
+	case review.Fail:
+		return fmt.Sprintf("%d check(s) failed. Do not connect the battery until they are put right.", rep.Counts.Fail)
+	case review.OutOfScope:
+		return "This design includes mains or a source above the voltage these checks are written for. It is out of scope and can never pass here: read the cautions."
+	}
+	return "This review has no overall status."
+}
+
+// severity orders statuses from harmless to worst.
+func severity(s review.Status) int {
+	return slices.Index([]review.Status{review.Pass, review.Warn, review.Fail, review.OutOfScope}, s)
+}
+
+// worstByNode is each node's worst finding; "" keys the whole-design checks.
+func worstByNode(checks []review.Check) map[string]review.Status {
+	worst := map[string]review.Status{}
+	for _, c := range checks {
+		if w, ok := worst[c.Node]; !ok || severity(c.Status) > severity(w) {
+			worst[c.Node] = c.Status
+		}
+	}
+	return worst
+}
+
+// groupFindings lists the checks per node in the design's order, worst
+// first within a node, with the whole-design checks at the top.
+func groupFindings(nodes []review.NodeResult, checks []review.Check, worst map[string]review.Status) []findingGroup {
+	byNode := map[string][]review.Check{}
+	for _, c := range checks {
+		byNode[c.Node] = append(byNode[c.Node], c)
+	}
+	var groups []findingGroup
+	add := func(id, typ string) {
+		cs := byNode[id]
+		if len(cs) == 0 {
+			return
+		}
+		slices.SortStableFunc(cs, func(a, b review.Check) int { return severity(b.Status) - severity(a.Status) })
+		groups = append(groups, findingGroup{Node: id, Type: typ, Worst: string(worst[id]), Checks: cs})
+		delete(byNode, id)
+	}
+	add("", "")
+	for _, n := range nodes {
+		add(n.ID, n.Type)
+	}
+	// Checks on a node the document does not name would be an engine bug;
+	// show them rather than lose them.
+	rest := make([]string, 0, len(byNode))
+	for id := range byNode {
+		rest = append(rest, id)
+	}
+	slices.Sort(rest)
+	for _, id := range rest {
+		add(id, "")
+	}
+	return groups
+}
+
+// resolveNodes fills each node's diagram-relevant fields from its
+// component, the node's own fields winning, as the review did.
+func resolveNodes(d domain.Design, comps map[int64]domain.Component) []domain.Node {
+	out := make([]domain.Node, len(d.Nodes))
+	for i, n := range d.Nodes {
+		if n.ComponentID != nil {
+			if c, ok := comps[*n.ComponentID]; ok {
+				e := c.Electrical
+				fill(&n.MinV, e.MinV)
+				fill(&n.MaxV, e.MaxV)
+				fill(&n.OutputV, e.OutputV)
+				fill(&n.DropoutV, e.DropoutV)
+				fill(&n.MinInputV, e.MinInputV)
+				fill(&n.Series, e.Series)
+				fill(&n.Parallel, e.Parallel)
+				if n.Topology == "" {
+					n.Topology = e.Topology
+				}
+				if n.Chemistry == "" {
+					n.Chemistry = e.Chemistry
+				}
+			}
+		}
+		out[i] = n
+	}
+	return out
+}
+
+func fill[T any](dst **T, src *T) {
+	if *dst == nil && src != nil {
+		v := *src
+		*dst = &v
+	}
+}

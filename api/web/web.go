@@ -1,0 +1,286 @@
+// Package web serves wattshelf's HTML pages: the shelf kiosk for a wall
+// screen, one public page per component with its QR code, and the
+// printable report of a stored review. Pages are rendered on the server
+// with html/template and read without JavaScript; the kiosk's only script
+// keeps it current. Templates, styles and the script are embedded, so
+// nothing a page uses comes from outside the service.
+package web
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"log/slog"
+	"net/http"
+	"strconv"
+	"strings"
+	"time"
+	"unicode/utf8"
+
+	"github.com/labstack/echo/v4"
+
+	"wattshelf/domain"
+	"wattshelf/domain/store"
+)
+
+// Source is what the pages read; *store.Store provides it.
+type Source interface {
+	Shelf(ctx context.Context) ([]domain.ShelfItem, error)
+	Component(ctx context.Context, id int64) (domain.Component, error)
+	ComponentsByID(ctx context.Context, ids []int64) (map[int64]domain.Component, error)
+	ReviewByShareID(ctx context.Context, shareID string) (store.StoredReview, error)
+	Design(ctx context.Context, id int64) (store.StoredDesign, error)
+	Limits(ctx context.Context, version int) (store.LimitsSet, error)
+}
+
+// Deps are the page handlers' dependencies.
+type Deps struct {
+	Source Source
+	Logger *slog.Logger
+	// PublicBaseURL is printed into QR codes; empty means the scheme and
+	// host the request came to.
+	PublicBaseURL string
+}
+
+// Kiosk refresh bounds. A test may ask for a shorter interval with
+// ?refresh_s=N; nobody can make the kiosk poll faster than once a second.
+const (
+	defaultRefresh = 15 * time.Second
+	minRefresh     = time.Second
+	maxRefresh     = 30 * time.Second
+)
+
+type pages struct {
+	deps  Deps
+	views *views
+}
+
+// Register adds the HTML routes and their assets to e.
+func Register(e *echo.Echo, deps Deps) error {
+	if deps.Source == nil || deps.Logger == nil {
+		return errors.New("web pages need a source and a logger")
+	}
+	v, err := newViews()
+	if err != nil {
+		return err
+	}
+	p := &pages{deps: deps, views: v}
+	// Per route, not a group: a group's middleware would also claim every
+	// unmatched path of the whole service.
+	e.GET("/shelf", p.kiosk, securityHeaders)
+	e.GET("/shelf/:id", p.component, securityHeaders)
+	e.GET("/shelf/:id/qr.svg", p.qrSVG, securityHeaders)
+	e.GET("/shelf/:id/qr.png", p.qrPNG, securityHeaders)
+	e.GET("/reports/:share_id", p.report, securityHeaders)
+	e.GET("/assets/:name", p.asset, securityHeaders)
+	return nil
+}
+
+// contentSecurityPolicy allows only the service's own files: no inline
+// script or style, no plugins, no framing, forms only back to us.
+const contentSecurityPolicy = "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self'; " +
+	"connect-src 'self'; font-src 'self'; object-src 'none'; base-uri 'none'; form-action 'self'; " +
+	"frame-ancestors 'none'"
+
+// securityHeaders go on every response of these routes, error pages too.
+// no-referrer keeps a report's share id out of other sites' logs.
+func securityHeaders(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		h := c.Response().Header()
+		h.Set("Content-Security-Policy", contentSecurityPolicy)
+		h.Set("X-Content-Type-Options", "nosniff")
+		h.Set("Referrer-Policy", "no-referrer")
+		h.Set("X-Frame-Options", "DENY")
+		h.Set("Cross-Origin-Opener-Policy", "same-origin")
+		h.Set("Permissions-Policy", "camera=(), microphone=(), geolocation=()")
+		return next(c)
+	}
+}
+
+// shelfFilter is what the kiosk's search form asks for.
+type shelfFilter struct {
+	Query string
+	Kind  string
+}
+
+func (p *pages) kiosk(c echo.Context) error {
+	items, err := p.deps.Source.Shelf(c.Request().Context())
+	if err != nil {
+		return p.failure(c, err)
+	}
+	f := shelfFilter{Query: limitText(c.QueryParam("q"), domain.MaxNameLen), Kind: c.QueryParam("kind")}
+	refresh := defaultRefresh
+	if s, err := strconv.Atoi(c.QueryParam("refresh_s")); err == nil {
+		refresh = min(max(time.Duration(s)*time.Second, minRefresh), maxRefresh)
+	}
+	return p.html(c, http.StatusOK, func(w *strings.Builder) error {
+		return p.views.renderKiosk(w, kioskView(items, f, refresh))
+	})
+}
+
+func (p *pages) component(c echo.Context) error {
+	id, ok := parseID(c.Param("id"))
+	if !ok {
+		return p.notFound(c, "There is no component with that number on the shelf.")
+	}
+	comp, err := p.deps.Source.Component(c.Request().Context(), id)
+	if errors.Is(err, domain.ErrNotFound) {
+		return p.notFound(c, "There is no component with that number on the shelf.")
+	}
+	if err != nil {
+		return p.failure(c, err)
+	}
+	address := p.componentAddress(c, id)
+	return p.html(c, http.StatusOK, func(w *strings.Builder) error {
+		return p.views.renderComponent(w, componentView(comp.Public(), address))
+	})
+}
+
+func (p *pages) qrSVG(c echo.Context) error { return p.qr(c, false) }
+func (p *pages) qrPNG(c echo.Context) error { return p.qr(c, true) }
+
+// qr encodes the component page's address. The component must exist, so a
+// code is never printed for a page that would be a 404.
+func (p *pages) qr(c echo.Context, png bool) error {
+	id, ok := parseID(c.Param("id"))
+	if !ok {
+		return p.notFound(c, "There is no component with that number on the shelf.")
+	}
+	if _, err := p.deps.Source.Component(c.Request().Context(), id); errors.Is(err, domain.ErrNotFound) {
+		return p.notFound(c, "There is no component with that number on the shelf.")
+	} else if err != nil {
+		return p.failure(c, err)
+	}
+	address := p.componentAddress(c, id)
+	c.Response().Header().Set("Cache-Control", "no-cache")
+	if png {
+		body, err := qrPNG(address, 8)
+		if err != nil {
+			return p.failure(c, err)
+		}
+		return c.Blob(http.StatusOK, "image/png", body)
+	}
+	body, err := qrSVG(address)
+	if err != nil {
+		return p.failure(c, err)
+	}
+	return c.Blob(http.StatusOK, "image/svg+xml", body)
+}
+
+func (p *pages) report(c echo.Context) error {
+	rec, err := p.deps.Source.ReviewByShareID(c.Request().Context(), c.Param("share_id"))
+	if errors.Is(err, domain.ErrNotFound) {
+		return p.notFound(c, "No report is shared under this address. Check the link you were sent.")
+	}
+	if err != nil {
+		return p.failure(c, err)
+	}
+	in, err := p.reportInput(c.Request().Context(), rec)
+	if err != nil {
+		return p.failure(c, err)
+	}
+	c.Response().Header().Set("X-Robots-Tag", "noindex")
+	c.Response().Header().Set("Cache-Control", "private, no-cache")
+	return p.html(c, http.StatusOK, func(w *strings.Builder) error {
+		return p.views.renderReport(w, in)
+	})
+}
+
+// reportInput gathers what the report page shows. A review stores its
+// report and the digest of the document it read, not the document: the
+// design's current text is used only while its digest still matches.
+func (p *pages) reportInput(ctx context.Context, rec store.StoredReview) (ReportInput, error) {
+	in := ReportInput{DesignName: rec.DesignName, ReviewedAt: rec.CreatedAt}
+	if err := json.Unmarshal(rec.Report, &in.Report); err != nil {
+		return in, fmt.Errorf("decode stored report of review %d: %w", rec.ID, err)
+	}
+	design, err := p.deps.Source.Design(ctx, rec.DesignID)
+	if errors.Is(err, domain.ErrNotFound) {
+		return in, nil
+	}
+	if err != nil {
+		return in, err
+	}
+	if store.DocumentDigest([]byte(design.Document)) != rec.DocumentSHA256 {
+		return in, nil
+	}
+	var doc domain.Design
+	if err := json.Unmarshal([]byte(design.Document), &doc); err != nil {
+		return in, fmt.Errorf("decode document of design %d: %w", design.ID, err)
+	}
+	in.Design = &doc
+	if in.Components, err = p.deps.Source.ComponentsByID(ctx, doc.ComponentIDs()); err != nil {
+		return in, err
+	}
+	limits, err := p.deps.Source.Limits(ctx, rec.LimitsVersion)
+	if err != nil {
+		return in, fmt.Errorf("limits v%d for review %d: %w", rec.LimitsVersion, rec.ID, err)
+	}
+	if in.Chemistries, err = chemistriesOf(limits.Body); err != nil {
+		return in, fmt.Errorf("limits v%d for review %d: %w", rec.LimitsVersion, rec.ID, err)
+	}
+	return in, nil
+}
+
+// componentAddress is the public address of a component's page.
+func (p *pages) componentAddress(c echo.Context, id int64) string {
+	base := strings.TrimRight(p.deps.PublicBaseURL, "/")
+	if base == "" {
+		base = c.Scheme() + "://" + c.Request().Host
+	}
+	return base + "/shelf/" + strconv.FormatInt(id, 10)
+}
+
+// html renders into a buffer first, so a template error becomes an error
+// page instead of half a page.
+func (p *pages) html(c echo.Context, status int, render func(*strings.Builder) error) error {
+	var b strings.Builder
+	if err := render(&b); err != nil {
+		return p.failure(c, fmt.Errorf("render %s: %w", c.Path(), err))
+	}
+	return c.HTMLBlob(status, []byte(b.String()))
+}
+
+func (p *pages) notFound(c echo.Context, message string) error {
+	var b strings.Builder
+	if err := p.views.renderError(&b, errorView{Status: http.StatusNotFound, Title: "Not found", Message: message}); err != nil {
+		return err
+	}
+	return c.HTMLBlob(http.StatusNotFound, []byte(b.String()))
+}
+
+// failure logs what went wrong and shows a page that leaks none of it.
+func (p *pages) failure(c echo.Context, err error) error {
+	status, title, message := http.StatusInternalServerError, "Something went wrong",
+		"The page could not be shown. The error has been logged; please tell the staff."
+	if errors.Is(err, domain.ErrUnavailable) || store.IsUnavailable(err) {
+		status, title, message = http.StatusServiceUnavailable, "Try again shortly",
+			"The shelf's database cannot be reached right now."
+		c.Response().Header().Set("Retry-After", "5")
+	}
+	p.deps.Logger.Error("page failed", "path", c.Request().URL.Path,
+		"request_id", c.Response().Header().Get(echo.HeaderXRequestID), "error", err.Error())
+	var b strings.Builder
+	if rerr := p.views.renderError(&b, errorView{Status: status, Title: title, Message: message}); rerr != nil {
+		return errors.Join(err, rerr)
+	}
+	return c.HTMLBlob(status, []byte(b.String()))
+}
+
+func parseID(s string) (int64, bool) {
+	id, err := strconv.ParseInt(s, 10, 64)
+	return id, err == nil && id > 0
+}
+
+// limitText cuts s to at most n bytes on a rune boundary.
+func limitText(s string, n int) string {
+	if len(s) <= n {
+		return s
+	}
+	s = s[:n]
+	for len(s) > 0 && !utf8.ValidString(s) {
+		s = s[:len(s)-1]
+	}
+	return s
+}
