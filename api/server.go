@@ -88,6 +88,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	v1 := e.Group("/v1")
 	s.registerShelfRoutes(v1)
 	s.registerDesignRoutes(e, v1)
+	s.registerPages(e)
 	return e, nil
 }
 
