@@ -1,0 +1,228 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"io"
+	"log/slog"
+	"net"
+	"net/http/httptest"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/prometheus/client_golang/prometheus"
+
+	"wattshelf/api"
+	"wattshelf/domain"
+	"wattshelf/domain/store/storetest"
+)
+
+// Designs for the review command, each with the reason for its status.
+var reviewCLIDesigns = map[string]string{
+	// A 5 V bench supply to a 5 V lamp over a short, fused lead: 0.5 A in
+	// 0.3 m of 22 AWG drops about 0.016 V, nothing near any limit.
+	"pass.json": `{"format": 1, "name": "Bench lamp", "ambient_c": 25,
+	 "nodes": [
+	  {"id": "bench", "type": "supply", "output_v": 5, "max_a": 2},
+	  {"id": "lamp", "type": "load", "min_v": 4.5, "max_v": 5.5, "current_a": 0.5,
+	   "feed": {"from": "bench", "wire": {"gauge": "22AWG", "length_m": 0.3},
+	            "fuse": {"rating_a": 1, "speed": "fast", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
+	// Four 2000 mAh cells at 1 A average last at most 2 h, short of the
+	// 10 h asked: a source.runtime warning (DESIGN section 7).
+	"warn.json": `{"format": 1, "name": "Desk fan", "ambient_c": 25, "target_runtime_h": 10,
+	 "nodes": [
+	  {"id": "pack", "type": "battery", "chemistry": "nimh", "series": 4, "parallel": 1, "cell_capacity_mah": 2000,
+	   "cell_full_v": 1.4, "cell_nominal_v": 1.2, "cell_cutoff_v": 1.0},
+	  {"id": "fan", "type": "load", "min_v": 3, "max_v": 6, "current_a": 1,
+	   "feed": {"from": "pack", "wire": {"gauge": "22AWG", "length_m": 0.2},
+	            "fuse": {"rating_a": 2, "speed": "slow", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
+	// Ten NiMH cells (10 × 1.4 V = 14 V full) on a part rated 5.5 V at most.
+	"fail.json": `{"format": 1, "name": "Cooked sensor",
+	 "nodes": [
+	  {"id": "pack", "type": "battery", "chemistry": "nimh", "series": 10, "parallel": 1,
+	   "cell_capacity_mah": 2000, "cell_full_v": 1.4, "cell_nominal_v": 1.2, "cell_cutoff_v": 1.0},
+	  {"id": "sensor", "type": "load", "min_v": 4.5, "max_v": 5.5, "current_a": 0.05,
+	   "feed": {"from": "pack", "wire": {"gauge": "22AWG", "length_m": 0.2},
+	            "fuse": {"rating_a": 1, "speed": "fast", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
+	// A supply that includes its mains side is out of scope (DESIGN section 7).
+	"mains.json": `{"format": 1, "name": "Wall adapter lamp",
+	 "nodes": [
+	  {"id": "adapter", "type": "supply", "output_v": 12, "max_a": 1, "mains": true},
+	  {"id": "lamp", "type": "load", "min_v": 11, "max_v": 13, "current_a": 0.2,
+	   "feed": {"from": "adapter", "wire": {"gauge": "22AWG", "length_m": 0.5},
+	            "fuse": {"rating_a": 0.5, "speed": "fast", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
+	"malformed.json": `{"format": 1, "name": "Toaster", "nodes": [{"id": "t", "type": "toaster"}]}`,
+	"broken.json":    `{"format": 1, "nodes": [`,
+}
+
+// reviewCLIServer serves the real router on a database of the test's own
+// and writes the designs into a directory, returning both.
+func reviewCLIServer(t *testing.T, cfg api.Config) (url, dir, memberToken string) {
+	t.Helper()
+	st, _ := storetest.NewStore(t)
+	cfg.Store, cfg.Logger, cfg.Registry = st, slog.New(slog.NewTextHandler(io.Discard, nil)), prometheus.NewRegistry()
+	router, err := api.New(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	srv := httptest.NewServer(router)
+	t.Cleanup(srv.Close)
+	secret, err := st.CreateToken(context.Background(), "test", "ada", domain.RoleMember)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir = t.TempDir()
+	for name, doc := range reviewCLIDesigns {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(doc), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return srv.URL, dir, secret
+}
+
+// closedPort returns an address where nothing listens.
+func closedPort(t *testing.T) string {
+	t.Helper()
+	ln, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	addr := ln.Addr().String()
+	ln.Close()
+	return "http://" + addr
+}
+
+func reviewExitOf(err error) int {
+	if err == nil {
+		return 0
+	}
+	var ee *exitError
+	if errors.As(err, &ee) {
+		return ee.code
+	}
+	return -1
+}
+
+func TestReviewCommandExitCodes(t *testing.T) {
+	url, dir, token := reviewCLIServer(t, api.Config{ReviewBurst: 1000})
+	file := func(name string) string { return filepath.Join(dir, name) }
+	noEnv := func(string) string { return "" }
+	cases := []struct {
+		name   string
+		args   []string
+		getenv func(string) string
+		want   int
+		stdout []string // each must appear on standard output
+		stderr []string // each must appear on standard error
+	}{
+		{"pass", []string{file("pass.json"), "--server", url}, noEnv, 0, []string{"pass.json: PASS"}, nil},
+		{"warn under the default fail-on", []string{file("warn.json"), "--server", url}, noEnv, 0,
+			[]string{"warn.json: WARN", "warn source.runtime at pack: 2 h (limit 10 h)"}, nil},
+		{"warn with --fail-on warn", []string{"--fail-on", "warn", file("warn.json"), "--server", url}, noEnv, 1, []string{"WARN"}, nil},
+		{"fail", []string{"--server", url, file("fail.json")}, noEnv, 1,
+			[]string{"fail.json: FAIL", "fail voltage.range at sensor: 14 V (limit 5.5 V)"}, nil},
+		{"out of scope counts as failing", []string{file("mains.json"), "--server", url}, noEnv, 1,
+			[]string{"OUT_OF_SCOPE", "out_of_scope scope.mains at adapter"}, nil},
+		{"the worst file decides", []string{file("pass.json"), file("fail.json"), "--server", url}, noEnv, 1,
+			[]string{"PASS", "FAIL"}, nil},
+		{"a document the service rejects", []string{file("malformed.json"), "--server", url}, noEnv, 2,
+			nil, []string{"rejected (HTTP 422)", "/nodes/0/type"}},
+		{"broken JSON", []string{file("broken.json"), "--server", url}, noEnv, 2, nil, []string{"rejected (HTTP 400)"}},
+		{"rejection outranks a failing design", []string{file("fail.json"), file("broken.json"), "--server", url}, noEnv, 2, []string{"FAIL"}, nil},
+		{"a file that is not there", []string{file("absent.json"), "--server", url}, noEnv, 2, nil, []string{"cannot read"}},
+		{"a closed port", []string{file("pass.json"), "--server", closedPort(t)}, noEnv, 3, nil, []string{"cannot reach"}},
+		{"server from the environment", []string{file("pass.json")}, func(k string) string {
+			if k == "WATTSHELF_SERVER" {
+				return url
+			}
+			return ""
+		}, 0, []string{"PASS"}, nil},
+		{"with a token", []string{file("pass.json"), "--server", url, "--token", token}, noEnv, 0, []string{"PASS"}, nil},
+		{"with an unknown token", []string{file("pass.json"), "--server", url, "--token", "wsh_nope"}, noEnv, 2, nil, []string{"HTTP 401"}},
+		{"an old limits version that is not stored", []string{file("pass.json"), "--server", url, "--limits-version", "9"}, noEnv, 2, nil, []string{"limits_version"}},
+		{"no files", []string{"--server", url}, noEnv, 2, nil, []string{"usage: wattshelf review"}},
+		{"a bad --fail-on", []string{file("pass.json"), "--fail-on", "never"}, noEnv, 2, nil, []string{"usage: wattshelf review"}},
+		{"a bad --server", []string{file("pass.json"), "--server", "ftp://x"}, noEnv, 2, nil, []string{"usage: wattshelf review"}},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			var stdout, stderr bytes.Buffer
+			err := run(t.Context(), append([]string{"review"}, tc.args...), tc.getenv, &stdout, &stderr)
+			if got := reviewExitOf(err); got != tc.want {
+				t.Fatalf("exit %d (%v), want %d\nstdout: %s\nstderr: %s", got, err, tc.want, stdout.String(), stderr.String())
+			}
+			for _, want := range tc.stdout {
+				if !strings.Contains(stdout.String(), want) {
+					t.Errorf("stdout lacks %q:\n%s", want, stdout.String())
+				}
+			}
+			for _, want := range tc.stderr {
+				if !strings.Contains(stderr.String()+reviewErrText(err), want) {
+					t.Errorf("stderr lacks %q:\n%s", want, stderr.String())
+				}
+			}
+		})
+	}
+}
+
+func TestReviewCommandJSON(t *testing.T) {
+	url, dir, _ := reviewCLIServer(t, api.Config{ReviewBurst: 1000})
+	var stdout, stderr bytes.Buffer
+	err := run(t.Context(), []string{"review", "--json", filepath.Join(dir, "warn.json"), filepath.Join(dir, "fail.json"), "--server", url},
+		func(string) string { return "" }, &stdout, &stderr)
+	if reviewExitOf(err) != 1 {
+		t.Fatalf("exit %d, want 1: %s", reviewExitOf(err), stderr.String())
+	}
+	dec := json.NewDecoder(&stdout)
+	var statuses []string
+	for dec.More() {
+		var rep struct {
+			Status   string   `json:"status"`
+			Cautions []string `json:"cautions"`
+		}
+		if err := dec.Decode(&rep); err != nil {
+			t.Fatal(err)
+		}
+		if len(rep.Cautions) == 0 {
+			t.Fatal("a report without its cautions")
+		}
+		statuses = append(statuses, rep.Status)
+	}
+	if strings.Join(statuses, ",") != "warn,fail" {
+		t.Fatalf("reports %v, want warn then fail", statuses)
+	}
+}
+
+func TestReviewCommandReadsStandardInput(t *testing.T) {
+	url, _, _ := reviewCLIServer(t, api.Config{ReviewBurst: 1000})
+	var stdout, stderr bytes.Buffer
+	err := reviewCommand(t.Context(), []string{"-", "--server", url}, func(string) string { return "" },
+		strings.NewReader(reviewCLIDesigns["fail.json"]), &stdout, &stderr)
+	if reviewExitOf(err) != 1 || !strings.Contains(stdout.String(), "-: FAIL") {
+		t.Fatalf("exit %d, stdout %q, stderr %q", reviewExitOf(err), stdout.String(), stderr.String())
+	}
+}
+
+func reviewErrText(err error) string {
+	if err == nil {
+		return ""
+	}
+	return err.Error()
+}
+
+// TestReviewCommandWaitsOutTheRateLimit reviews three files against a
+// service allowing one review at once and then two a second: the command
+// waits as Retry-After says instead of giving up.
+func TestReviewCommandWaitsOutTheRateLimit(t *testing.T) {
+	url, dir, _ := reviewCLIServer(t, api.Config{ReviewBurst: 1, ReviewsPerMinute: 120})
+	var stdout, stderr bytes.Buffer
+	pass := filepath.Join(dir, "pass.json")
+	err := run(t.Context(), []string{"review", pass, pass, pass, "--server", url}, func(string) string { return "" }, &stdout, &stderr)
+	if reviewExitOf(err) != 0 || strings.Count(stdout.String(), "PASS") != 3 {
+		t.Fatalf("exit %d, stdout %q, stderr %q; want three passes", reviewExitOf(err), stdout.String(), stderr.String())
+	}
+}
