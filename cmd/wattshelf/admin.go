@@ -20,6 +20,25 @@ func migrateCommand(ctx context.Context, args []string, env environment, stdout 
 	if len(args) == 0 {
 		return &exitError{code: 2, msg: "usage: wattshelf migrate up | down N | status"}
 	}
+	// Usage mistakes are reported before anything touches the database.
+	steps := 0
+	switch args[0] {
+	case "up", "status":
+		if len(args) != 1 {
+			return &exitError{code: 2, msg: fmt.Sprintf("usage: wattshelf migrate %s", args[0])}
+		}
+	case "down":
+		if len(args) != 2 {
+			return &exitError{code: 2, msg: "usage: wattshelf migrate down N"}
+		}
+		n, err := strconv.Atoi(args[1])
+		if err != nil || n < 1 {
+			return &exitError{code: 2, msg: "migrate down needs a positive step count"}
+		}
+		steps = n
+	default:
+		return &exitError{code: 2, msg: fmt.Sprintf("unknown migrate action %q", args[0])}
+	}
 	if err := store.EnsureDatabase(ctx, env.databaseURL); err != nil {
 		return err
 	}
@@ -34,19 +53,9 @@ func migrateCommand(ctx context.Context, args []string, env environment, stdout 
 			return err
 		}
 	case "down":
-		if len(args) != 2 {
-			return &exitError{code: 2, msg: "usage: wattshelf migrate down N"}
-		}
-		n, err := strconv.Atoi(args[1])
-		if err != nil || n < 1 {
-			return &exitError{code: 2, msg: "migrate down needs a positive step count"}
-		}
-		if err := m.Down(n); err != nil {
+		if err := m.Down(steps); err != nil {
 			return err
 		}
-	case "status":
-	default:
-		return &exitError{code: 2, msg: fmt.Sprintf("unknown migrate action %q", args[0])}
 	}
 	st, err := m.Status()
 	if err != nil {
@@ -70,9 +79,34 @@ func seedDemoCommand(ctx context.Context, env environment, stdout io.Writer) err
 }
 
 func tokenCommand(ctx context.Context, args []string, env environment, stdout io.Writer) error {
+	const createUsage = "usage: wattshelf token create --name NAME --role member|staff"
 	if len(args) == 0 {
 		return &exitError{code: 2, msg: "usage: wattshelf token create --name NAME --role member|staff | list | revoke NAME"}
 	}
+	// Usage mistakes are reported before anything touches the database.
+	var name, role string
+	switch args[0] {
+	case "create":
+		fs := flag.NewFlagSet("token create", flag.ContinueOnError)
+		fs.SetOutput(io.Discard)
+		fs.StringVar(&name, "name", "", "who the token is for")
+		fs.StringVar(&role, "role", "member", "member or staff")
+		if err := fs.Parse(args[1:]); err != nil || name == "" || fs.NArg() != 0 {
+			return &exitError{code: 2, msg: createUsage}
+		}
+	case "list":
+		if len(args) != 1 {
+			return &exitError{code: 2, msg: "usage: wattshelf token list"}
+		}
+	case "revoke":
+		if len(args) != 2 {
+			return &exitError{code: 2, msg: "usage: wattshelf token revoke NAME"}
+		}
+		name = args[1]
+	default:
+		return &exitError{code: 2, msg: fmt.Sprintf("unknown token action %q", args[0])}
+	}
+
 	st, err := env.openMigrated(ctx)
 	if err != nil {
 		return err
@@ -80,14 +114,7 @@ func tokenCommand(ctx context.Context, args []string, env environment, stdout io
 	defer st.Close()
 	switch args[0] {
 	case "create":
-		fs := flag.NewFlagSet("token create", flag.ContinueOnError)
-		fs.SetOutput(io.Discard)
-		name := fs.String("name", "", "who the token is for")
-		role := fs.String("role", "member", "member or staff")
-		if err := fs.Parse(args[1:]); err != nil || *name == "" {
-			return &exitError{code: 2, msg: "usage: wattshelf token create --name NAME --role member|staff"}
-		}
-		secret, err := st.CreateToken(ctx, hostActor, *name, domain.Role(*role))
+		secret, err := st.CreateToken(ctx, hostActor, name, domain.Role(role))
 		if err != nil {
 			return fmt.Errorf("create token: %w", err)
 		}
@@ -110,18 +137,14 @@ func tokenCommand(ctx context.Context, args []string, env environment, stdout io
 				ti.CreatedAt.UTC().Format(time.DateTime), formatOptionalTime(ti.LastUsed), state)
 		}
 		return tw.Flush()
-	case "revoke":
-		if len(args) != 2 {
-			return &exitError{code: 2, msg: "usage: wattshelf token revoke NAME"}
-		}
-		n, err := st.RevokeTokens(ctx, hostActor, args[1])
+	default: // revoke
+		n, err := st.RevokeTokens(ctx, hostActor, name)
 		if err != nil {
 			return fmt.Errorf("revoke: %w", err)
 		}
-		fmt.Fprintf(stdout, "revoked %d token(s) of %s\n", n, args[1])
+		fmt.Fprintf(stdout, "revoked %d token(s) of %s\n", n, name)
 		return nil
 	}
-	return &exitError{code: 2, msg: fmt.Sprintf("unknown token action %q", args[0])}
 }
 
 func formatOptionalTime(t *time.Time) string {
