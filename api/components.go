@@ -5,6 +5,7 @@ import (
 	"encoding/base64"
 	"encoding/hex"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"net/http"
@@ -42,19 +43,20 @@ type ComponentPage struct {
 	Next  string             `json:"next,omitempty"`
 }
 
-// ShelfView is the public shelf.
+// ShelfView is the public shelf, or one page of it.
 type ShelfView struct {
 	Items []domain.ShelfItem `json:"items"`
+	Next  string             `json:"next,omitempty"`
 }
 
 // getShelf serves the public shelf with an ETag over its content, so a
 // kiosk polling with If-None-Match costs one query and no body.
 func (s *server) getShelf(c echo.Context) error {
-	items, err := s.store.Shelf(c.Request().Context())
+	view, err := s.shelfView(c)
 	if err != nil {
 		return err
 	}
-	body, err := json.Marshal(ShelfView{Items: items})
+	body, err := json.Marshal(view)
 	if err != nil {
 		return fmt.Errorf("encode shelf: %w", err)
 	}
@@ -66,6 +68,67 @@ func (s *server) getShelf(c echo.Context) error {
 		return c.NoContent(http.StatusNotModified)
 	}
 	return c.JSONBlob(http.StatusOK, body)
+}
+
+// shelfView reads the whole shelf or, given ?limit= or ?cursor= (the
+// next of an earlier page), one page of it in the same order.
+func (s *server) shelfView(c echo.Context) (ShelfView, error) {
+	ctx := c.Request().Context()
+	limitParam, cursorParam := c.QueryParam("limit"), c.QueryParam("cursor")
+	if limitParam == "" && cursorParam == "" {
+		items, err := s.store.Shelf(ctx)
+		return ShelfView{Items: items}, err
+	}
+	limit := defaultPageSize
+	if limitParam != "" {
+		n, err := strconv.Atoi(limitParam)
+		if err != nil || n < 1 || n > maxPageSize {
+			return ShelfView{}, queryProblem("/limit", "must be a whole number from 1 to %d", maxPageSize)
+		}
+		limit = n
+	}
+	var after *store.ShelfCursor
+	if cursorParam != "" {
+		cur, err := decodeShelfCursor(cursorParam)
+		if err != nil {
+			return ShelfView{}, queryProblem("/cursor", "is not a cursor this service issued")
+		}
+		after = &cur
+	}
+	items, more, err := s.store.ShelfPage(ctx, after, limit)
+	if err != nil {
+		return ShelfView{}, err
+	}
+	view := ShelfView{Items: items}
+	if view.Items == nil {
+		view.Items = []domain.ShelfItem{}
+	}
+	if more {
+		last := items[len(items)-1]
+		view.Next = encodeShelfCursor(store.ShelfCursor{Bin: last.Bin, Name: last.Name, ID: last.ID})
+	}
+	return view, nil
+}
+
+// Shelf cursors carry the last item's place in shelf order, opaquely.
+func encodeShelfCursor(cur store.ShelfCursor) string {
+	raw, _ := json.Marshal(cur) // two strings and a number always encode
+	return base64.RawURLEncoding.EncodeToString(raw)
+}
+
+func decodeShelfCursor(s string) (store.ShelfCursor, error) {
+	var cur store.ShelfCursor
+	raw, err := base64.RawURLEncoding.DecodeString(s)
+	if err != nil {
+		return cur, err
+	}
+	if err := decodeStrict(raw, &cur); err != nil {
+		return cur, err
+	}
+	if cur.ID < 1 {
+		return cur, fmt.Errorf("shelf cursor id %d", cur.ID)
+	}
+	return cur, nil
 }
 
 func queryProblem(pointer, format string, args ...any) error {
@@ -230,6 +293,10 @@ func (s *server) replaceComponent(c echo.Context) error {
 	return s.saveComponent(c, id, version, in)
 }
 
+// patchAttempts bounds how often a PATCH with If-Match "*" is merged
+// again after another write got in between its read and its update.
+const patchAttempts = 5
+
 // patchComponent applies a JSON merge patch (RFC 7386) to the stored
 // component and saves the result as a replacement would.
 func (s *server) patchComponent(c echo.Context) error {
@@ -249,31 +316,56 @@ func (s *server) patchComponent(c echo.Context) error {
 	if err := decodeStrict(body, &patch); err != nil {
 		return err
 	}
-	current, err := s.store.Component(c.Request().Context(), id)
-	if err != nil {
-		return err
+	ctx := c.Request().Context()
+	for attempt := 1; ; attempt++ {
+		current, err := s.store.Component(ctx, id)
+		if err != nil {
+			return err
+		}
+		in, err := mergedComponent(current, patch)
+		if err != nil {
+			return err
+		}
+		// The merge was computed from the version just read, so the update
+		// must find that version: otherwise it would overwrite a change made
+		// in between. With "*" the client accepts any version, so merge again.
+		expect := version
+		if expect == 0 {
+			expect = current.Version
+		}
+		comp, err := s.store.UpdateComponent(ctx, currentUser(c), id, expect, in)
+		if version == 0 && errors.Is(err, domain.ErrPreconditionFailed) && attempt < patchAttempts {
+			continue
+		}
+		if err != nil {
+			return err
+		}
+		c.Response().Header().Set("ETag", etagOf(comp.Version))
+		return c.JSON(http.StatusOK, comp)
 	}
+}
+
+// mergedComponent applies patch to current's fields and validates the
+// result as a full replacement.
+func mergedComponent(current domain.Component, patch map[string]any) (domain.ComponentInput, error) {
 	currentJSON, err := json.Marshal(current.ComponentInput)
 	if err != nil {
-		return fmt.Errorf("encode component %d: %w", id, err)
+		return domain.ComponentInput{}, fmt.Errorf("encode component %d: %w", current.ID, err)
 	}
 	var doc map[string]any
 	if err := json.Unmarshal(currentJSON, &doc); err != nil {
-		return fmt.Errorf("decode component %d: %w", id, err)
+		return domain.ComponentInput{}, fmt.Errorf("decode component %d: %w", current.ID, err)
 	}
 	merged, err := json.Marshal(mergePatch(doc, patch))
 	if err != nil {
-		return fmt.Errorf("encode patched component: %w", err)
+		return domain.ComponentInput{}, fmt.Errorf("encode patched component: %w", err)
 	}
 	var in domain.ComponentInput
 	if err := decodeStrict(merged, &in); err != nil {
-		return err
+		return in, err
 	}
 	in.Defaults()
-	if err := in.Validate(); err != nil {
-		return err
-	}
-	return s.saveComponent(c, id, version, in)
+	return in, in.Validate()
 }
 
 // mergePatch applies an RFC 7386 merge patch: null removes, objects merge,

@@ -6,6 +6,7 @@ import (
 	"net/url"
 	"slices"
 	"strings"
+	"sync"
 	"testing"
 
 	"wattshelf/domain"
@@ -279,5 +280,51 @@ func TestShelfIsPublicAndCacheable(t *testing.T) {
 	a.created(a.staff, component("Fuse", "fuse"))
 	if changed := a.do(http.MethodGet, "/v1/shelf", "", nil, "If-None-Match", etag); changed.status != http.StatusOK || changed.header.Get("ETag") == etag {
 		t.Errorf("changed shelf with the old ETag: %d, ETag %q", changed.status, changed.header.Get("ETag"))
+	}
+}
+
+// TestConcurrentPatchesLoseNothing sends merge patches of different fields
+// at once with If-Match "*": each patch that succeeds must still be visible
+// at the end, so none may be computed from a copy another one overwrote.
+func TestConcurrentPatchesLoseNothing(t *testing.T) {
+	a := startShelfAPI(t)
+	c := a.created(a.owner, component("Drill pack", "battery"))
+	path := fmt.Sprintf("/v1/components/%d", c.ID)
+	fields := []string{"min_v", "max_v", "nominal_v", "current_a", "peak_a", "rated_v", "rating_v", "rating_a"}
+	a.url("") // start serving before the goroutines share the harness
+	statuses := make([]int, len(fields))
+	var wg sync.WaitGroup
+	for i, f := range fields {
+		wg.Go(func() {
+			req, _ := http.NewRequest(http.MethodPatch, a.url(path), strings.NewReader(fmt.Sprintf(`{%q: %d}`, f, i+1)))
+			req.Header.Set("Authorization", "Bearer "+a.owner)
+			req.Header.Set("If-Match", "*")
+			resp, err := http.DefaultClient.Do(req)
+			if err != nil {
+				t.Error(err)
+				return
+			}
+			resp.Body.Close()
+			statuses[i] = resp.StatusCode
+		})
+	}
+	wg.Wait()
+	var final map[string]any
+	a.do(http.MethodGet, path, a.owner, nil).decode(t, &final)
+	applied := 0
+	for i, f := range fields {
+		switch statuses[i] {
+		case http.StatusOK:
+			applied++
+			if final[f] != float64(i+1) {
+				t.Errorf("patch of %s answered 200 but is lost: %v", f, final[f])
+			}
+		case http.StatusPreconditionFailed:
+		default:
+			t.Errorf("patch of %s: status %d", f, statuses[i])
+		}
+	}
+	if applied == 0 || final["version"] != float64(1+applied) {
+		t.Errorf("%d patches applied, version %v", applied, final["version"])
 	}
 }

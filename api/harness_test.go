@@ -175,6 +175,12 @@ func wantProblem(t *testing.T, r reply, status int, kind string) problemDoc {
 	if p.Type != api.ProblemTypePrefix+kind || p.Status != status || p.Title == "" {
 		t.Errorf("problem %+v, want type %s%s and status %d with a title", p, api.ProblemTypePrefix, kind, status)
 	}
+	if status == http.StatusUnauthorized && !strings.HasPrefix(r.header.Get("WWW-Authenticate"), "Bearer") {
+		t.Errorf("401 with WWW-Authenticate %q, want the Bearer scheme", r.header.Get("WWW-Authenticate"))
+	}
+	if status == http.StatusMethodNotAllowed && r.header.Get("Allow") == "" {
+		t.Error("405 without Allow")
+	}
 	if id := r.header.Get(echo.HeaderXRequestID); id == "" || p.RequestID != id {
 		t.Errorf("problem request_id %q, response header %q: want the same, non-empty", p.RequestID, id)
 	}

@@ -143,6 +143,10 @@ func errorHandler(logger *slog.Logger, isUnavailable unavailabilityCheck) echo.H
 		if pe.retry > 0 {
 			c.Response().Header().Set("Retry-After", strconv.Itoa(pe.retry))
 		}
+		if p.Status == http.StatusUnauthorized {
+			// RFC 9110 section 15.5.2: a 401 names the scheme to use.
+			c.Response().Header().Set(echo.HeaderWWWAuthenticate, `Bearer realm="wattshelf"`)
+		}
 		body, _ := json.Marshal(p)
 		c.Response().Header().Set(echo.HeaderContentType, "application/problem+json")
 		c.Response().WriteHeader(p.Status)
