@@ -64,7 +64,11 @@ type site struct {
 	designs    []store.DemoDesign
 }
 
-func newSite(t *testing.T) *site {
+func newSite(t *testing.T) *site { return newSiteAt(t, "") }
+
+// newSiteAt is newSite with the public address staff configure for QR
+// codes; "" means the address each request came to.
+func newSiteAt(t *testing.T, publicBaseURL string) *site {
 	t.Helper()
 	ctx := context.Background()
 	st, _ := storetest.NewStore(t)
@@ -94,7 +98,7 @@ func newSite(t *testing.T) *site {
 		t.Fatal(err)
 	}
 	router, err := api.New(api.Config{Store: st, Logger: slog.New(slog.NewTextHandler(io.Discard, nil)),
-		Registry: prometheus.NewRegistry()})
+		Registry: prometheus.NewRegistry(), PublicBaseURL: publicBaseURL})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -492,6 +496,23 @@ func TestPagesStatusAndHeaders(t *testing.T) {
 		}
 		if strings.HasPrefix(tc.ctype, "text/html") && bytes.Contains(bytes.ToLower(body), []byte("<script>")) {
 			t.Errorf("GET %.60s: an inline script", tc.path)
+		}
+	}
+}
+
+// With a public address configured, the codes carry it and not the
+// address the request came to.
+func TestQRCodesUseTheConfiguredAddress(t *testing.T) {
+	s := newSiteAt(t, "http://shelf.local:8080/")
+	for _, id := range []string{"1", "3"} {
+		res, err := http.Get(s.srv.URL + "/shelf/" + id + "/qr.png")
+		if err != nil {
+			t.Fatal(err)
+		}
+		body, _ := io.ReadAll(res.Body)
+		res.Body.Close()
+		if got, want := decodeQR(t, body), "http://shelf.local:8080/shelf/"+id; got != want {
+			t.Errorf("code reads %q, want %q", got, want)
 		}
 	}
 }

@@ -224,7 +224,7 @@ func feedLink(px, py, cx, cy int, f review.FeedResult, doc *domain.Feed) treeLin
 			text += " " + speed
 		}
 		labels = append(labels, text)
-		l.Fuse = &svgRect{X: cx - 34, Y: endY - 7, W: 22, H: 14}
+		l.Fuse = &svgRect{X: cx - 34, Y: endY - 5, W: 22, H: 10}
 	} else if f.Node != "" {
 		labels = append(labels, "no fuse")
 	}
@@ -245,7 +245,7 @@ func feedLink(px, py, cx, cy int, f review.FeedResult, doc *domain.Feed) treeLin
 	}
 	// Stack the labels upwards from just above the line.
 	for k := range labels {
-		l.Labels = append(l.Labels, svgText{X: midX + 8, Y: endY - 6 - (len(labels)-1-k)*lineStep, Text: labels[k]})
+		l.Labels = append(l.Labels, svgText{X: midX + 8, Y: endY - 9 - (len(labels)-1-k)*lineStep, Text: labels[k]})
 	}
 	return l
 }
