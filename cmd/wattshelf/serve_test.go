@@ -56,6 +56,7 @@ func startServe(t *testing.T, getenv func(string) string, extra ...string) *runn
 	for {
 		select {
 		case err := <-s.result:
+			s.result <- err // for the cleanup
 			t.Fatalf("serve ended before it was ready: %v\n%s", err, s.logs)
 		default:
 		}
@@ -217,5 +218,83 @@ func TestServeRefusesABusyPort(t *testing.T) {
 	err = run(ctx, []string{"serve", "--addr", ln.Addr().String()}, cliEnv(dbURL), io.Discard, io.Discard)
 	if err == nil || !strings.Contains(err.Error(), "listen") {
 		t.Errorf("serve on a busy port: %v, want a listen error", err)
+	}
+}
+
+// TestServeFinishesInFlightRequests cancels serve while a request body is
+// still arriving: the listener closes at once, the request completes, and
+// only then does run return.
+func TestServeFinishesInFlightRequests(t *testing.T) {
+	ctx := context.Background()
+	getenv := cliEnv(absentDatabaseURL(t))
+	s := startServe(t, getenv)
+	stdout, _, err := runCLI(ctx, getenv, "token", "create", "--name", "kim", "--role", "staff")
+	if err != nil {
+		t.Fatal(err)
+	}
+	token := strings.TrimSpace(stdout)
+
+	body, upload := io.Pipe()
+	req, err := http.NewRequest(http.MethodPost, s.base+"/v1/components", body)
+	if err != nil {
+		t.Fatal(err)
+	}
+	req.Header.Set("Authorization", "Bearer "+token)
+	req.Header.Set("Content-Type", "application/json")
+	type answer struct {
+		status int
+		err    error
+	}
+	answered := make(chan answer, 1)
+	go func() {
+		resp, err := http.DefaultClient.Do(req)
+		if err != nil {
+			answered <- answer{err: err}
+			return
+		}
+		resp.Body.Close()
+		answered <- answer{status: resp.StatusCode}
+	}()
+	if _, err := upload.Write([]byte(`{"name": "Slowly described lamp", `)); err != nil {
+		t.Fatal(err)
+	}
+	// The first half has reached the server once it is being read; give the
+	// handler a moment to be waiting for the rest.
+	time.Sleep(300 * time.Millisecond)
+
+	s.stop()
+	deadline := time.Now().Add(10 * time.Second)
+	for {
+		conn, err := net.DialTimeout("tcp", strings.TrimPrefix(s.base, "http://"), time.Second)
+		if err != nil {
+			break // no longer taking connections
+		}
+		conn.Close()
+		if time.Now().After(deadline) {
+			t.Fatal("still accepting connections 10 s after cancellation")
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	select {
+	case err := <-s.result:
+		s.result <- err // for the cleanup
+		t.Fatalf("run returned (%v) while a request was in flight", err)
+	default:
+	}
+
+	if _, err := upload.Write([]byte(`"kind": "light"}`)); err != nil {
+		t.Fatal(err)
+	}
+	upload.Close()
+	select {
+	case a := <-answered:
+		if a.err != nil || a.status != http.StatusCreated {
+			t.Errorf("in-flight request: status %d, %v; want 201", a.status, a.err)
+		}
+	case <-time.After(20 * time.Second):
+		t.Fatal("in-flight request got no answer")
+	}
+	if err := s.shutdown(t); err != nil {
+		t.Errorf("run returned %v, want nil", err)
 	}
 }
