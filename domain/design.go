@@ -9,6 +9,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"wattshelf/domain/electric"
 )
@@ -420,7 +421,12 @@ func (w *shapeWalker) skip(tok json.Token) error {
 
 // escapePointer escapes one JSON pointer reference token (RFC 6901).
 func escapePointer(s string) string {
-	return strings.NewReplacer("~", "~0", "/", "~1").Replace(s)
+	// Called for every key of every document, so no Replacer per call:
+	// building one cost a third of a 30-node review's time.
+	if !strings.ContainsAny(s, "~/") {
+		return s
+	}
+	return strings.ReplaceAll(strings.ReplaceAll(s, "~", "~0"), "/", "~1")
 }
 
 // ComponentIDs returns the stored components the design refers to, each
@@ -449,7 +455,7 @@ func (d Design) Validate() error {
 	p.CheckText("/name", d.Name, MaxNameLen, false)
 	p.CheckText("/description", d.Description, MaxTextLen, false)
 	p.CheckOptionalRange("/ambient_c", d.AmbientC, MinTemperatureC, MaxAmbientC, "°C")
-	checkBetween(&p, "/target_runtime_h", d.TargetRuntimeH, 0.001, MaxRuntimeH, "h")
+	checkBetween(&p, "", "target_runtime_h", d.TargetRuntimeH, 0.001, MaxRuntimeH, "h")
 	switch {
 	case len(d.Nodes) == 0:
 		p.Add("/nodes", "is empty: a design needs at least a source and something it feeds")
@@ -458,8 +464,9 @@ func (d Design) Validate() error {
 		p.Add("/nodes", "has %d nodes; at most %d are allowed", len(d.Nodes), MaxDesignNodes)
 		return p.Err()
 	}
-	for i, n := range d.Nodes {
-		ptr := "/nodes/" + strconv.Itoa(i)
+	for i := range d.Nodes {
+		n := &d.Nodes[i]
+		ptr := nodePtr(i)
 		n.CheckValues(&p, ptr)
 		if n.ComponentID == nil {
 			n.CheckComplete(&p, ptr)
@@ -469,12 +476,13 @@ func (d Design) Validate() error {
 	return p.Err()
 }
 
+func nodePtr(i int) string { return "/nodes/" + strconv.Itoa(i) }
+
 // checkTree checks ids, parents, sources and cycles.
 func (d Design) checkTree(p *Problems) {
 	first := make(map[string]int, len(d.Nodes))
 	sources := 0
 	for i, n := range d.Nodes {
-		ptr := "/nodes/" + strconv.Itoa(i)
 		if IsSource(n.Type) {
 			sources++
 		}
@@ -483,10 +491,10 @@ func (d Design) checkTree(p *Problems) {
 		}
 		if j, dup := first[n.ID]; dup {
 			if n.Feed != nil && d.Nodes[j].Feed != nil {
-				p.Add(ptr+"/id", "repeats the id %q of /nodes/%d: node %q would be fed twice (from %q and from %q)",
+				p.Add(nodePtr(i)+"/id", "repeats the id %q of /nodes/%d: node %q would be fed twice (from %q and from %q)",
 					n.ID, j, n.ID, d.Nodes[j].Feed.From, n.Feed.From)
 			} else {
-				p.Add(ptr+"/id", "repeats the id %q of /nodes/%d; ids must be unique", n.ID, j)
+				p.Add(nodePtr(i)+"/id", "repeats the id %q of /nodes/%d; ids must be unique", n.ID, j)
 			}
 			continue
 		}
@@ -499,12 +507,11 @@ func (d Design) checkTree(p *Problems) {
 	parent := make([]int, len(d.Nodes)) // -1: a root or a broken link
 	for i, n := range d.Nodes {
 		parent[i] = -1
-		ptr := "/nodes/" + strconv.Itoa(i)
 		switch {
 		case IsSource(n.Type) && n.Feed != nil:
-			p.Add(ptr+"/feed", "must be left out: a %s is a source at the root of the tree, not fed by another node", n.Type)
+			p.Add(nodePtr(i)+"/feed", "must be left out: a %s is a source at the root of the tree, not fed by another node", n.Type)
 		case n.Feed == nil && slices.Contains(NodeTypes(), n.Type) && !IsSource(n.Type):
-			p.Add(ptr+"/feed", "is required: a %s is fed from a parent node (only a battery or supply stands at a root)", n.Type)
+			p.Add(nodePtr(i)+"/feed", "is required: a %s is fed from a parent node (only a battery or supply stands at a root)", n.Type)
 		}
 		if n.Feed == nil || IsSource(n.Type) {
 			continue
@@ -513,13 +520,13 @@ func (d Design) checkTree(p *Problems) {
 		j, ok := first[from]
 		switch {
 		case from == "":
-			p.Add(ptr+"/feed/from", "is required: name the node this one is fed from")
+			p.Add(nodePtr(i)+"/feed/from", "is required: name the node this one is fed from")
 		case from == n.ID:
-			p.Add(ptr+"/feed/from", "names the node itself: a node cannot feed itself")
+			p.Add(nodePtr(i)+"/feed/from", "names the node itself: a node cannot feed itself")
 		case !ok:
-			p.Add(ptr+"/feed/from", "names %q, which is not a node of this design", from)
+			p.Add(nodePtr(i)+"/feed/from", "names %q, which is not a node of this design", from)
 		case d.Nodes[j].Type == NodeMotor || d.Nodes[j].Type == NodeLoad:
-			p.Add(ptr+"/feed/from", "names %q, a %s; only a battery, supply, regulator or driver feeds other nodes", from, d.Nodes[j].Type)
+			p.Add(nodePtr(i)+"/feed/from", "names %q, a %s; only a battery, supply, regulator or driver feeds other nodes", from, d.Nodes[j].Type)
 		default:
 			parent[i] = j
 		}
@@ -554,7 +561,7 @@ func (d Design) checkCycles(p *Problems, parent []int) {
 			names = append(names, d.Nodes[i].ID)
 			slices.Reverse(names) // read in the direction power would flow
 			last := path[len(path)-1]
-			p.Add("/nodes/"+strconv.Itoa(last)+"/feed/from", "closes a loop (%s): power must flow from a source down a tree",
+			p.Add(nodePtr(last)+"/feed/from", "closes a loop (%s): power must flow from a source down a tree",
 				strings.Join(names, " → "))
 		}
 		for _, j := range path {
@@ -563,50 +570,45 @@ func (d Design) checkCycles(p *Problems, parent []int) {
 	}
 }
 
-// fieldsFor lists the type-specific fields a node of type typ may carry.
-func fieldsFor(typ, topology string) []string {
+// applies tells whether a node of type typ (and, for a regulator,
+// topology) may carry field. A regulator of unknown topology may carry any
+// regulator field; its topology is reported instead.
+func applies(typ, topology, field string) bool {
 	switch typ {
 	case NodeBattery:
-		return []string{"chemistry", "series", "parallel", "cell_capacity_mah", "cell_full_v", "cell_nominal_v",
-			"cell_cutoff_v", "cell_internal_ohm", "max_discharge_a"}
+		switch field {
+		case "chemistry", "series", "parallel", "cell_capacity_mah", "cell_full_v", "cell_nominal_v",
+			"cell_cutoff_v", "cell_internal_ohm", "max_discharge_a":
+			return true
+		}
 	case NodeSupply:
-		return []string{"output_v", "max_a"}
+		return field == "output_v" || field == "max_a"
 	case NodeRegulator:
-		common := []string{"topology", "output_v", "max_output_a", "quiescent_a", "max_input_v"}
-		switch topology {
-		case TopologyLinear:
-			return append(common, "dropout_v", "theta_ja_c_per_w", "tj_max_c")
-		case "":
-			return append(common, "dropout_v", "theta_ja_c_per_w", "tj_max_c", "efficiency", "min_input_v")
+		switch field {
+		case "topology", "output_v", "max_output_a", "quiescent_a", "max_input_v":
+			return true
+		case "dropout_v", "theta_ja_c_per_w", "tj_max_c":
+			return topology != TopologyBuck && topology != TopologyBoost && topology != TopologyBuckBoost
+		case "efficiency", "min_input_v":
+			return topology != TopologyLinear
 		}
-		return append(common, "efficiency", "min_input_v")
 	case NodeDriver:
-		return []string{"max_input_v", "continuous_a", "peak_a", "quiescent_a"}
+		switch field {
+		case "max_input_v", "continuous_a", "peak_a", "quiescent_a":
+			return true
+		}
 	case NodeMotor:
-		return []string{"rated_v", "no_load_a", "stall_a", "running_a", "min_v", "max_v", "duty"}
+		switch field {
+		case "rated_v", "no_load_a", "stall_a", "running_a", "min_v", "max_v", "duty":
+			return true
+		}
 	case NodeLoad:
-		return []string{"min_v", "max_v", "current_a", "peak_a", "duty", "critical"}
-	}
-	return nil
-}
-
-// presentFields lists the type-specific fields n carries.
-func (n Node) presentFields() []string {
-	var out []string
-	add := func(name string, set bool) {
-		if set {
-			out = append(out, name)
+		switch field {
+		case "min_v", "max_v", "current_a", "peak_a", "duty", "critical":
+			return true
 		}
 	}
-	add("chemistry", n.Chemistry != "")
-	add("series", n.Series != nil)
-	add("parallel", n.Parallel != nil)
-	add("critical", n.Critical)
-	add("topology", n.Topology != "")
-	for _, f := range n.numberFields() {
-		add(f.name, f.v != nil)
-	}
-	return out
+	return false
 }
 
 type namedValue struct {
@@ -615,9 +617,9 @@ type namedValue struct {
 }
 
 // numberFields pairs each float field with its JSON name, in the order of
-// nodeNumberFields.
-func (n *Node) numberFields() []namedValue {
-	return []namedValue{
+// nodeNumberFields. An array, so walking it allocates nothing.
+func (n *Node) numberFields() [26]namedValue {
+	return [26]namedValue{
 		{"cell_capacity_mah", n.CellCapacityMAh}, {"cell_full_v", n.CellFullV}, {"cell_nominal_v", n.CellNominalV},
 		{"cell_cutoff_v", n.CellCutoffV}, {"cell_internal_ohm", n.CellInternalOhm}, {"max_discharge_a", n.MaxDischargeA},
 		{"output_v", n.OutputV}, {"max_a", n.MaxA}, {"max_output_a", n.MaxOutputA}, {"quiescent_a", n.QuiescentA},
@@ -629,20 +631,94 @@ func (n *Node) numberFields() []namedValue {
 	}
 }
 
+// Smallest meaningful positive values. The floors keep divisions in the
+// review finite: a value below them is a slip (a 1 µV motor), not a part.
+const (
+	minVolts   = 0.001
+	minAmps    = 0.001
+	minLengthM = 0.001
+)
+
+// numberRange is the accepted range of a float field of a node of type typ.
+func numberRange(field, typ string) (lo, hi float64, unit string) {
+	switch field {
+	case "output_v", "rated_v", "max_input_v", "min_input_v", "max_v":
+		return minVolts, MaxVoltageV, "V (a rail over 1 kV is no gadget)"
+	case "min_v", "dropout_v":
+		return 0, MaxVoltageV, "V"
+	case "max_a", "max_output_a", "continuous_a", "stall_a", "running_a", "max_discharge_a":
+		return minAmps, MaxCurrentA, "A (over 1 kA is no gadget)"
+	case "peak_a":
+		if typ == NodeDriver { // a rating, not a draw
+			return minAmps, MaxCurrentA, "A (over 1 kA is no gadget)"
+		}
+		return 0, MaxCurrentA, "A"
+	case "quiescent_a", "no_load_a", "current_a":
+		return 0, MaxCurrentA, "A"
+	case "cell_full_v", "cell_nominal_v", "cell_cutoff_v":
+		return minVolts, 20, "V per cell"
+	case "cell_internal_ohm":
+		return 0.00001, 100, "Ω per cell"
+	case "cell_capacity_mah":
+		return 0.1, MaxCellCapacityAh * 1000, "mAh"
+	case "duty":
+		return 0.001, 1, "(a share of the time)"
+	case "efficiency":
+		return 0.01, 1, "(a share)"
+	case "theta_ja_c_per_w":
+		return 0.1, 1000, "°C/W"
+	case "tj_max_c":
+		return 1, MaxTemperatureC, "°C"
+	}
+	return 0, 0, ""
+}
+
+// checkBetween records a problem unless v is absent or in [lo, hi]. It
+// builds the pointer only for a problem: validation runs on every node of
+// every review.
+func checkBetween(p *Problems, ptr, field string, v *float64, lo, hi float64, unit string) {
+	if v != nil && !(*v >= lo && *v <= hi) {
+		p.Add(ptr+"/"+field, "must be at least %g and at most %g %s", lo, hi, unit)
+	}
+}
+
+// checkText records a problem when s is longer than max characters or,
+// when required, blank.
+func checkText(p *Problems, ptr, field, s string, max int, required bool) {
+	switch {
+	case required && strings.TrimSpace(s) == "":
+		p.Add(ptr+"/"+field, "is required")
+	case len(s) > max && utf8.RuneCountInString(s) > max:
+		p.Add(ptr+"/"+field, "is %d characters long; at most %d are allowed", utf8.RuneCountInString(s), max)
+	}
+}
+
 // CheckValues records every problem with the values n carries: its type,
 // fields that do not apply to that type, values out of range, fields that
 // contradict each other, and its feed. Missing fields are CheckComplete's.
 func (n Node) CheckValues(p *Problems, ptr string) {
-	p.CheckText(ptr+"/id", n.ID, MaxShortFieldLen, true)
-	if !slices.Contains(NodeTypes(), n.Type) {
+	checkText(p, ptr, "id", n.ID, MaxShortFieldLen, true)
+	known := slices.Contains(NodeTypes(), n.Type)
+	if !known {
 		p.Add(ptr+"/type", "must be one of %s", strings.Join(NodeTypes(), ", "))
-	} else {
-		allowed := fieldsFor(n.Type, n.Topology)
-		for _, f := range n.presentFields() {
-			if !slices.Contains(allowed, f) {
-				p.Add(ptr+"/"+f, "does not apply to %s", describeType(n.Type, n.Topology))
-			}
+	}
+	misplaced := func(field string, set bool) {
+		if set && known && !applies(n.Type, n.Topology, field) {
+			p.Add(ptr+"/"+field, "does not apply to %s", describeType(n.Type, n.Topology))
 		}
+	}
+	misplaced("chemistry", n.Chemistry != "")
+	misplaced("series", n.Series != nil)
+	misplaced("parallel", n.Parallel != nil)
+	misplaced("critical", n.Critical)
+	misplaced("topology", n.Topology != "")
+	for _, f := range n.numberFields() {
+		if f.v == nil {
+			continue
+		}
+		misplaced(f.name, true)
+		lo, hi, unit := numberRange(f.name, n.Type)
+		checkBetween(p, ptr, f.name, f.v, lo, hi, unit)
 	}
 	if n.ComponentID != nil && *n.ComponentID <= 0 {
 		p.Add(ptr+"/component_id", "must be a positive component id")
@@ -650,76 +726,8 @@ func (n Node) CheckValues(p *Problems, ptr string) {
 	if n.Topology != "" && !slices.Contains(Topologies(), n.Topology) {
 		p.Add(ptr+"/topology", "must be one of %s", strings.Join(Topologies(), ", "))
 	}
-	p.CheckText(ptr+"/chemistry", n.Chemistry, MaxShortFieldLen, false)
-	n.checkRanges(p, ptr)
-	n.checkConsistency(p, ptr)
-	if n.Feed != nil {
-		n.Feed.check(p, ptr+"/feed")
-	}
-}
-
-func describeType(typ, topology string) string {
-	if typ == NodeRegulator && topology != "" {
-		if topology == TopologyLinear {
-			return "a linear regulator"
-		}
-		return "a switching (" + topology + ") regulator"
-	}
-	return "a " + typ
-}
-
-// checkBetween records a problem unless v is absent or in [lo, hi]. The
-// floors keep divisions in the review finite: a value below them is a slip
-// (a 1 µV motor, a 1 pΩ cell), not a part.
-func checkBetween(p *Problems, ptr string, v *float64, lo, hi float64, unit string) {
-	if v != nil && !(*v >= lo && *v <= hi) {
-		p.Add(ptr, "must be at least %g and at most %g %s", lo, hi, unit)
-	}
-}
-
-// Smallest meaningful positive values.
-const (
-	minVolts   = 0.001
-	minAmps    = 0.001
-	minLengthM = 0.001
-)
-
-func (n Node) checkRanges(p *Problems, ptr string) {
-	for _, f := range []namedValue{
-		{"output_v", n.OutputV}, {"rated_v", n.RatedV}, {"max_input_v", n.MaxInputV}, {"min_input_v", n.MinInputV},
-		{"max_v", n.MaxV},
-	} {
-		checkBetween(p, ptr+"/"+f.name, f.v, minVolts, MaxVoltageV, "V (a rail over 1 kV is no gadget)")
-	}
-	for _, f := range []namedValue{{"min_v", n.MinV}, {"dropout_v", n.DropoutV}} {
-		p.CheckOptionalRange(ptr+"/"+f.name, f.v, 0, MaxVoltageV, "V")
-	}
-	for _, f := range []namedValue{
-		{"max_a", n.MaxA}, {"max_output_a", n.MaxOutputA}, {"continuous_a", n.ContinuousA},
-		{"stall_a", n.StallA}, {"running_a", n.RunningA}, {"max_discharge_a", n.MaxDischargeA},
-	} {
-		checkBetween(p, ptr+"/"+f.name, f.v, minAmps, MaxCurrentA, "A (over 1 kA is no gadget)")
-	}
-	for _, f := range []namedValue{
-		{"quiescent_a", n.QuiescentA}, {"no_load_a", n.NoLoadA}, {"current_a", n.CurrentA}, {"peak_a", n.PeakA},
-	} {
-		p.CheckOptionalRange(ptr+"/"+f.name, f.v, 0, MaxCurrentA, "A")
-	}
-	if n.Type == NodeDriver {
-		checkBetween(p, ptr+"/peak_a", n.PeakA, minAmps, MaxCurrentA, "A")
-	}
-	for _, f := range []namedValue{
-		{"cell_full_v", n.CellFullV}, {"cell_nominal_v", n.CellNominalV}, {"cell_cutoff_v", n.CellCutoffV},
-	} {
-		checkBetween(p, ptr+"/"+f.name, f.v, minVolts, 20, "V per cell")
-	}
-	checkBetween(p, ptr+"/cell_internal_ohm", n.CellInternalOhm, 0.00001, 100, "Ω per cell")
-	checkBetween(p, ptr+"/cell_capacity_mah", n.CellCapacityMAh, 0.1, MaxCellCapacityAh*1000, "mAh")
-	checkBetween(p, ptr+"/duty", n.Duty, 0.001, 1, "(a share of the time)")
-	checkBetween(p, ptr+"/efficiency", n.Efficiency, 0.01, 1, "(a share)")
-	checkBetween(p, ptr+"/theta_ja_c_per_w", n.ThetaJACPerW, 0.1, 1000, "°C/W")
-	checkBetween(p, ptr+"/tj_max_c", n.TjMaxC, 1, MaxTemperatureC, "°C")
-	for _, f := range []struct {
+	checkText(p, ptr, "chemistry", n.Chemistry, MaxShortFieldLen, false)
+	for _, f := range [2]struct {
 		name string
 		v    *int
 	}{{"series", n.Series}, {"parallel", n.Parallel}} {
@@ -732,6 +740,20 @@ func (n Node) checkRanges(p *Problems, ptr string) {
 		p.Add(ptr+"/parallel", "makes a pack of %d × %d = %d cells; at most %d are allowed",
 			*n.Series, *n.Parallel, *n.Series**n.Parallel, MaxPackCells)
 	}
+	n.checkConsistency(p, ptr)
+	if n.Feed != nil {
+		n.Feed.check(p, ptr)
+	}
+}
+
+func describeType(typ, topology string) string {
+	if typ == NodeRegulator && topology != "" {
+		if topology == TopologyLinear {
+			return "a linear regulator"
+		}
+		return "a switching (" + topology + ") regulator"
+	}
+	return "a " + typ
 }
 
 // checkConsistency records fields that contradict each other, when both
@@ -800,45 +822,46 @@ func (n Node) CheckComplete(p *Problems, ptr string) {
 	}
 }
 
+// check records the problems of the feed of the node at ptr.
 func (f Feed) check(p *Problems, ptr string) {
 	if f.Wire == nil {
-		p.Add(ptr+"/wire", "is required: say which wire carries the feed (gauge and length_m)")
+		p.Add(ptr+"/feed/wire", "is required: say which wire carries the feed (gauge and length_m)")
 	} else {
 		w := f.Wire
 		if w.Gauge == "" {
-			p.Add(ptr+"/wire/gauge", "is required, e.g. \"18AWG\" or \"0.75mm2\"")
+			p.Add(ptr+"/feed/wire/gauge", "is required, e.g. \"18AWG\" or \"0.75mm2\"")
 		} else if _, err := electric.ParseGauge(w.Gauge); err != nil {
-			p.Add(ptr+"/wire/gauge", "%v", err)
+			p.Add(ptr+"/feed/wire/gauge", "%v", err)
 		}
 		if !(w.LengthM >= minLengthM && w.LengthM <= MaxWireLengthM) {
-			p.Add(ptr+"/wire/length_m", "must be at least %g and at most %d m (one way)", minLengthM, MaxWireLengthM)
+			p.Add(ptr+"/feed/wire/length_m", "must be at least %g and at most %d m (one way)", minLengthM, MaxWireLengthM)
 		}
-		checkBetween(p, ptr+"/wire/insulation_c", w.InsulationC, 1, MaxTemperatureC, "°C")
+		checkBetween(p, ptr, "feed/wire/insulation_c", w.InsulationC, 1, MaxTemperatureC, "°C")
 		if w.Bundled != nil && (*w.Bundled < 1 || *w.Bundled > 1000) {
-			p.Add(ptr+"/wire/bundled", "must be between 1 and 1000 current-carrying conductors")
+			p.Add(ptr+"/feed/wire/bundled", "must be between 1 and 1000 current-carrying conductors")
 		}
 	}
 	if fu := f.Fuse; fu != nil {
 		if !(fu.RatingA >= minAmps && fu.RatingA <= MaxCurrentA) {
-			p.Add(ptr+"/fuse/rating_a", "must be at least %g and at most %d A", minAmps, MaxCurrentA)
+			p.Add(ptr+"/feed/fuse/rating_a", "must be at least %g and at most %d A", minAmps, MaxCurrentA)
 		}
 		if fu.Speed != "" && fu.Speed != FuseFast && fu.Speed != FuseSlow {
-			p.Add(ptr+"/fuse/speed", "must be %q or %q", FuseFast, FuseSlow)
+			p.Add(ptr+"/feed/fuse/speed", "must be %q or %q", FuseFast, FuseSlow)
 		}
-		checkBetween(p, ptr+"/fuse/voltage_rating_v", fu.VoltageRatingV, minVolts, MaxVoltageV, "V")
-		p.CheckOptionalRange(ptr+"/fuse/distance_from_source_m", fu.DistanceFromSourceM, 0, MaxWireLengthM, "m")
-		p.CheckText(ptr+"/fuse/family", fu.Family, MaxShortFieldLen, false)
+		checkBetween(p, ptr, "feed/fuse/voltage_rating_v", fu.VoltageRatingV, minVolts, MaxVoltageV, "V")
+		checkBetween(p, ptr, "feed/fuse/distance_from_source_m", fu.DistanceFromSourceM, 0, MaxWireLengthM, "m")
+		checkText(p, ptr, "feed/fuse/family", fu.Family, MaxShortFieldLen, false)
 	}
 	if len(f.Connectors) > MaxConnectorsPerRun {
-		p.Add(ptr+"/connectors", "lists %d connectors; at most %d are allowed", len(f.Connectors), MaxConnectorsPerRun)
+		p.Add(ptr+"/feed/connectors", "lists %d connectors; at most %d are allowed", len(f.Connectors), MaxConnectorsPerRun)
 	}
 	for k, c := range f.Connectors {
-		cp := ptr + "/connectors/" + strconv.Itoa(k)
-		p.CheckText(cp+"/family", c.Family, MaxShortFieldLen, false)
-		checkBetween(p, cp+"/rating_a", c.RatingA, minAmps, MaxCurrentA, "A")
-		checkBetween(p, cp+"/rating_v", c.RatingV, minVolts, MaxVoltageV, "V")
+		cp := func(field string) string { return "feed/connectors/" + strconv.Itoa(k) + "/" + field }
+		checkText(p, ptr, cp("family"), c.Family, MaxShortFieldLen, false)
+		checkBetween(p, ptr, cp("rating_a"), c.RatingA, minAmps, MaxCurrentA, "A")
+		checkBetween(p, ptr, cp("rating_v"), c.RatingV, minVolts, MaxVoltageV, "V")
 		if c.Family == "" && c.RatingA == nil {
-			p.Add(cp+"/rating_a", "is required when the connector names no family")
+			p.Add(ptr+"/"+cp("rating_a"), "is required when the connector names no family")
 		}
 	}
 }

@@ -234,7 +234,7 @@ func TestValidateFindsEachProblem(t *testing.T) {
 		{"rail over 1 kV", func(_ map[string]any, n []any) { node(n, 3)["output_v"] = 1001 }, "/nodes/3/output_v", "1 kV"},
 		{"current over 1 kA", func(_ map[string]any, n []any) { node(n, 1)["continuous_a"] = 1500 }, "/nodes/1/continuous_a", "1 kA"},
 		{"1001 cells", func(_ map[string]any, n []any) { node(n, 0)["series"] = 11; node(n, 0)["parallel"] = 91 }, "/nodes/0/parallel", "1001 cells"},
-		{"negative current", func(_ map[string]any, n []any) { node(n, 4)["current_a"] = -0.1 }, "/nodes/4/current_a", "between 0"},
+		{"negative current", func(_ map[string]any, n []any) { node(n, 4)["current_a"] = -0.1 }, "/nodes/4/current_a", "at least 0"},
 		{"zero duty", func(_ map[string]any, n []any) { node(n, 2)["duty"] = 0 }, "/nodes/2/duty", "at least"},
 		{"efficiency over 1", func(_ map[string]any, n []any) {
 			node(n, 3)["topology"] = "buck"
