@@ -10,40 +10,41 @@ import (
 
 // cond is one way a check can go wrong: crossed means it did. A check
 // takes the worst crossed condition; when none is crossed it passes and
-// shows the condition closest to crossing.
+// shows the condition closest to crossing. what names the condition for
+// the check's message function, which runs only for the one shown.
 type cond struct {
+	what         string
 	level        Status
 	crossed      bool
 	value, limit float64
 	unit         string
 	margin       float64 // distance from crossing, as a share of the limit
-	msg          func() string
 }
 
 func scale(x float64) float64 { return max(math.Abs(x), 1e-9) }
 
 // above is crossed when value > limit.
-func above(level Status, value, limit float64, unit string, msg func() string) cond {
-	return cond{level, value > limit, value, limit, unit, (limit - value) / scale(limit), msg}
+func above(what string, level Status, value, limit float64, unit string) cond {
+	return cond{what, level, value > limit, value, limit, unit, (limit - value) / scale(limit)}
 }
 
 // atLeast is crossed when value ≥ limit.
-func atLeast(level Status, value, limit float64, unit string, msg func() string) cond {
-	return cond{level, value >= limit, value, limit, unit, (limit - value) / scale(limit), msg}
+func atLeast(what string, level Status, value, limit float64, unit string) cond {
+	return cond{what, level, value >= limit, value, limit, unit, (limit - value) / scale(limit)}
 }
 
 // below is crossed when value < limit.
-func below(level Status, value, limit float64, unit string, msg func() string) cond {
-	return cond{level, value < limit, value, limit, unit, (value - limit) / scale(limit), msg}
+func below(what string, level Status, value, limit float64, unit string) cond {
+	return cond{what, level, value < limit, value, limit, unit, (value - limit) / scale(limit)}
 }
 
 // flagged is crossed when bad holds; value and limit are shown as they are.
-func flagged(level Status, bad bool, value, limit float64, unit string, msg func() string) cond {
+func flagged(what string, level Status, bad bool, value, limit float64, unit string) cond {
 	m := 1.0
 	if bad {
 		m = 0
 	}
-	return cond{level, bad, value, limit, unit, m, msg}
+	return cond{what, level, bad, value, limit, unit, m}
 }
 
 // bases are the rule-and-source sentences of each check, built once per
@@ -108,28 +109,66 @@ func num(x float64) string {
 
 func pct(share float64) string { return strconv.FormatFloat(share*100, 'f', 0, 64) + " %" }
 
-// emit records a check from its conditions.
-func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, pass func(cond) string) {
+// appendNum is num for a byte buffer.
+func appendNum(b []byte, x float64) []byte {
+	switch ax := math.Abs(x); {
+	case ax >= 100:
+		return strconv.AppendFloat(b, x, 'f', 0, 64)
+	case ax >= 10:
+		return strconv.AppendFloat(b, x, 'f', 1, 64)
+	case ax >= 1 || ax == 0:
+		return strconv.AppendFloat(b, x, 'f', 2, 64)
+	}
+	return strconv.AppendFloat(b, x, 'g', 3, 64)
+}
+
+// piece is a part of a sentence: text, or a number printed as num does.
+type piece struct {
+	text   string
+	number float64
+	isNum  bool
+}
+
+func txt(s string) piece  { return piece{text: s} }
+func val(x float64) piece { return piece{number: x, isNum: true} }
+
+// say joins pieces into a sentence with a single allocation. The passing
+// sentences of the frequent checks use it: a 5,000-node design writes
+// tens of thousands of them, and fmt boxes every argument.
+func (r *reviewer) say(parts ...piece) string {
+	b := r.text[:0]
+	for _, p := range parts {
+		if p.isNum {
+			b = appendNum(b, p.number)
+		} else {
+			b = append(b, p.text...)
+		}
+	}
+	r.text = b
+	return string(b)
+}
+
+// emit records a check from its conditions. msg writes the sentence for
+// the condition shown; passed says none was crossed.
+func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, msg func(c cond, passed bool) string) {
 	pick, status := -1, Pass
 	for i, c := range conds {
 		if c.crossed && c.level.rank() > status.rank() {
 			pick, status = i, c.level
 		}
 	}
-	var msg string
-	if pick >= 0 {
-		msg = conds[pick].msg()
-	} else {
+	passed := pick < 0
+	if passed {
 		for i, c := range conds {
 			if pick < 0 || c.margin < conds[pick].margin {
 				pick = i
 			}
 		}
-		msg = pass(conds[pick])
 	}
 	c := conds[pick]
 	r.add(Check{Check: check, Node: nodeID, Pointer: ptr, Status: status, Value: c.value, Limit: c.limit,
-		Unit: c.unit, Message: msg, Basis: basis})
+		Unit: c.unit, Message: msg(c, passed), Basis: basis})
+	r.buf = conds[:0]
 }
 
 func (r *reviewer) add(c Check) {
@@ -157,113 +196,116 @@ func (r *reviewer) brownoutText(n *node, v float64) string {
 func (r *reviewer) voltageRange(n *node) {
 	conds := r.buf[:0]
 	if n.hasMaxV {
-		conds = append(conds, above(Fail, n.vHigh, n.maxV, "V", func() string {
-			return fmt.Sprintf("%s can see %s V with a full source, above its max_v of %s V: it can be damaged. "+
-				"Add a regulator or use a lower-voltage source.", n.id, num(n.vHigh), num(n.maxV))
-		}))
+		conds = append(conds, above("high", Fail, n.vHigh, n.maxV, "V"))
 	}
 	if n.hasMinV && n.minV > 0 {
-		conds = append(conds,
-			below(Fail, n.vNom, n.minV, "V", func() string {
-				return fmt.Sprintf("%s gets only %s V at the source's nominal voltage, below its min_v of %s V: it will not work "+
-					"reliably. Raise the supply voltage or shorten and thicken its feeds.", n.id, num(n.vNom), num(n.minV))
-			}),
-			below(Warn, n.vLow, n.minV, "V", func() string {
-				return fmt.Sprintf("%s browns out: its input falls below its min_v of %s V%s (down to %s V at the source's cutoff).",
-					n.id, num(n.minV), r.brownoutText(n, n.minV), num(n.vLow))
-			}))
+		conds = append(conds, below("nominal", Fail, n.vNom, n.minV, "V"), below("low", Warn, n.vLow, n.minV, "V"))
 	}
 	if len(conds) == 0 {
-		conds = append(conds, flagged(Warn, true, n.vHigh, 0, "V", func() string {
-			return fmt.Sprintf("%s gives no min_v above 0 and no max_v, so its voltage (%s–%s V) could not be checked.",
-				n.id, num(n.vLow), num(n.vHigh))
-		}))
+		conds = append(conds, flagged("unknown", Warn, true, n.vHigh, 0, "V"))
 	}
-	r.emit(CheckVoltageRange, n.id, n.ptr, r.basis.voltageRange, conds, func(cond) string {
-		return fmt.Sprintf("%s sees %s–%s V (nominal %s V), inside its %s.", n.id, num(n.vLow), num(n.vHigh), num(n.vNom), rangeText(n))
+	r.emit(CheckVoltageRange, n.id, n.ptr, r.basis.voltageRange, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			switch {
+			case n.hasMinV && n.hasMaxV:
+				return r.say(txt(n.id), txt(" sees "), val(n.vLow), txt("–"), val(n.vHigh), txt(" V (nominal "), val(n.vNom),
+					txt(" V), inside its "), val(n.minV), txt("–"), val(n.maxV), txt(" V range."))
+			case n.hasMaxV:
+				return r.say(txt(n.id), txt(" sees "), val(n.vLow), txt("–"), val(n.vHigh), txt(" V (nominal "), val(n.vNom),
+					txt(" V), within its limit of "), val(n.maxV), txt(" V."))
+			}
+			return r.say(txt(n.id), txt(" sees "), val(n.vLow), txt("–"), val(n.vHigh), txt(" V (nominal "), val(n.vNom),
+				txt(" V), above its minimum of "), val(n.minV), txt(" V."))
+		case c.what == "high":
+			return fmt.Sprintf("%s can see %s V with a full source, above its max_v of %s V: it can be damaged. "+
+				"Add a regulator or use a lower-voltage source.", n.id, num(n.vHigh), num(n.maxV))
+		case c.what == "nominal":
+			return fmt.Sprintf("%s gets only %s V at the source's nominal voltage, below its min_v of %s V: it will not work "+
+				"reliably. Raise the supply voltage or shorten and thicken its feeds.", n.id, num(n.vNom), num(n.minV))
+		case c.what == "low":
+			return fmt.Sprintf("%s browns out: its input falls below its min_v of %s V%s (down to %s V at the source's cutoff).",
+				n.id, num(n.minV), r.brownoutText(n, n.minV), num(n.vLow))
+		}
+		return fmt.Sprintf("%s gives no min_v above 0 and no max_v, so its voltage (%s–%s V) could not be checked.",
+			n.id, num(n.vLow), num(n.vHigh))
 	})
-	r.buf = conds
-}
-
-func rangeText(n *node) string {
-	switch {
-	case n.hasMinV && n.hasMaxV:
-		return fmt.Sprintf("%s–%s V range", num(n.minV), num(n.maxV))
-	case n.hasMaxV:
-		return fmt.Sprintf("limit of %s V", num(n.maxV))
-	}
-	return fmt.Sprintf("minimum of %s V", num(n.minV))
 }
 
 func (r *reviewer) regulatorHeadroom(n *node) {
 	conds := r.buf[:0]
 	if n.maxInputV > 0 {
-		conds = append(conds, above(Fail, n.vHigh, n.maxInputV, "V", func() string {
-			return fmt.Sprintf("%s's input reaches %s V with a full source, above its max_input_v of %s V: it can be damaged.",
-				n.id, num(n.vHigh), num(n.maxInputV))
-		}))
+		conds = append(conds, above("overvoltage", Fail, n.vHigh, n.maxInputV, "V"))
 	}
 	basis := r.basis.headroomSwitching
+	need := n.outputV + n.dropoutV
+	vp := r.t.nodes[n.parent].outLow
+	var powerIn, needVp float64
+	lo := n.minWorkingInputV()
 	if n.topo == topoLinear {
 		basis = r.basis.headroomLinear
-		need := n.outputV + n.dropoutV
-		conds = append(conds,
-			below(Fail, n.vHigh, need, "V", func() string {
-				return fmt.Sprintf("%s can never deliver %s V: even with a full source its input is %s V, below output_v + dropout_v "+
-					"= %s V.", n.id, num(n.outputV), num(n.vHigh), num(need))
-			}),
-			below(Warn, n.vLow, need, "V", func() string {
-				return fmt.Sprintf("%s drops out before the source is empty: it needs %s V at its input%s; its input falls to %s V "+
-					"and its output to %s V.", n.id, num(need), r.brownoutText(n, need), num(n.vLow), num(n.outLow))
-			}))
+		conds = append(conds, below("never", Fail, n.vHigh, need, "V"), below("dropout", Warn, n.vLow, need, "V"))
 	} else {
-		vp := r.t.nodes[n.parent].outLow
-		powerIn := n.outputV * n.outRun / n.efficiency
-		needVp := 2 * math.Sqrt(n.feed.resistance*powerIn)
-		conds = append(conds, flagged(Fail, n.collapsed || !r.t.converged, vp, needVp, "V", func() string {
+		powerIn = n.outputV * n.outRun / n.efficiency
+		needVp = 2 * math.Sqrt(n.feed.resistance*powerIn)
+		carry := below("collapse", Fail, vp, needVp, "V")
+		// The solver's verdict rules: it also sees the drops upstream.
+		carry.crossed = n.collapsed || !r.t.converged
+		conds = append(conds, carry)
+		if lo > 0 {
+			conds = append(conds, below("never", Fail, n.vHigh, lo, "V"), below("dropout", Warn, n.vLow, lo, "V"))
+		}
+		if n.topo == topoBoost {
+			conds = append(conds, above("step-down", Fail, n.vLow, n.outputV, "V"))
+		}
+	}
+	r.emit(CheckRegulatorHeadroom, n.id, n.ptr, basis, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt(n.id), txt("'s input stays within "), val(n.vLow), txt("–"), val(n.vHigh), txt(" V and it holds "),
+				val(n.outputV), txt(" V throughout."))
+		case c.what == "overvoltage":
+			return fmt.Sprintf("%s's input reaches %s V with a full source, above its max_input_v of %s V: it can be damaged.",
+				n.id, num(n.vHigh), num(n.maxInputV))
+		case c.what == "never" && n.topo == topoLinear:
+			return fmt.Sprintf("%s can never deliver %s V: even with a full source its input is %s V, below output_v + dropout_v "+
+				"= %s V.", n.id, num(n.outputV), num(n.vHigh), num(need))
+		case c.what == "never":
+			return fmt.Sprintf("%s can never regulate: even with a full source its input is %s V, below the %s V it needs.",
+				n.id, num(n.vHigh), num(lo))
+		case c.what == "dropout" && n.topo == topoLinear:
+			return fmt.Sprintf("%s drops out before the source is empty: it needs %s V at its input%s; its input falls to %s V "+
+				"and its output to %s V.", n.id, num(need), r.brownoutText(n, need), num(n.vLow), num(n.outLow))
+		case c.what == "dropout":
+			return fmt.Sprintf("%s drops out before the source is empty: it needs %s V at its input%s; its input falls to %s V.",
+				n.id, num(lo), r.brownoutText(n, lo), num(n.vLow))
+		case c.what == "collapse":
 			return fmt.Sprintf("The feed to %s cannot carry the %s W it draws (%s W out at %s efficiency) at the source's low "+
 				"end: its input would collapse. It needs at least %s V before the feed and gets %s V; use a thicker or "+
 				"shorter wire or a higher source voltage.", n.id, num(powerIn), num(n.outputV*n.outRun), pct(n.efficiency),
 				num(needVp), num(vp))
-		}))
-		if lo := n.minWorkingInputV(); lo > 0 {
-			conds = append(conds,
-				below(Fail, n.vHigh, lo, "V", func() string {
-					return fmt.Sprintf("%s can never regulate: even with a full source its input is %s V, below the %s V it needs.",
-						n.id, num(n.vHigh), num(lo))
-				}),
-				below(Warn, n.vLow, lo, "V", func() string {
-					return fmt.Sprintf("%s drops out before the source is empty: it needs %s V at its input%s; its input falls to %s V.",
-						n.id, num(lo), r.brownoutText(n, lo), num(n.vLow))
-				}))
 		}
-		if n.topo == topoBoost {
-			conds = append(conds, above(Fail, n.vLow, n.outputV, "V", func() string {
-				return fmt.Sprintf("%s is a boost regulator whose input (at least %s V) is always above its output_v of %s V: "+
-					"it can never step down to it.", n.id, num(n.vLow), num(n.outputV))
-			}))
-		}
-	}
-	r.emit(CheckRegulatorHeadroom, n.id, n.ptr, basis, conds, func(cond) string {
-		return fmt.Sprintf("%s's input stays within %s–%s V and it holds %s V throughout.", n.id, num(n.vLow), num(n.vHigh), num(n.outputV))
+		return fmt.Sprintf("%s is a boost regulator whose input (at least %s V) is always above its output_v of %s V: "+
+			"it can never step down to it.", n.id, num(n.vLow), num(n.outputV))
 	})
-	r.buf = conds
 }
 
 func (r *reviewer) regulatorCurrent(n *node) {
-	limit := r.limits.utilisation() * n.maxOutA
+	u := r.limits.utilisation()
 	conds := append(r.buf[:0],
-		above(Fail, n.outPeak, n.maxOutA, "A", func() string {
+		above("peak", Fail, n.outPeak, n.maxOutA, "A"),
+		above("run", Warn, n.outRun, u*n.maxOutA, "A"))
+	r.emit(CheckRegulatorCurrent, n.id, n.ptr, r.basis.rating, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt(n.id), txt(" delivers "), val(n.outRun), txt(" A (surges "), val(n.outPeak), txt(" A) of its "),
+				val(n.maxOutA), txt(" A rating."))
+		case c.what == "peak":
 			return fmt.Sprintf("%s must deliver surges of %s A, above its max_output_a of %s A.", n.id, num(n.outPeak), num(n.maxOutA))
-		}),
-		above(Warn, n.outRun, limit, "A", func() string {
-			return fmt.Sprintf("%s runs at %s A, over %s of its max_output_a of %s A: little margin.", n.id, num(n.outRun),
-				pct(r.limits.utilisation()), num(n.maxOutA))
-		}))
-	r.emit(CheckRegulatorCurrent, n.id, n.ptr, r.basis.rating, conds, func(cond) string {
-		return fmt.Sprintf("%s delivers %s A (surges %s A) of its %s A rating.", n.id, num(n.outRun), num(n.outPeak), num(n.maxOutA))
+		}
+		return fmt.Sprintf("%s runs at %s A, over %s of its max_output_a of %s A: little margin.", n.id, num(n.outRun),
+			pct(u), num(n.maxOutA))
 	})
-	r.buf = conds
 }
 
 // junction is a linear regulator's heat and junction temperature at its
@@ -275,60 +317,64 @@ func (r *reviewer) junction(n *node) (powerW, tjC float64) {
 
 func (r *reviewer) regulatorThermal(n *node) {
 	powerW, tj := r.junction(n)
-	warnAt := n.tjMaxC - r.limits.Policy.ThermalMarginC.Value
+	margin := r.limits.Policy.ThermalMarginC.Value
 	conds := append(r.buf[:0],
-		atLeast(Fail, tj, n.tjMaxC, "°C", func() string {
+		atLeast("limit", Fail, tj, n.tjMaxC, "°C"),
+		atLeast("margin", Warn, tj, n.tjMaxC-margin, "°C"))
+	r.emit(CheckRegulatorThermal, n.id, n.ptr, r.basis.thermal, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt(n.id), txt(" sheds "), val(powerW), txt(" W; its junction stays at "), val(tj), txt(" °C, well below "),
+				val(n.tjMaxC), txt(" °C."))
+		case c.what == "limit":
 			return fmt.Sprintf("%s sheds %s W; its junction reaches %s °C at %s °C ambient, at or over its %s °C limit. "+
 				"Use a switching regulator, a heatsink, or a lower input voltage.", n.id, num(powerW), num(tj), num(r.ambient), num(n.tjMaxC))
-		}),
-		atLeast(Warn, tj, warnAt, "°C", func() string {
-			return fmt.Sprintf("%s sheds %s W; its junction reaches %s °C, within %s °C of its %s °C limit.", n.id, num(powerW),
-				num(tj), num(r.limits.Policy.ThermalMarginC.Value), num(n.tjMaxC))
-		}))
-	r.emit(CheckRegulatorThermal, n.id, n.ptr, r.basis.thermal, conds, func(cond) string {
-		return fmt.Sprintf("%s sheds %s W; its junction stays at %s °C, well below %s °C.", n.id, num(powerW), num(tj), num(n.tjMaxC))
+		}
+		return fmt.Sprintf("%s sheds %s W; its junction reaches %s °C, within %s °C of its %s °C limit.", n.id, num(powerW),
+			num(tj), num(margin), num(n.tjMaxC))
 	})
-	r.buf = conds
 }
 
 func (r *reviewer) driverChecks(n *node) {
 	u := r.limits.utilisation()
 	conds := append(r.buf[:0],
-		above(Fail, n.vHigh, n.maxInputV, "V", func() string {
+		above("over", Fail, n.vHigh, n.maxInputV, "V"),
+		above("near", Warn, n.vHigh, u*n.maxInputV, "V"))
+	r.emit(CheckDriverVoltage, n.id, n.ptr, r.basis.rating, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt(n.id), txt("'s input peaks at "), val(n.vHigh), txt(" V of its "), val(n.maxInputV), txt(" V rating."))
+		case c.what == "over":
 			return fmt.Sprintf("%s's input reaches %s V with a full source, above its max_input_v of %s V.", n.id, num(n.vHigh), num(n.maxInputV))
-		}),
-		above(Warn, n.vHigh, u*n.maxInputV, "V", func() string {
-			return fmt.Sprintf("%s's input reaches %s V, over %s of its max_input_v of %s V: motor spikes can push it over.",
-				n.id, num(n.vHigh), pct(u), num(n.maxInputV))
-		}))
-	r.emit(CheckDriverVoltage, n.id, n.ptr, r.basis.rating, conds, func(cond) string {
-		return fmt.Sprintf("%s's input peaks at %s V of its %s V rating.", n.id, num(n.vHigh), num(n.maxInputV))
-	})
-	conds = append(conds[:0],
-		above(Fail, n.outRun, n.continuousA, "A", func() string {
-			return fmt.Sprintf("%s carries %s A continuously, above its continuous_a of %s A.", n.id, num(n.outRun), num(n.continuousA))
-		}))
-	if n.peakRatingA > 0 {
-		conds = append(conds, above(Fail, n.outPeak, n.peakRatingA, "A", func() string {
-			return fmt.Sprintf("%s must pass surges of %s A (motor stall), above its peak_a of %s A.", n.id, num(n.outPeak), num(n.peakRatingA))
-		}))
-	}
-	conds = append(conds, above(Warn, n.outRun, u*n.continuousA, "A", func() string {
-		return fmt.Sprintf("%s carries %s A, over %s of its continuous_a of %s A.", n.id, num(n.outRun), pct(u), num(n.continuousA))
-	}))
-	if n.peakRatingA > 0 {
-		conds = append(conds, above(Warn, n.outPeak, u*n.peakRatingA, "A", func() string {
-			return fmt.Sprintf("%s must pass surges of %s A, over %s of its peak_a of %s A.", n.id, num(n.outPeak), pct(u), num(n.peakRatingA))
-		}))
-	}
-	r.emit(CheckDriverCurrent, n.id, n.ptr, r.basis.rating, conds, func(cond) string {
-		msg := fmt.Sprintf("%s carries %s A of its %s A continuous rating", n.id, num(n.outRun), num(n.continuousA))
-		if n.peakRatingA > 0 {
-			return msg + fmt.Sprintf(", and surges of %s A of its %s A peak rating.", num(n.outPeak), num(n.peakRatingA))
 		}
-		return msg + fmt.Sprintf("; surges reach %s A (no peak_a given to check them against).", num(n.outPeak))
+		return fmt.Sprintf("%s's input reaches %s V, over %s of its max_input_v of %s V: motor spikes can push it over.",
+			n.id, num(n.vHigh), pct(u), num(n.maxInputV))
 	})
-	r.buf = conds
+	conds = append(r.buf[:0], above("run", Fail, n.outRun, n.continuousA, "A"))
+	if n.peakRatingA > 0 {
+		conds = append(conds, above("peak", Fail, n.outPeak, n.peakRatingA, "A"))
+	}
+	conds = append(conds, above("run near", Warn, n.outRun, u*n.continuousA, "A"))
+	if n.peakRatingA > 0 {
+		conds = append(conds, above("peak near", Warn, n.outPeak, u*n.peakRatingA, "A"))
+	}
+	r.emit(CheckDriverCurrent, n.id, n.ptr, r.basis.rating, conds, func(c cond, passed bool) string {
+		switch {
+		case passed && n.peakRatingA > 0:
+			return r.say(txt(n.id), txt(" carries "), val(n.outRun), txt(" A of its "), val(n.continuousA),
+				txt(" A continuous rating, and surges of "), val(n.outPeak), txt(" A of its "), val(n.peakRatingA), txt(" A peak rating."))
+		case passed:
+			return fmt.Sprintf("%s carries %s A of its %s A continuous rating; surges reach %s A (no peak_a given to check them against).",
+				n.id, num(n.outRun), num(n.continuousA), num(n.outPeak))
+		case c.what == "run":
+			return fmt.Sprintf("%s carries %s A continuously, above its continuous_a of %s A.", n.id, num(n.outRun), num(n.continuousA))
+		case c.what == "peak":
+			return fmt.Sprintf("%s must pass surges of %s A (motor stall), above its peak_a of %s A.", n.id, num(n.outPeak), num(n.peakRatingA))
+		case c.what == "run near":
+			return fmt.Sprintf("%s carries %s A, over %s of its continuous_a of %s A.", n.id, num(n.outRun), pct(u), num(n.continuousA))
+		}
+		return fmt.Sprintf("%s must pass surges of %s A, over %s of its peak_a of %s A.", n.id, num(n.outPeak), pct(u), num(n.peakRatingA))
+	})
 }
 
 func (r *reviewer) sourceCurrent(n *node, criticalNeed float64, criticalID string) {
@@ -337,54 +383,59 @@ func (r *reviewer) sourceCurrent(n *node, criticalNeed float64, criticalID strin
 		rating, ratingName = n.maxDischargeA, "max_discharge_a"
 	}
 	conds := append(r.buf[:0],
-		above(Fail, n.run, rating, "A", func() string {
-			return fmt.Sprintf("%s must deliver %s A continuously, above its %s of %s A.", n.id, num(n.run), ratingName, num(rating))
-		}),
-		above(Warn, n.peak, rating, "A", func() string {
-			return fmt.Sprintf("%s must deliver surges of %s A, above its %s of %s A.", n.id, num(n.peak), ratingName, num(rating))
-		}))
+		above("run", Fail, n.run, rating, "A"),
+		above("peak", Warn, n.peak, rating, "A"))
+	var sag float64
 	if n.kind == kindBattery && !math.IsInf(criticalNeed, 0) {
-		sag := n.vNom - n.peak*n.pack.InternalOhm()
-		conds = append(conds, below(Warn, sag, criticalNeed, "V", func() string {
-			return fmt.Sprintf("A surge of %s A sags %s from %s V to %s V through its %s Ω internal resistance; the critical "+
-				"load %s needs the pack at %s V or more.", num(n.peak), n.id, num(n.vNom), num(sag), num(n.pack.InternalOhm()),
-				criticalID, num(criticalNeed))
-		}))
+		sag = n.vNom - n.peak*n.pack.InternalOhm()
+		conds = append(conds, below("sag", Warn, sag, criticalNeed, "V"))
 	}
-	r.emit(CheckSourceCurrent, n.id, n.ptr, r.basis.source, conds, func(cond) string {
-		return fmt.Sprintf("%s delivers %s A (surges %s A) of its %s A rating.", n.id, num(n.run), num(n.peak), num(rating))
+	r.emit(CheckSourceCurrent, n.id, n.ptr, r.basis.source, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt(n.id), txt(" delivers "), val(n.run), txt(" A (surges "), val(n.peak), txt(" A) of its "), val(rating),
+				txt(" A rating."))
+		case c.what == "run":
+			return fmt.Sprintf("%s must deliver %s A continuously, above its %s of %s A.", n.id, num(n.run), ratingName, num(rating))
+		case c.what == "peak":
+			return fmt.Sprintf("%s must deliver surges of %s A, above its %s of %s A.", n.id, num(n.peak), ratingName, num(rating))
+		}
+		return fmt.Sprintf("A surge of %s A sags %s from %s V to %s V through its %s Ω internal resistance; the critical "+
+			"load %s needs the pack at %s V or more.", num(n.peak), n.id, num(n.vNom), num(sag), num(n.pack.InternalOhm()),
+			criticalID, num(criticalNeed))
 	})
-	r.buf = conds
 }
 
 func (r *reviewer) sourceRuntime(n *node, hours, target float64, limitedBy string) {
-	conds := append(r.buf[:0], below(Warn, hours, target, "h", func() string {
+	conds := append(r.buf[:0], below("short", Warn, hours, target, "h"))
+	r.emit(CheckSourceRuntime, n.id, n.ptr, r.basis.runtime, conds, func(c cond, passed bool) string {
+		if passed {
+			return fmt.Sprintf("%s lasts about %s h at %s A average (limited by %s), meeting the %s h target.", n.id, num(hours),
+				num(n.avg), limitedBy, num(target))
+		}
 		return fmt.Sprintf("%s lasts about %s h at %s A average (limited by %s), short of the %s h target.", n.id, num(hours),
 			num(n.avg), limitedBy, num(target))
-	}))
-	r.emit(CheckSourceRuntime, n.id, n.ptr, r.basis.runtime, conds, func(cond) string {
-		return fmt.Sprintf("%s lasts about %s h at %s A average (limited by %s), meeting the %s h target.", n.id, num(hours),
-			num(n.avg), limitedBy, num(target))
 	})
-	r.buf = conds
 }
 
-func (r *reviewer) wireAmpacity(n *node) {
+func (r *reviewer) wireAmpacity(n *node, ptr string) {
 	f := n.feed
 	u := r.limits.utilisation()
 	conds := append(r.buf[:0],
-		above(Fail, n.run, f.ampacity, "A", func() string {
+		above("over", Fail, n.run, f.ampacity, "A"),
+		above("near", Warn, n.run, u*f.ampacity, "A"))
+	r.emit(CheckWireAmpacity, n.id, ptr, r.basis.ampacity, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt("The "), txt(f.gauge.Label), txt(" feed to "), txt(n.id), txt(" carries "), val(n.run), txt(" A of its "),
+				val(f.ampacity), txt(" A ampacity."))
+		case c.what == "over":
 			return fmt.Sprintf("The %s feed to %s carries %s A, above its ampacity of %s A: it will overheat. Use a thicker wire.",
 				f.gauge.Label, n.id, num(n.run), num(f.ampacity))
-		}),
-		above(Warn, n.run, u*f.ampacity, "A", func() string {
-			return fmt.Sprintf("The %s feed to %s carries %s A, over %s of its ampacity of %s A.", f.gauge.Label, n.id, num(n.run),
-				pct(u), num(f.ampacity))
-		}))
-	r.emit(CheckWireAmpacity, n.id, n.ptr+"/feed/wire", r.basis.ampacity, conds, func(cond) string {
-		return fmt.Sprintf("The %s feed to %s carries %s A of its %s A ampacity.", f.gauge.Label, n.id, num(n.run), num(f.ampacity))
+		}
+		return fmt.Sprintf("The %s feed to %s carries %s A, over %s of its ampacity of %s A.", f.gauge.Label, n.id, num(n.run),
+			pct(u), num(f.ampacity))
 	})
-	r.buf = conds
 }
 
 // dropPct is a feed's drop at the running current as a percentage of the
@@ -401,26 +452,29 @@ func (r *reviewer) dropPct(n *node) (dropV, share float64) {
 	return dropV, 0
 }
 
-func (r *reviewer) wireDrop(n *node) {
+func (r *reviewer) wireDrop(n *node, ptr string) {
 	dropV, share := r.dropPct(n)
 	lim := r.limits.VoltageDrop
-	conds := append(r.buf[:0], above(Fail, share, lim.NonCriticalPct.Value, "%", func() string {
-		return fmt.Sprintf("The feed to %s loses %s V, %s %% of %s V: over the %s %% limit. Use a thicker or shorter wire.",
-			n.id, num(dropV), num(share), num(r.t.nodes[n.parent].outNom), num(lim.NonCriticalPct.Value))
-	}))
+	base := r.t.nodes[n.parent].outNom
+	conds := append(r.buf[:0], above("over", Fail, share, lim.NonCriticalPct.Value, "%"))
 	if n.critical {
-		conds = append(conds, above(Warn, share, lim.CriticalPct.Value, "%", func() string {
-			return fmt.Sprintf("The feed to %s, a critical load, loses %s V, %s %% of %s V: over the %s %% limit for critical loads.",
-				n.id, num(dropV), num(share), num(r.t.nodes[n.parent].outNom), num(lim.CriticalPct.Value))
-		}))
+		conds = append(conds, above("critical", Warn, share, lim.CriticalPct.Value, "%"))
 	}
-	r.emit(CheckWireDrop, n.id, n.ptr+"/feed/wire", r.basis.drop, conds, func(c cond) string {
-		return fmt.Sprintf("The feed to %s loses %s V (%s %%), within the %s %% limit.", n.id, num(dropV), num(share), num(c.limit))
+	r.emit(CheckWireDrop, n.id, ptr, r.basis.drop, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt("The feed to "), txt(n.id), txt(" loses "), val(dropV), txt(" V ("), val(share), txt(" %), within the "),
+				val(c.limit), txt(" % limit."))
+		case c.what == "over":
+			return fmt.Sprintf("The feed to %s loses %s V, %s %% of %s V: over the %s %% limit. Use a thicker or shorter wire.",
+				n.id, num(dropV), num(share), num(base), num(c.limit))
+		}
+		return fmt.Sprintf("The feed to %s, a critical load, loses %s V, %s %% of %s V: over the %s %% limit for critical loads.",
+			n.id, num(dropV), num(share), num(base), num(c.limit))
 	})
-	r.buf = conds
 }
 
-func (r *reviewer) fuseMissing(n *node) {
+func (r *reviewer) fuseMissing(n *node, ptr string) {
 	src := &r.t.nodes[n.parent]
 	deliver, what := src.maxA, "its max_a"
 	if src.kind == kindBattery {
@@ -429,47 +483,34 @@ func (r *reviewer) fuseMissing(n *node) {
 	f := n.feed
 	fused := f.fuse != nil
 	conds := append(r.buf[:0],
-		flagged(Fail, !fused && deliver > f.ampacity, deliver, f.ampacity, "A", func() string {
+		flagged("burns", Fail, !fused && deliver > f.ampacity, deliver, f.ampacity, "A"),
+		flagged("advised", Warn, !fused, deliver, f.ampacity, "A"))
+	r.emit(CheckFuseMissing, n.id, ptr, r.basis.fuseMissing, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt("The feed from "), txt(src.id), txt(" to "), txt(n.id), txt(" is fused at "), val(f.fuse.ratingA), txt(" A."))
+		case c.what == "burns":
 			return fmt.Sprintf("The feed from %s to %s has no fuse, and %s can deliver %s A (%s), more than the %s A its %s wire "+
 				"carries: a short would set the wire alight. Fuse it next to %s.", src.id, n.id, src.id, num(deliver), what,
 				num(f.ampacity), f.gauge.Label, src.id)
-		}),
-		flagged(Warn, !fused, deliver, f.ampacity, "A", func() string {
-			return fmt.Sprintf("The feed from %s to %s has no fuse. %s can deliver at most %s A, within what the wire carries, "+
-				"but a fuse next to the source is still advised.", src.id, n.id, src.id, num(deliver))
-		}))
-	r.emit(CheckFuseMissing, n.id, n.ptr+"/feed", r.basis.fuseMissing, conds, func(cond) string {
-		return fmt.Sprintf("The feed from %s to %s is fused at %s A.", src.id, n.id, num(f.fuse.ratingA))
+		}
+		return fmt.Sprintf("The feed from %s to %s has no fuse. %s can deliver at most %s A, within what the wire carries, "+
+			"but a fuse next to the source is still advised.", src.id, n.id, src.id, num(deliver))
 	})
-	r.buf = conds
 }
 
-func (r *reviewer) fuseRating(n *node, protectedAmp float64, protectedID string) {
-	f := n.feed
-	fu := f.fuse
+func (r *reviewer) fuseRating(n *node, ptr string, protectedAmp float64, protectedID string) {
+	fu := n.feed.fuse
 	l := r.limits.Fuses
 	maxRating := l.MaxAmpacityMultiple.Value * protectedAmp
 	minRating := l.ContinuousLoadFactor.Value * n.run
-	conds := append(r.buf[:0],
-		above(Fail, fu.ratingA, maxRating, "A", func() string {
-			return fmt.Sprintf("The %s A fuse on the feed to %s is too big to protect the wire to %s (%s A ampacity): at most %s A.",
-				num(fu.ratingA), n.id, protectedID, num(protectedAmp), num(maxRating))
-		}))
+	conds := append(r.buf[:0], above("too big", Fail, fu.ratingA, maxRating, "A"))
 	if fu.voltageV > 0 {
-		conds = append(conds, below(Fail, fu.voltageV, n.vHigh, "V", func() string {
-			return fmt.Sprintf("The fuse on the feed to %s is rated %s V, below the %s V the circuit reaches: it may not break the arc.",
-				n.id, num(fu.voltageV), num(n.vHigh))
-		}))
+		conds = append(conds, below("voltage", Fail, fu.voltageV, n.vHigh, "V"))
 	}
-	conds = append(conds, below(Warn, fu.ratingA, minRating, "A", func() string {
-		return fmt.Sprintf("The %s A fuse on the feed to %s is below %s × its %s A running current (%s A): it may blow in normal use.",
-			num(fu.ratingA), n.id, num(l.ContinuousLoadFactor.Value), num(n.run), num(minRating))
-	}))
+	conds = append(conds, below("too small", Warn, fu.ratingA, minRating, "A"))
 	if fu.fast && n.hasMotor {
-		conds = append(conds, below(Warn, fu.ratingA, n.peak, "A", func() string {
-			return fmt.Sprintf("The fast %s A fuse on the feed to %s is below the %s A motor surge it will see: use a slow fuse.",
-				num(fu.ratingA), n.id, num(n.peak))
-		}))
+		conds = append(conds, below("surge", Warn, fu.ratingA, n.peak, "A"))
 	}
 	series := l.Families
 	if fu.family != nil {
@@ -484,27 +525,43 @@ func (r *reviewer) fuseRating(n *node, protectedAmp float64, protectedID string)
 			next = r
 		}
 	}
-	conds = append(conds, flagged(Warn, !standard, fu.ratingA, next, "A", func() string {
+	conds = append(conds, flagged("standard", Warn, !standard, fu.ratingA, next, "A"))
+	r.emit(CheckFuseRating, n.id, ptr, r.basis.fuseRating, conds, func(c cond, passed bool) string {
+		switch {
+		case passed:
+			if fu.voltageV > 0 {
+				return r.say(txt("The "), val(fu.ratingA), txt(" A fuse on the feed to "), txt(n.id), txt(" sits between "), val(minRating),
+					txt(" A (running current × "), val(l.ContinuousLoadFactor.Value), txt(") and "), val(maxRating),
+					txt(" A (the wire it protects × "), val(l.MaxAmpacityMultiple.Value), txt("), and its "), val(fu.voltageV),
+					txt(" V rating covers the "), val(n.vHigh), txt(" V circuit."))
+			}
+			return r.say(txt("The "), val(fu.ratingA), txt(" A fuse on the feed to "), txt(n.id), txt(" sits between "), val(minRating),
+				txt(" A (running current × "), val(l.ContinuousLoadFactor.Value), txt(") and "), val(maxRating),
+				txt(" A (the wire it protects × "), val(l.MaxAmpacityMultiple.Value),
+				txt("); give voltage_rating_v or a family to check its voltage rating."))
+		case c.what == "too big":
+			return fmt.Sprintf("The %s A fuse on the feed to %s is too big to protect the wire to %s (%s A ampacity): at most %s A.",
+				num(fu.ratingA), n.id, protectedID, num(protectedAmp), num(maxRating))
+		case c.what == "voltage":
+			return fmt.Sprintf("The fuse on the feed to %s is rated %s V, below the %s V the circuit reaches: it may not break the arc.",
+				n.id, num(fu.voltageV), num(n.vHigh))
+		case c.what == "too small":
+			return fmt.Sprintf("The %s A fuse on the feed to %s is below %s × its %s A running current (%s A): it may blow in normal use.",
+				num(fu.ratingA), n.id, num(l.ContinuousLoadFactor.Value), num(n.run), num(minRating))
+		case c.what == "surge":
+			return fmt.Sprintf("The fast %s A fuse on the feed to %s is below the %s A motor surge it will see: use a slow fuse.",
+				num(fu.ratingA), n.id, num(n.peak))
+		}
 		series := "any stored fuse series"
 		if fu.family != nil {
 			series = "the " + fu.family.Name + " series"
 		}
 		return fmt.Sprintf("%s A on the feed to %s is not a standard rating of %s; the next one up is %s A (check it against "+
 			"the limits above).", num(fu.ratingA), n.id, series, num(next))
-	}))
-	r.emit(CheckFuseRating, n.id, n.ptr+"/feed/fuse", r.basis.fuseRating, conds, func(cond) string {
-		msg := fmt.Sprintf("The %s A fuse on the feed to %s sits between %s A (running current × %s) and %s A (the wire it "+
-			"protects × %s)", num(fu.ratingA), n.id, num(minRating), num(l.ContinuousLoadFactor.Value), num(maxRating),
-			num(l.MaxAmpacityMultiple.Value))
-		if fu.voltageV > 0 {
-			return msg + fmt.Sprintf(", and its %s V rating covers the %s V circuit.", num(fu.voltageV), num(n.vHigh))
-		}
-		return msg + "; give voltage_rating_v or a family to check its voltage rating."
 	})
-	r.buf = conds
 }
 
-func (r *reviewer) fusePlacement(n *node) {
+func (r *reviewer) fusePlacement(n *node, ptr string) {
 	fu := n.feed.fuse
 	l := r.limits.Fuses
 	limit := l.MaxDistanceM.Value
@@ -512,55 +569,54 @@ func (r *reviewer) fusePlacement(n *node) {
 		limit = l.MaxDistanceSheathedM.Value
 	}
 	src := r.t.nodes[n.parent].id
-	var c cond
-	if fu.hasDist {
-		c = above(Warn, fu.distanceM, limit, "m", func() string {
+	c := above("far", Warn, fu.distanceM, limit, "m")
+	if !fu.hasDist {
+		c = flagged("unknown", Warn, true, 0, limit, "m")
+	}
+	r.emit(CheckFusePlacement, n.id, ptr, r.basis.fusePlacement, append(r.buf[:0], c), func(c cond, passed bool) string {
+		switch {
+		case passed:
+			return r.say(txt("The fuse on the feed to "), txt(n.id), txt(" sits "), val(fu.distanceM), txt(" m from "), txt(src),
+				txt(", within "), val(limit), txt(" m."))
+		case c.what == "far":
 			return fmt.Sprintf("The fuse on the feed to %s sits %s m from %s; keep it within %s m so the wire before it is short.",
 				n.id, num(fu.distanceM), src, num(limit))
-		})
-	} else {
-		c = flagged(Warn, true, 0, limit, "m", func() string {
-			return fmt.Sprintf("The fuse on the feed to %s gives no distance_from_source_m; place it within %s m of %s.",
-				n.id, num(limit), src)
-		})
-	}
-	conds := append(r.buf[:0], c)
-	r.emit(CheckFusePlacement, n.id, n.ptr+"/feed/fuse", r.basis.fusePlacement, conds, func(cond) string {
-		return fmt.Sprintf("The fuse on the feed to %s sits %s m from %s, within %s m.", n.id, num(fu.distanceM), src, num(limit))
+		}
+		return fmt.Sprintf("The fuse on the feed to %s gives no distance_from_source_m; place it within %s m of %s.",
+			n.id, num(limit), src)
 	})
-	r.buf = conds
 }
 
-func (r *reviewer) connectorRating(n *node, k int, c connector) {
+func (r *reviewer) connectorRating(n *node, ptr string, k int, c connector) {
 	u := r.limits.utilisation()
-	name := "connector " + strconv.Itoa(k+1)
-	if c.family != "" {
-		name = c.family + " connector"
-	}
-	conds := append(r.buf[:0], above(Fail, n.run, c.ratingA, "A", func() string {
-		return fmt.Sprintf("The %s on the feed to %s carries %s A, above its %s A rating.", name, n.id, num(n.run), num(c.ratingA))
-	}))
+	conds := append(r.buf[:0], above("current", Fail, n.run, c.ratingA, "A"))
 	if c.ratingV > 0 {
-		conds = append(conds, above(Fail, n.vHigh, c.ratingV, "V", func() string {
-			return fmt.Sprintf("The %s on the feed to %s sees %s V, above its %s V rating.", name, n.id, num(n.vHigh), num(c.ratingV))
-		}))
+		conds = append(conds, above("voltage", Fail, n.vHigh, c.ratingV, "V"))
 	}
-	conds = append(conds, above(Warn, n.run, u*c.ratingA, "A", func() string {
-		return fmt.Sprintf("The %s on the feed to %s carries %s A, over %s of its %s A rating.", name, n.id, num(n.run), pct(u), num(c.ratingA))
-	}))
+	conds = append(conds, above("current near", Warn, n.run, u*c.ratingA, "A"))
 	if c.ratingV > 0 {
-		conds = append(conds, above(Warn, n.vHigh, u*c.ratingV, "V", func() string {
-			return fmt.Sprintf("The %s on the feed to %s sees %s V, over %s of its %s V rating.", name, n.id, num(n.vHigh), pct(u), num(c.ratingV))
-		}))
+		conds = append(conds, above("voltage near", Warn, n.vHigh, u*c.ratingV, "V"))
 	}
-	r.emit(CheckConnectorRating, n.id, n.ptr+"/feed/connectors/"+strconv.Itoa(k), r.basis.connector, conds, func(cond) string {
-		msg := fmt.Sprintf("The %s on the feed to %s carries %s A of its %s A rating", name, n.id, num(n.run), num(c.ratingA))
-		if c.ratingV > 0 {
-			return msg + fmt.Sprintf(" at up to %s V of its %s V.", num(n.vHigh), num(c.ratingV))
+	r.emit(CheckConnectorRating, n.id, ptr, r.basis.connector, conds, func(cd cond, passed bool) string {
+		name := "connector " + strconv.Itoa(k+1)
+		if c.family != "" {
+			name = c.family + " connector"
 		}
-		return msg + "."
+		switch {
+		case passed && c.ratingV > 0:
+			return fmt.Sprintf("The %s on the feed to %s carries %s A of its %s A rating at up to %s V of its %s V.",
+				name, n.id, num(n.run), num(c.ratingA), num(n.vHigh), num(c.ratingV))
+		case passed:
+			return fmt.Sprintf("The %s on the feed to %s carries %s A of its %s A rating.", name, n.id, num(n.run), num(c.ratingA))
+		case cd.what == "current":
+			return fmt.Sprintf("The %s on the feed to %s carries %s A, above its %s A rating.", name, n.id, num(n.run), num(c.ratingA))
+		case cd.what == "voltage":
+			return fmt.Sprintf("The %s on the feed to %s sees %s V, above its %s V rating.", name, n.id, num(n.vHigh), num(c.ratingV))
+		case cd.what == "current near":
+			return fmt.Sprintf("The %s on the feed to %s carries %s A, over %s of its %s A rating.", name, n.id, num(n.run), pct(u), num(c.ratingA))
+		}
+		return fmt.Sprintf("The %s on the feed to %s sees %s V, over %s of its %s V rating.", name, n.id, num(n.vHigh), pct(u), num(c.ratingV))
 	})
-	r.buf = conds
 }
 
 // scope is the design-wide check: mains anywhere, or a source above the
@@ -597,7 +653,7 @@ func (r *reviewer) scope() {
 	}
 	msg := fmt.Sprintf("No mains in the design, and every source stays at or below %s V DC.", num(ceiling))
 	if len(salvaged) > 0 {
-		msg += fmt.Sprintf(" %s came out of mains-powered appliances: use only their low-voltage side.", joinIDs(salvaged))
+		msg += fmt.Sprintf(" Salvaged from a mains-powered appliance: %s; use only the low-voltage side.", joinIDs(salvaged))
 	}
 	r.add(Check{Check: CheckScopeMains, Pointer: "", Status: Pass, Value: highest, Limit: ceiling, Unit: "V", Basis: r.basis.scope,
 		Message: msg})

@@ -223,6 +223,7 @@ func or(v *float64, def float64) float64 {
 // a *domain.ValidationError.
 func build(doc domain.Design, limits Limits, components map[int64]domain.Component, ambientC float64) ([]node, error) {
 	var p domain.Problems
+	rc := ratingCache{gauges: map[string]electric.Gauge{}, amps: map[ampKey]ampEntry{}}
 	nodes := make([]node, len(doc.Nodes))
 	index := make(map[string]int, len(doc.Nodes))
 	for i, dn := range doc.Nodes {
@@ -256,7 +257,7 @@ func build(doc domain.Design, limits Limits, components map[int64]domain.Compone
 		}
 		resolveNode(&p, n, dn, limits)
 		if dn.Feed != nil {
-			n.feed = resolveFeed(&p, ptr+"/feed", *dn.Feed, limits, ambientC)
+			n.feed = resolveFeed(&p, ptr+"/feed", *dn.Feed, limits, ambientC, &rc)
 		}
 	}
 	return nodes, p.Err()
@@ -327,9 +328,48 @@ func (n *node) setRange(dn domain.Node) {
 	n.minV, n.maxV = or(dn.MinV, 0), or(dn.MaxV, 0)
 }
 
-func resolveFeed(p *domain.Problems, ptr string, df domain.Feed, limits Limits, ambientC float64) *feed {
+// ratingCache remembers parsed gauges and ampacities for one review: a
+// large design uses a handful of wire sizes many times over.
+type ratingCache struct {
+	gauges map[string]electric.Gauge
+	amps   map[ampKey]ampEntry
+}
+
+type ampKey struct {
+	label       string
+	insulationC float64
+	bundled     int
+}
+
+type ampEntry struct {
+	amps float64
+	err  error
+}
+
+func (rc *ratingCache) gauge(label string) (electric.Gauge, error) {
+	if g, ok := rc.gauges[label]; ok {
+		return g, nil
+	}
+	g, err := electric.ParseGauge(label)
+	if err == nil {
+		rc.gauges[label] = g
+	}
+	return g, err
+}
+
+func (rc *ratingCache) ampacity(t electric.ConductorTable, g electric.Gauge, insulationC float64, bundled int) (float64, error) {
+	k := ampKey{g.Label, insulationC, bundled}
+	e, ok := rc.amps[k]
+	if !ok {
+		e.amps, e.err = t.Ampacity(g, insulationC, bundled)
+		rc.amps[k] = e
+	}
+	return e.amps, e.err
+}
+
+func resolveFeed(p *domain.Problems, ptr string, df domain.Feed, limits Limits, ambientC float64, rc *ratingCache) *feed {
 	w := df.Wire
-	g, err := electric.ParseGauge(w.Gauge)
+	g, err := rc.gauge(w.Gauge)
 	if err != nil { // Validate has already said so; keep the pointer honest anyway
 		p.Add(ptr+"/wire/gauge", "%v", err)
 		return nil
@@ -341,7 +381,7 @@ func resolveFeed(p *domain.Problems, ptr string, df domain.Feed, limits Limits, 
 		f.bundled = *w.Bundled
 	}
 	f.resistance = electric.LoopResistanceOhm(g, w.LengthM, ambientC)
-	f.ampacity, err = limits.Conductors.Ampacity(g, f.insulationC, f.bundled)
+	f.ampacity, err = rc.ampacity(limits.Conductors, g, f.insulationC, f.bundled)
 	if err != nil {
 		p.Add(ptr+"/wire", "the stored conductor table cannot rate this wire: %v", err)
 	}

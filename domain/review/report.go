@@ -102,6 +102,10 @@ type NodeResult struct {
 	OutVHigh     *float64 `json:"out_v_high,omitempty"`
 	DissipationW *float64 `json:"dissipation_w,omitempty"`
 	JunctionC    *float64 `json:"junction_c,omitempty"`
+	// Collapsed marks a switching regulator whose feed cannot carry the
+	// power it needs: there is no operating point, and its currents are the
+	// most the feed could deliver.
+	Collapsed bool `json:"collapsed,omitempty"`
 }
 
 // FeedResult is the wire run to a node: its loop resistance, the current

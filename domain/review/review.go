@@ -3,6 +3,7 @@ package review
 import (
 	"fmt"
 	"math"
+	"strconv"
 
 	"wattshelf/domain"
 	"wattshelf/domain/electric"
@@ -14,7 +15,8 @@ type reviewer struct {
 	ambient float64
 	basis   bases
 	checks  []Check
-	buf     []cond
+	buf     []cond // conditions of the check being built, reused
+	text    []byte // the sentence being built, reused
 }
 
 // Review checks a design against a limits set. It validates the document,
@@ -47,7 +49,7 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 	t := newTree(nodes)
 	t.solve()
 	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: newBases(limits),
-		checks: make([]Check, 0, 6*len(nodes)+1)}
+		checks: make([]Check, 0, 8*len(nodes)+1)}
 	rep := Report{
 		LimitsVersion: limitsVersion,
 		EngineVersion: EngineVersion,
@@ -114,20 +116,23 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 }
 
 func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
-	r.wireAmpacity(n)
-	r.wireDrop(n)
+	feedPtr := n.ptr + "/feed"
+	wirePtr := feedPtr + "/wire"
+	r.wireAmpacity(n, wirePtr)
+	r.wireDrop(n, wirePtr)
 	fromSource := r.t.nodes[n.parent].isSource()
 	if fromSource {
-		r.fuseMissing(n)
+		r.fuseMissing(n, feedPtr)
 	}
 	if n.feed.fuse != nil {
-		r.fuseRating(n, protAmp, protID)
+		fusePtr := feedPtr + "/fuse"
+		r.fuseRating(n, fusePtr, protAmp, protID)
 		if fromSource {
-			r.fusePlacement(n)
+			r.fusePlacement(n, fusePtr)
 		}
 	}
 	for k, c := range n.feed.connectors {
-		r.connectorRating(n, k, c)
+		r.connectorRating(n, feedPtr+"/connectors/"+strconv.Itoa(k), k, c)
 	}
 }
 
@@ -228,6 +233,7 @@ func (r *reviewer) nodeResult(n *node) NodeResult {
 		res.Parent = r.t.nodes[n.parent].id
 	}
 	if n.kind == kindRegulator {
+		res.Collapsed = n.switching() && (n.collapsed || !r.t.converged)
 		res.OutVLow, res.OutVNominal, res.OutVHigh = ptr(n.outLow), ptr(n.outNom), ptr(n.outHigh)
 		if n.topo == topoLinear {
 			p, tj := r.junction(n)
@@ -270,39 +276,46 @@ func clean(x float64) float64 {
 
 // checkFinite guards the promise that a report never holds NaN or ±Inf.
 func (rep *Report) checkFinite() error {
-	var bad []string
-	see := func(what string, xs ...float64) {
+	bad := func(xs ...float64) bool {
 		for _, x := range xs {
 			if math.IsNaN(x) || math.IsInf(x, 0) {
-				bad = append(bad, what)
-				return
+				return true
 			}
 		}
+		return false
 	}
-	seeOpt := func(what string, ps ...*float64) {
+	badOpt := func(ps ...*float64) bool {
 		for _, p := range ps {
-			if p != nil {
-				see(what, *p)
+			if p != nil && bad(*p) {
+				return true
 			}
 		}
+		return false
 	}
+	var where []string
 	for _, c := range rep.Checks {
-		see(c.Check+" of "+c.Node, c.Value, c.Limit)
+		if bad(c.Value, c.Limit) {
+			where = append(where, c.Check+" of "+c.Node)
+		}
 	}
 	for _, n := range rep.Nodes {
-		see("operating point of "+n.ID, n.VLow, n.VNominal, n.VHigh, n.RunA, n.PeakA, n.AvgA)
-		seeOpt("regulator "+n.ID, n.OutVLow, n.OutVNominal, n.OutVHigh, n.DissipationW, n.JunctionC)
+		if bad(n.VLow, n.VNominal, n.VHigh, n.RunA, n.PeakA, n.AvgA) ||
+			badOpt(n.OutVLow, n.OutVNominal, n.OutVHigh, n.DissipationW, n.JunctionC) {
+			where = append(where, "operating point of "+n.ID)
+		}
 	}
 	for _, f := range rep.Feeds {
-		see("feed to "+f.Node, f.LengthM, f.ResistanceOhm, f.RunA, f.PeakA, f.DropV, f.DropPct, f.AmpacityA)
-		seeOpt("fuse to "+f.Node, f.FuseA)
+		if bad(f.LengthM, f.ResistanceOhm, f.RunA, f.PeakA, f.DropV, f.DropPct, f.AmpacityA) || badOpt(f.FuseA) {
+			where = append(where, "feed to "+f.Node)
+		}
 	}
 	for _, rt := range rep.Runtime {
-		see("runtime of "+rt.Source, rt.UsableShare)
-		seeOpt("runtime of "+rt.Source, rt.Hours)
+		if bad(rt.UsableShare) || badOpt(rt.Hours) {
+			where = append(where, "runtime of "+rt.Source)
+		}
 	}
-	if len(bad) > 0 {
-		return fmt.Errorf("non-finite numbers in the report: %v", bad)
+	if len(where) > 0 {
+		return fmt.Errorf("non-finite numbers in the report: %v", where)
 	}
 	return nil
 }

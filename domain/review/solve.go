@@ -145,35 +145,32 @@ func (t *tree) switchingCurrents(n *node) {
 	r := n.feed.resistance
 	powerIn := n.outputV * n.outRun / n.efficiency
 	n.collapsed = false
+	if vp <= 0 {
+		// Nothing reaches it at the low end (a regulator above has dropped
+		// out): it is off, and its headroom check says so.
+		n.run, n.peak, n.avg = 0, 0, 0
+		return
+	}
 	vin, ok := solveFeedV(vp, r, powerIn)
 	if !ok {
 		n.collapsed = true
-		if vp <= 0 || r <= 0 {
-			n.run, n.peak, n.avg = 0, 0, 0
-			return
-		}
 		n.run = vp / (2 * r)
 		n.peak, n.avg = n.run, n.run
 		return
 	}
-	// Below its working minimum it stops regulating; it draws most just
-	// above that point.
-	vWork := max(vin, n.minWorkingInputV())
-	n.run = electric.SwitchingInputA(vWork, n.outputV, n.outRun, n.efficiency)
-	n.peak = max(electric.SwitchingInputA(vWork, n.outputV, n.outPeak, n.efficiency), n.run)
-	vAvg := max(n.vNom, vWork)
-	n.avg = electric.SwitchingInputA(vAvg, n.outputV, n.outAvg, n.efficiency)
+	n.run = electric.SwitchingInputA(vin, n.outputV, n.outRun, n.efficiency)
+	n.peak = max(electric.SwitchingInputA(vin, n.outputV, n.outPeak, n.efficiency), n.run)
+	// The nominal input is at least the low one; before the first pass
+	// has set it, the low one stands in.
+	n.avg = electric.SwitchingInputA(max(n.vNom, vin), n.outputV, n.outAvg, n.efficiency)
 }
 
 // solveFeedV is the voltage left at the end of a feed of resistance r from
-// vp when the far end draws constant power powerIn; false when the feed
-// cannot deliver that power at any voltage.
+// vp > 0 when the far end draws constant power powerIn; false when the
+// feed cannot deliver that power at any voltage.
 func solveFeedV(vp, r, powerIn float64) (float64, bool) {
 	if powerIn <= 0 {
-		return max(vp, 0), true
-	}
-	if vp <= 0 {
-		return 0, false
+		return vp, true
 	}
 	disc := vp*vp - 4*r*powerIn
 	if disc < 0 {
