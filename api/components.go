@@ -415,16 +415,46 @@ func (s *server) deleteComponent(c echo.Context) error {
 	return c.NoContent(http.StatusNoContent)
 }
 
+// measurementRequest is a reading as sent. Its pointers tell a value left
+// out from a value of zero: a reading without its voltage or current must
+// be refused, not stored as 0 V or 0 A where the motor fit would use it.
+type measurementRequest struct {
+	VoltageV *float64 `json:"voltage_v"`
+	CurrentA *float64 `json:"current_a"`
+	SpeedRPM *float64 `json:"speed_rpm"`
+	Note     string   `json:"note"`
+}
+
+func (r measurementRequest) input() (domain.MeasurementInput, error) {
+	in := domain.MeasurementInput{SpeedRPM: r.SpeedRPM, Note: r.Note}
+	var missing domain.Problems
+	if r.VoltageV == nil {
+		missing.Add("/voltage_v", "is required")
+	} else {
+		in.VoltageV = *r.VoltageV
+	}
+	if r.CurrentA == nil {
+		missing.Add("/current_a", "is required")
+	} else {
+		in.CurrentA = *r.CurrentA
+	}
+	if err := missing.Err(); err != nil {
+		return in, err
+	}
+	return in, in.Validate()
+}
+
 func (s *server) addMeasurement(c echo.Context) error {
 	id, err := pathID(c, "id")
 	if err != nil {
 		return err
 	}
-	var in domain.MeasurementInput
-	if err := bindStrict(c, &in); err != nil {
+	var req measurementRequest
+	if err := bindStrict(c, &req); err != nil {
 		return err
 	}
-	if err := in.Validate(); err != nil {
+	in, err := req.input()
+	if err != nil {
 		return err
 	}
 	m, err := s.store.AddMeasurement(c.Request().Context(), currentUser(c), id, in)

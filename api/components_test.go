@@ -237,6 +237,22 @@ func TestMeasurementsAPI(t *testing.T) {
 	if !slices.Equal(pointersOf(p), []string{"/recorded_by"}) {
 		t.Errorf("who recorded a reading is the service's to say; problems at %v", pointersOf(p))
 	}
+	// A reading without its voltage or current is refused, not stored as zero.
+	for body, want := range map[string][]string{
+		`{}`:                                    {"/voltage_v", "/current_a"},
+		`{"current_a": 1.2, "speed_rpm": 4000}`: {"/voltage_v"},
+		`{"voltage_v": 6, "note": "forgot amps"}`: {"/current_a"},
+		`{"voltage_v": null, "current_a": 1}`:     {"/voltage_v"},
+	} {
+		p := wantProblem(t, a.do(http.MethodPost, path, a.owner, body), http.StatusUnprocessableEntity, "validation")
+		if !slices.Equal(pointersOf(p), want) {
+			t.Errorf("%s: problems at %v, want %v", body, pointersOf(p), want)
+		}
+	}
+	// Zero is a reading like any other.
+	if r := a.do(http.MethodPost, path, a.owner, `{"voltage_v": 0, "current_a": 0}`); r.status != http.StatusCreated {
+		t.Errorf("reading of 0 V, 0 A: %d %s", r.status, r.body)
+	}
 	wantProblem(t, a.do(http.MethodPost, "/v1/components/999999/measurements", a.owner, `{"voltage_v": 3, "current_a": 1}`), http.StatusNotFound, "not-found")
 	wantProblem(t, a.do(http.MethodGet, "/v1/components/999999/measurements", a.owner, nil), http.StatusNotFound, "not-found")
 }
