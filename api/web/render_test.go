@@ -4,7 +4,6 @@ import (
 	"encoding/json"
 	"io/fs"
 	"math"
-	"os"
 	"path"
 	"regexp"
 	"strconv"
@@ -89,23 +88,6 @@ func renderReportHTML(t *testing.T, v *views, in ReportInput) string {
 		t.Fatal(err)
 	}
 	return b.String()
-}
-
-// TestWriteDemoReports writes the demo reports to files for a person to
-// look at: go test ./api/web -run TestWriteDemoReports -out DIR.
-func TestWriteDemoReports(t *testing.T) {
-	dir := os.Getenv("WATTSHELF_WEB_OUT")
-	if dir == "" {
-		t.Skip("set WATTSHELF_WEB_OUT to a directory to write the demo reports there")
-	}
-	v := mustViews(t)
-	for _, name := range demoDesignNames(t) {
-		html := renderReportHTML(t, v, demoReport(t, name))
-		out := path.Join(dir, strings.TrimSuffix(path.Base(name), ".json")+".html")
-		if err := os.WriteFile(out, []byte(html), 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
 }
 
 var (
