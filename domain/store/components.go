@@ -207,6 +207,43 @@ func (s *Store) Shelf(ctx context.Context) ([]domain.ShelfItem, error) {
 	return items, nil
 }
 
+// ShelfCursor is where a page of the shelf ends, in shelf order.
+type ShelfCursor struct {
+	Bin  string `json:"b"`
+	Name string `json:"n"`
+	ID   int64  `json:"i"`
+}
+
+// ShelfPage returns up to limit shelf items after cursor (nil: from the
+// start) in shelf order, and whether more follow. It walks the (bin,
+// name, id) index, so every page costs the same however deep it is.
+func (s *Store) ShelfPage(ctx context.Context, after *ShelfCursor, limit int) ([]domain.ShelfItem, bool, error) {
+	var rows pgx.Rows
+	var err error
+	if after == nil {
+		rows, err = s.pool.Query(ctx, `SELECT `+componentColumns+` FROM components ORDER BY bin, name, id LIMIT $1`, limit+1)
+	} else {
+		rows, err = s.pool.Query(ctx, `SELECT `+componentColumns+` FROM components
+			WHERE (bin, name, id) > ($1, $2, $3) ORDER BY bin, name, id LIMIT $4`,
+			after.Bin, after.Name, after.ID, limit+1)
+	}
+	if err != nil {
+		return nil, false, fmt.Errorf("read shelf page: %w", err)
+	}
+	items, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (domain.ShelfItem, error) {
+		c, err := scanComponent(r)
+		return c.Public(), err
+	})
+	if err != nil {
+		return nil, false, fmt.Errorf("read shelf page: %w", err)
+	}
+	more := len(items) > limit
+	if more {
+		items = items[:limit]
+	}
+	return items, more, nil
+}
+
 // CountComponents reports how many components the shelf holds.
 func (s *Store) CountComponents(ctx context.Context) (int64, error) {
 	var n int64
