@@ -23,6 +23,7 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	fs.SetOutput(stderr)
 	addr := fs.String("addr", "127.0.0.1:8080", "address to listen on")
 	demo := fs.Bool("demo", false, "load the demo shelf and designs into an empty database")
+	debugAddr := fs.String("debug-addr", "", "also serve Go profiles (net/http/pprof) here, e.g. 127.0.0.1:6060; keep it off public addresses")
 	if err := fs.Parse(args); err != nil {
 		return &exitError{code: 2}
 	}
@@ -47,15 +48,15 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	if err != nil {
 		return fmt.Errorf("listen on %s: %w", *addr, err)
 	}
-	srv := &http.Server{
-		Handler:           handler,
-		ReadHeaderTimeout: 5 * time.Second,
-		ReadTimeout:       30 * time.Second,
-		WriteTimeout:      60 * time.Second,
-		IdleTimeout:       120 * time.Second,
-		MaxHeaderBytes:    64 << 10,
-	}
+	srv := newHTTPServer(handler)
 	logger.Info("serving", "addr", "http://"+ln.Addr().String(), "demo", *demo)
+	if *debugAddr != "" {
+		stopDebug, err := serveDebug(*debugAddr, logger)
+		if err != nil {
+			return err
+		}
+		defer stopDebug()
+	}
 
 	served := make(chan error, 1)
 	go func() { served <- srv.Serve(ln) }()
@@ -75,4 +76,18 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	}
 	logger.Info("stopped")
 	return nil
+}
+
+// newHTTPServer wraps handler with the timeouts that cut off slow or
+// stalled clients: a client gets 5 s to send its headers and 30 s for the
+// whole request, so a trickle of bytes cannot hold a connection open.
+func newHTTPServer(handler http.Handler) *http.Server {
+	return &http.Server{
+		Handler:           handler,
+		ReadHeaderTimeout: 5 * time.Second,
+		ReadTimeout:       30 * time.Second,
+		WriteTimeout:      60 * time.Second,
+		IdleTimeout:       120 * time.Second,
+		MaxHeaderBytes:    64 << 10,
+	}
 }

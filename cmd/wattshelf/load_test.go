@@ -1,0 +1,144 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"testing"
+	"time"
+
+	"wattshelf/domain"
+	"wattshelf/domain/review"
+)
+
+func TestReviewDesignIsAValidDesignOfTheAskedSize(t *testing.T) {
+	for _, n := range []int{10, loadReviewDesignNodes} {
+		doc, err := domain.DecodeDesign(reviewDesign("load", n))
+		if err != nil {
+			t.Fatalf("%d nodes: %v", n, err)
+		}
+		if err := doc.Validate(); err != nil {
+			t.Fatalf("%d nodes: %v", n, err)
+		}
+		if len(doc.Nodes) != n {
+			t.Errorf("asked for %d nodes, got %d", n, len(doc.Nodes))
+		}
+		rep, err := review.Review(doc, review.DefaultLimits(), 1, nil)
+		if err != nil {
+			t.Fatalf("%d nodes: review: %v", n, err)
+		}
+		// Every node is solved, so the review works on all of them.
+		if len(rep.Nodes) != n {
+			t.Errorf("report covers %d of %d nodes", len(rep.Nodes), n)
+		}
+		if rep.Status == review.Fail || rep.Status == review.OutOfScope {
+			t.Errorf("%d nodes: the generated design is meant to be sound, got %s: %+v", n, rep.Status, failing(rep))
+		}
+	}
+}
+
+func failing(rep review.Report) []review.Check {
+	var out []review.Check
+	for _, c := range rep.Checks {
+		if c.Status == review.Fail {
+			out = append(out, c)
+		}
+	}
+	return out
+}
+
+func TestPercentileIsNearestRank(t *testing.T) {
+	ms := func(v ...int) []time.Duration {
+		out := make([]time.Duration, len(v))
+		for i, x := range v {
+			out[i] = time.Duration(x) * time.Millisecond
+		}
+		return out
+	}
+	// Nearest-rank definition (common practice): the smallest value with
+	// at least q of the sample at or below it.
+	for _, c := range []struct {
+		sorted []time.Duration
+		q      float64
+		want   time.Duration
+	}{
+		{ms(1, 2, 3, 4, 5, 6, 7, 8, 9, 10), 0.5, 5 * time.Millisecond},
+		{ms(1, 2, 3, 4, 5, 6, 7, 8, 9, 10), 0.99, 10 * time.Millisecond},
+		{ms(7), 0.99, 7 * time.Millisecond},
+		{nil, 0.5, 0},
+	} {
+		if got := percentile(c.sorted, c.q); got != c.want {
+			t.Errorf("percentile(%v, %g) = %v, want %v", c.sorted, c.q, got, c.want)
+		}
+	}
+}
+
+func TestRequireLoopback(t *testing.T) {
+	for u, ok := range map[string]bool{
+		"http://127.0.0.1:8080": true, "http://localhost:8080": true, "http://[::1]:8080": true,
+		"http://127.0.0.9:1": true, "http://10.0.0.1:8080": false, "http://example.org": false,
+		"ftp://127.0.0.1": false, "127.0.0.1:8080": false,
+	} {
+		if err := requireLoopback(u); (err == nil) != ok {
+			t.Errorf("requireLoopback(%q) = %v", u, err)
+		}
+	}
+}
+
+func TestLoadReportTargets(t *testing.T) {
+	r := &loadReport{phases: []phaseResult{
+		{route: loadRoute{name: "GET /healthz", floor: "HTTP"}, requests: 1000, elapsed: time.Second, p99: time.Millisecond},
+		{route: loadRoute{name: "GET /readyz", floor: "DB"}, requests: 500, elapsed: time.Second, p99: time.Millisecond},
+		{route: loadRoute{name: "GET /v1/shelf?limit=50", floor: "DB"}, requests: 200, elapsed: time.Second, p99: 60 * time.Millisecond},
+		{route: loadRoute{name: "POST /v1/reviews (30 nodes)", floor: "HTTP"}, requests: 600, elapsed: time.Second, p99: time.Millisecond, fiveXX: 1},
+	}, rssPeak: 120 << 20, rssSource: "test"}
+	missed := r.missedTargets()
+	// shelf: ratio 0.4 and p99 60 ms; reviews: one 5xx; memory 120 MB.
+	if len(missed) != 4 {
+		t.Fatalf("missed %d targets, want 4: %q", len(missed), missed)
+	}
+	var out bytes.Buffer
+	r.print(&out, loadConfig{clients: 32, requests: 1000, duration: time.Second, base: "http://127.0.0.1:1"})
+	for _, want := range []string{"0.40", "0.60", "targets missed", "120.0 MB"} {
+		if !bytes.Contains(out.Bytes(), []byte(want)) {
+			t.Errorf("report lacks %q:\n%s", want, out.String())
+		}
+	}
+}
+
+// BenchmarkReviewPipeline measures the CPU one POST /v1/reviews of the
+// load design costs the server, step by step.
+func BenchmarkReviewPipeline(b *testing.B) {
+	body := reviewDesign("bench", loadReviewDesignNodes)
+	limits := review.DefaultLimits()
+	b.Run("decode", func(b *testing.B) {
+		for b.Loop() {
+			if _, err := domain.DecodeDesign(body); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	doc, err := domain.DecodeDesign(body)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Run("review", func(b *testing.B) {
+		for b.Loop() {
+			if _, err := review.Review(doc, limits, 1, nil); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	rep, err := review.Review(doc, limits, 1, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Run("encode", func(b *testing.B) {
+		for b.Loop() {
+			if _, err := json.Marshal(rep); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	raw, _ := json.Marshal(rep)
+	b.Logf("report of %d nodes: %d bytes", loadReviewDesignNodes, len(raw))
+}
