@@ -354,8 +354,14 @@ func TestKioskInBrowser(t *testing.T) {
 	added := domain.ComponentInput{Name: "Stand mixer speed switch", Kind: "switch", Bin: "S3 switches",
 		Quantity: 2, Condition: "working", SpecSource: "measured", Origin: "stand mixer (battery model)"}
 	body, _ := json.Marshal(added)
+	// Unchanged cards must stay the same elements (nothing redrawn, so
+	// nothing flickers): mark one that a fresh copy would not carry.
+	get(t, b, chromedp.Evaluate[bool](`document.querySelector('li.card[data-id="`+ids[0]+`"]').keptElement = true`))
 	s.call(t, http.MethodPost, "/v1/components", body, http.StatusCreated, nil)
 	b.waitFor(t, "the new component to appear", `(`+visibleNames+`).includes("Stand mixer speed switch")`, 20*time.Second)
+	if !get(t, b, chromedp.Evaluate[bool](`document.querySelector('li.card[data-id="`+ids[0]+`"]').keptElement === true`)) {
+		t.Error("the refresh replaced a card that had not changed")
+	}
 	if !get(t, b, chromedp.Evaluate[bool](`window.keptSinceLoad === true`)) {
 		t.Error("the page reloaded to show the new component")
 	}
