@@ -184,6 +184,30 @@ func TestDesignShapeMatchesStructs(t *testing.T) {
 	}
 }
 
+// numberFields pairs every float field of a node with its own JSON name.
+func TestNodeNumberFieldsMatchTags(t *testing.T) {
+	names := nodeNumberFields()
+	var n Node
+	typ := reflect.TypeFor[Node]()
+	v := reflect.ValueOf(&n).Elem()
+	for i, name := range names {
+		for f := range typ.Fields() {
+			if tag, _, _ := strings.Cut(f.Tag.Get("json"), ","); tag == name {
+				v.FieldByIndex(f.Index).Set(reflect.ValueOf(ptrTo(float64(i + 1))))
+			}
+		}
+	}
+	fields := n.numberFields()
+	if len(fields) != len(names) {
+		t.Fatalf("%d number fields, %d names", len(fields), len(names))
+	}
+	for i, f := range fields {
+		if f.name != names[i] || f.v == nil || *f.v != float64(i+1) {
+			t.Errorf("field %d: %q points at %v, want %q", i, f.name, f.v, names[i])
+		}
+	}
+}
+
 // mutate decodes validDoc into generic JSON, lets change edit it, and
 // decodes the result as a Design.
 func mutate(t *testing.T, change func(doc map[string]any, nodes []any)) Design {

@@ -133,7 +133,8 @@ func TestVoltageRangeEdges(t *testing.T) {
 }
 
 func TestRegulatorEdges(t *testing.T) {
-	// Linear 5 V regulator, dropout 2 V: it needs 7 V at its input. It feeds
+	// Linear 5 V regulator, dropout 2 V (a 78xx-style part, from memory): it
+	// needs output_v + dropout_v = 7 V at its input (common practice). It feeds
 	// a 0.5 A load; its input current is 0.5 A, its feed drop 0.005 V.
 	linear := func(src, extra string) string {
 		from := "bench"
@@ -155,7 +156,8 @@ func TestRegulatorEdges(t *testing.T) {
 		{"linear over max_input_v", linear(bench, `, "max_input_v": 11.9`), "regulator.headroom", "reg", Fail, 12, 11.9, "max_input_v"},
 	})
 
-	// Buck 5 V at η 0.8 with a 1 A load draws P/η = 5/0.8 = 6.25 W. Over a
+	// Buck 5 V at η 0.8 with a 1 A load draws P/η = 5/0.8 = 6.25 W (input
+	// power over efficiency, common practice). Over a
 	// feed of R from 12 V its input is V = (12 + √(144 − 4·R·6.25))/2; the
 	// feed collapses when 4·R·6.25 > 144, i.e. R > 5.76 Ω. 0.13 mm² has a
 	// loop resistance of 2/(58 × 0.13) = 0.26525 Ω/m: 20 m is 5.305 Ω
@@ -200,7 +202,8 @@ func TestRegulatorEdges(t *testing.T) {
 		t.Errorf("boost above its output: %+v", c)
 	}
 
-	// regulator.current: max_output_a 1.25 A; warn above 80 % = 1.0 A (run),
+	// regulator.current: max_output_a 1.25 A; warn above 80 % (utilisation,
+	// common practice) = 1.0 A (run),
 	// fail when the peak exceeds 1.25 A.
 	current := func(run, peak float64) string {
 		return doc("", bench,
@@ -245,7 +248,9 @@ func TestRegulatorThermalEdges(t *testing.T) {
 func TestDriverEdges(t *testing.T) {
 	// A motor with running_a 2 A and stall 5 A at 12 V, on a driver fed from
 	// the 12 V supply: the driver's input high end is 12 V, it carries 2 A
-	// and surges of 5 × 12/12 = 5 A.
+	// and surges of 5 × 12/12 = 5 A (stall current scales with voltage: the
+	// winding resistance V/I_stall, common practice). Each rating warns
+	// above 80 % of it (utilisation, common practice).
 	drv := func(maxIn, cont, peak float64) string {
 		return doc("", bench,
 			fmt.Sprintf(`{"id": "drv", "type": "driver", "max_input_v": %g, "continuous_a": %g, "peak_a": %g, `, maxIn, cont, peak)+feedJS("bench", "1mm2", 0.29, "")+`}`,
@@ -268,7 +273,8 @@ func TestDriverEdges(t *testing.T) {
 }
 
 func TestSourceCurrentEdges(t *testing.T) {
-	// A load of 1 A running, 2 A peak on a supply.
+	// A load of 1 A running, 2 A peak on a supply: fail when the running
+	// current exceeds max_a, warn when the surge does (DESIGN section 7).
 	sup := func(maxA float64) string {
 		return doc("", supplyOf(12, maxA), `{"id": "heater", "type": "load", "current_a": 1, "peak_a": 2, `+feedJS("bench", "1mm2", 0.29, "")+`}`)
 	}
@@ -437,8 +443,9 @@ func TestFuseEdges(t *testing.T) {
 }
 
 func TestConnectorEdges(t *testing.T) {
-	// rating_a 5 A: warn above 4 A, fail above 5 A; rating_v against the
-	// 12 V high end: warn above 80 % (14 V → 11.2 V), fail above it.
+	// rating_a 5 A: warn above 4 A (80 %, common practice), fail above 5 A;
+	// rating_v against the 12 V high end: warn above 80 % (14 V → 11.2 V),
+	// fail above it.
 	conn := func(current float64, c string) string {
 		return doc("", bench, fmt.Sprintf(`{"id": "lamp", "type": "load", "current_a": %g, `, current)+feedJS("bench", "1mm2", 0.29, `, "connectors": [`+c+`]`)+`}`)
 	}
