@@ -43,10 +43,6 @@ type VoltageReadings struct {
 	Points   int     `json:"points"`
 }
 
-// motorFitProblemKind is the problem type of a fit the readings cannot
-// support yet; its detail says what to measure next.
-const motorFitProblemKind = "motor-fit-needs-readings"
-
 func (s *server) motorFit(c echo.Context) error {
 	id, err := pathID(c, "id")
 	if err != nil {
@@ -83,9 +79,9 @@ func (s *server) motorFit(c echo.Context) error {
 			}
 		}
 		if len(chosen) == 0 {
-			return motorFitProblem(c, fmt.Sprintf("component %d has no readings with a speed within %g %% of %g V; "+
+			return newProblem("motor-fit-needs-readings", "component %d has no readings with a speed within %g %% of %g V; "+
 				"measure current and speed at two or more loads at that voltage, or ask for one of %s",
-				id, voltageWindowShare*100, want, describeVoltages(groups)))
+				id, voltageWindowShare*100, want, describeVoltages(groups))
 		}
 	} else if len(groups) > 0 {
 		best := groups[0]
@@ -98,7 +94,7 @@ func (s *server) motorFit(c echo.Context) error {
 	}
 	fit, err := electric.FitMotor(chosen)
 	if err != nil {
-		return motorFitProblem(c, fmt.Sprintf("component %d: %v", id, err))
+		return newProblem("motor-fit-needs-readings", "component %d: %v", id, err)
 	}
 	return c.JSON(http.StatusOK, MotorFitView{
 		ComponentID: id,
@@ -159,19 +155,4 @@ func describeVoltages(groups [][]electric.BenchPoint) string {
 		s += fmt.Sprintf("%g V (%d readings)", v.VoltageV, v.Points)
 	}
 	return s
-}
-
-// motorFitProblem answers 422 with its own problem type: the request is
-// well-formed, but the stored readings cannot support a fit yet.
-func motorFitProblem(c echo.Context, detail string) error {
-	p := Problem{
-		Type:      ProblemTypePrefix + motorFitProblemKind,
-		Title:     "The bench readings cannot be fitted yet",
-		Status:    http.StatusUnprocessableEntity,
-		Detail:    detail,
-		Instance:  c.Request().URL.Path,
-		RequestID: c.Response().Header().Get(echo.HeaderXRequestID),
-	}
-	c.Response().Header().Set(echo.HeaderContentType, "application/problem+json")
-	return c.JSON(p.Status, p)
 }

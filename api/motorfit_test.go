@@ -84,7 +84,7 @@ func TestMotorFit(t *testing.T) {
 			rec := h.call(http.MethodGet, tc.path, "ada", nil)
 			h.expect(rec, http.StatusUnprocessableEntity, nil)
 			var p Problem
-			if err := json.Unmarshal(rec.Body.Bytes(), &p); err != nil || p.Type != ProblemTypePrefix+motorFitProblemKind ||
+			if err := json.Unmarshal(rec.Body.Bytes(), &p); err != nil || p.Type != ProblemTypePrefix+"motor-fit-needs-readings" ||
 				rec.Header().Get("Content-Type") != "application/problem+json" || !strings.Contains(p.Detail, tc.mention) {
 				t.Fatalf("problem %s (%s), want the motor-fit problem mentioning %q", rec.Body.String(), rec.Header().Get("Content-Type"), tc.mention)
 			}

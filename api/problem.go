@@ -33,21 +33,23 @@ var problemKinds = map[string]struct {
 	status int
 	title  string
 }{
-	"malformed":             {http.StatusBadRequest, "The request body is not well-formed JSON"},
-	"bad-query":             {http.StatusBadRequest, "A query parameter is not understood"},
-	"unauthorized":          {http.StatusUnauthorized, "A valid bearer token is required"},
-	"forbidden":             {http.StatusForbidden, "This token may not do that"},
-	"not-found":             {http.StatusNotFound, "Nothing is here"},
-	"method-not-allowed":    {http.StatusMethodNotAllowed, "This method is not allowed here"},
-	"conflict":              {http.StatusConflict, "The request conflicts with what is stored"},
-	"precondition-failed":   {http.StatusPreconditionFailed, "The record changed since you read it"},
-	"too-large":             {http.StatusRequestEntityTooLarge, "The request body is too large"},
-	"unsupported-media":     {http.StatusUnsupportedMediaType, "Send application/json"},
-	"validation":            {http.StatusUnprocessableEntity, "The request has invalid fields"},
-	"precondition-required": {http.StatusPreconditionRequired, "Send If-Match with the ETag you read"},
-	"rate-limited":          {http.StatusTooManyRequests, "Too many requests; slow down"},
-	"internal":              {http.StatusInternalServerError, "Something went wrong on our side"},
-	"unavailable":           {http.StatusServiceUnavailable, "The service cannot serve this right now"},
+	"malformed":           {http.StatusBadRequest, "The request body is not well-formed JSON"},
+	"bad-query":           {http.StatusBadRequest, "A query parameter is not understood"},
+	"unauthorized":        {http.StatusUnauthorized, "A valid bearer token is required"},
+	"forbidden":           {http.StatusForbidden, "This token may not do that"},
+	"not-found":           {http.StatusNotFound, "Nothing is here"},
+	"method-not-allowed":  {http.StatusMethodNotAllowed, "This method is not allowed here"},
+	"conflict":            {http.StatusConflict, "The request conflicts with what is stored"},
+	"precondition-failed": {http.StatusPreconditionFailed, "The record changed since you read it"},
+	"too-large":           {http.StatusRequestEntityTooLarge, "The request body is too large"},
+	"unsupported-media":   {http.StatusUnsupportedMediaType, "Send application/json"},
+	"validation":          {http.StatusUnprocessableEntity, "The request has invalid fields"},
+	// The request is well-formed, but the stored readings cannot support a fit yet.
+	"motor-fit-needs-readings": {http.StatusUnprocessableEntity, "The bench readings cannot be fitted yet"},
+	"precondition-required":    {http.StatusPreconditionRequired, "Send If-Match with the ETag you read"},
+	"rate-limited":             {http.StatusTooManyRequests, "Too many requests; slow down"},
+	"internal":                 {http.StatusInternalServerError, "Something went wrong on our side"},
+	"unavailable":              {http.StatusServiceUnavailable, "The service cannot serve this right now"},
 }
 
 // problemError is an error that already knows its problem kind.
