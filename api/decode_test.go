@@ -117,7 +117,7 @@ func TestProblemMapping(t *testing.T) {
 	if p, _ := problemFor(fmt.Errorf("user kim: %w", domain.ErrConflict), nil); !strings.Contains(p.Detail, "kim") {
 		t.Errorf("conflict detail %q", p.Detail)
 	}
-	for kind, k := range problemKinds {
+	for kind, k := range problemKinds() {
 		if k.status < 400 || k.status > 599 || k.title == "" {
 			t.Errorf("problem kind %s: status %d title %q", kind, k.status, k.title)
 		}

@@ -28,28 +28,33 @@ type Problem struct {
 // ProblemTypePrefix starts every problem type URI.
 const ProblemTypePrefix = "urn:wattshelf:problem:"
 
-// The kinds of problem, each with its status and title.
-var problemKinds = map[string]struct {
+// problemKind is the status and title of one kind of problem.
+type problemKind struct {
 	status int
 	title  string
-}{
-	"malformed":           {http.StatusBadRequest, "The request body is not well-formed JSON"},
-	"bad-query":           {http.StatusBadRequest, "A query parameter is not understood"},
-	"unauthorized":        {http.StatusUnauthorized, "A valid bearer token is required"},
-	"forbidden":           {http.StatusForbidden, "This token may not do that"},
-	"not-found":           {http.StatusNotFound, "Nothing is here"},
-	"method-not-allowed":  {http.StatusMethodNotAllowed, "This method is not allowed here"},
-	"conflict":            {http.StatusConflict, "The request conflicts with what is stored"},
-	"precondition-failed": {http.StatusPreconditionFailed, "The record changed since you read it"},
-	"too-large":           {http.StatusRequestEntityTooLarge, "The request body is too large"},
-	"unsupported-media":   {http.StatusUnsupportedMediaType, "Send application/json"},
-	"validation":          {http.StatusUnprocessableEntity, "The request has invalid fields"},
-	// The request is well-formed, but the stored readings cannot support a fit yet.
-	"motor-fit-needs-readings": {http.StatusUnprocessableEntity, "The bench readings cannot be fitted yet"},
-	"precondition-required":    {http.StatusPreconditionRequired, "Send If-Match with the ETag you read"},
-	"rate-limited":             {http.StatusTooManyRequests, "Too many requests; slow down"},
-	"internal":                 {http.StatusInternalServerError, "Something went wrong on our side"},
-	"unavailable":              {http.StatusServiceUnavailable, "The service cannot serve this right now"},
+}
+
+// problemKinds returns every kind of problem by name.
+func problemKinds() map[string]problemKind {
+	return map[string]problemKind{
+		"malformed":           {http.StatusBadRequest, "The request body is not well-formed JSON"},
+		"bad-query":           {http.StatusBadRequest, "A query parameter is not understood"},
+		"unauthorized":        {http.StatusUnauthorized, "A valid bearer token is required"},
+		"forbidden":           {http.StatusForbidden, "This token may not do that"},
+		"not-found":           {http.StatusNotFound, "Nothing is here"},
+		"method-not-allowed":  {http.StatusMethodNotAllowed, "This method is not allowed here"},
+		"conflict":            {http.StatusConflict, "The request conflicts with what is stored"},
+		"precondition-failed": {http.StatusPreconditionFailed, "The record changed since you read it"},
+		"too-large":           {http.StatusRequestEntityTooLarge, "The request body is too large"},
+		"unsupported-media":   {http.StatusUnsupportedMediaType, "Send application/json"},
+		"validation":          {http.StatusUnprocessableEntity, "The request has invalid fields"},
+		// The request is well-formed, but the stored readings cannot support a fit yet.
+		"motor-fit-needs-readings": {http.StatusUnprocessableEntity, "The bench readings cannot be fitted yet"},
+		"precondition-required":    {http.StatusPreconditionRequired, "Send If-Match with the ETag you read"},
+		"rate-limited":             {http.StatusTooManyRequests, "Too many requests; slow down"},
+		"internal":                 {http.StatusInternalServerError, "Something went wrong on our side"},
+		"unavailable":              {http.StatusServiceUnavailable, "The service cannot serve this right now"},
+	}
 }
 
 // problemError is an error that already knows its problem kind.
@@ -99,7 +104,7 @@ func problemFor(err error, isUnavailable unavailabilityCheck) (Problem, *problem
 	default:
 		pe = &problemError{kind: "internal", detail: "the error has been logged"}
 	}
-	k := problemKinds[pe.kind]
+	k := problemKinds()[pe.kind]
 	return Problem{
 		Type: ProblemTypePrefix + pe.kind, Title: k.title, Status: k.status,
 		Detail: pe.detail, Errors: pe.fields,

@@ -5,20 +5,19 @@ import (
 	"time"
 )
 
-// ComponentKinds are the kinds of part the shelf holds.
-var componentKinds = []string{
-	"motor", "battery", "regulator", "driver", "microcontroller", "camera", "audio",
-	"sensor", "light", "switch", "connector", "wire", "fuse", "other",
+// ComponentKinds returns the kinds of part the shelf holds.
+func ComponentKinds() []string {
+	return []string{
+		"motor", "battery", "regulator", "driver", "microcontroller", "camera", "audio",
+		"sensor", "light", "switch", "connector", "wire", "fuse", "other",
+	}
 }
 
-// ComponentKinds returns the kinds of part the shelf holds.
-func ComponentKinds() []string { return slices.Clone(componentKinds) }
+// Conditions returns the states a part on the shelf may be in.
+func Conditions() []string { return []string{"untested", "working", "faulty"} }
 
-// Conditions and specification sources a component may have.
-var (
-	conditions  = []string{"untested", "working", "faulty"}
-	specSources = []string{"datasheet", "measured", "estimated"}
-)
+// SpecSources returns where a part's figures may come from.
+func SpecSources() []string { return []string{"datasheet", "measured", "estimated"} }
 
 // Electrical holds a part's ratings in SI units, the unit in each name.
 // Every field is optional: a salvaged part is often only partly known, and
@@ -100,8 +99,8 @@ func (c *ComponentInput) Defaults() {
 func (c ComponentInput) Validate() error {
 	var p Problems
 	p.CheckText("/name", c.Name, MaxNameLen, true)
-	if !slices.Contains(componentKinds, c.Kind) {
-		p.Add("/kind", "must be one of %v", componentKinds)
+	if kinds := ComponentKinds(); !slices.Contains(kinds, c.Kind) {
+		p.Add("/kind", "must be one of %v", kinds)
 	}
 	p.CheckText("/description", c.Description, MaxTextLen, false)
 	p.CheckText("/origin", c.Origin, MaxNameLen*2, false)
@@ -110,11 +109,11 @@ func (c ComponentInput) Validate() error {
 	if c.Quantity < 0 || c.Quantity > MaxQuantity {
 		p.Add("/quantity", "must be between 0 and %d", MaxQuantity)
 	}
-	if !slices.Contains(conditions, c.Condition) {
+	if conditions := Conditions(); !slices.Contains(conditions, c.Condition) {
 		p.Add("/condition", "must be one of %v", conditions)
 	}
-	if !slices.Contains(specSources, c.SpecSource) {
-		p.Add("/spec_source", "must be one of %v", specSources)
+	if sources := SpecSources(); !slices.Contains(sources, c.SpecSource) {
+		p.Add("/spec_source", "must be one of %v", sources)
 	}
 	c.Electrical.validate(&p)
 	return p.Err()
