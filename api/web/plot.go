@@ -6,8 +6,6 @@ import (
 	"slices"
 	"strings"
 
-	"wattshelf/domain"
-	"wattshelf/domain/electric"
 	"wattshelf/domain/review"
 )
 
@@ -52,47 +50,31 @@ type plotLine struct {
 	Label svgText
 }
 
-// dischargePlots draws one plot per battery whose chemistry curve is known.
-func dischargePlots(nodes []domain.Node, rep review.Report, chems []electric.Chemistry) []dischargePlot {
-	var plots []dischargePlot
-	brownouts := brownoutVoltages(nodes, rep)
-	for _, n := range nodes {
-		if n.Type != domain.NodeBattery {
+// dischargePlots draws one plot per battery, from what the report says
+// about its pack and its loads' brownouts.
+func dischargePlots(rep review.Report) []dischargePlot {
+	plots := make([]dischargePlot, 0, len(rep.Runtime))
+	for _, r := range rep.Runtime {
+		if len(r.Pack.Curve) < 2 {
+			plots = append(plots, dischargePlot{Source: r.Source,
+				Notes: []string{"This review was stored before reports carried the pack's discharge curve; review the design again to plot it."}})
 			continue
 		}
-		i := slices.IndexFunc(chems, func(c electric.Chemistry) bool { return c.Name == n.Chemistry })
-		if i < 0 {
-			plots = append(plots, dischargePlot{Source: n.ID, Chemistry: n.Chemistry,
-				Notes: []string{"No discharge curve is stored for this chemistry, so no plot can be drawn."}})
-			continue
-		}
-		plots = append(plots, plotBattery(n, chems[i], brownouts[n.ID], rep))
+		plots = append(plots, plotBattery(r))
 	}
 	return plots
 }
 
-func plotBattery(n domain.Node, chem electric.Chemistry, loads []brownout, rep review.Report) dischargePlot {
-	series := 1
-	if n.Series != nil && *n.Series > 0 {
-		series = *n.Series
-	}
-	if n.CellFullV != nil {
-		chem.FullV = *n.CellFullV
-	}
-	if n.CellCutoffV != nil {
-		chem.CutoffV = *n.CellCutoffV
-	}
-	pack := electric.Pack{Chem: chem, Series: series, Parallel: 1, CellCapacityAh: 1}
-	p := dischargePlot{Source: n.ID, Chemistry: chem.Name, Width: plotW, Height: plotH,
+func plotBattery(r review.RuntimeResult) dischargePlot {
+	pack := r.Pack
+	row := newRuntimeRow(r)
+	p := dischargePlot{Source: r.Source, Chemistry: pack.Chemistry, Width: plotW, Height: plotH, Runtime: &row,
 		Frame: svgRect{X: plotLeft, Y: plotTop, W: plotW - plotLeft - plotRight, H: plotH - plotTop - plotBottom}}
 
-	s := float64(series)
-	vMin, vMax := math.Inf(1), math.Inf(-1)
-	for _, pt := range chem.Curve {
-		vMin, vMax = min(vMin, pt.CellV*s), max(vMax, pt.CellV*s)
+	vMin, vMax := pack.CutoffV, pack.FullV
+	for _, pt := range pack.Curve {
+		vMin, vMax = min(vMin, pt.PackV), max(vMax, pt.PackV)
 	}
-	vMin, vMax = min(vMin, pack.CutoffV()), max(vMax, pack.FullV())
-
 	step := niceStep((vMax - vMin) / 5)
 	lo, hi := math.Floor(vMin/step)*step, math.Ceil(vMax/step)*step
 	if hi <= lo {
@@ -113,30 +95,29 @@ func plotBattery(n domain.Node, chem electric.Chemistry, loads []brownout, rep r
 	// The curve runs from empty to full; the plot reads from full (left) to
 	// empty (right), as the pack is used.
 	var d strings.Builder
-	for k := len(chem.Curve) - 1; k >= 0; k-- {
-		pt := chem.Curve[k]
+	for k := len(pack.Curve) - 1; k >= 0; k-- {
+		pt := pack.Curve[k]
 		cmd := "L"
-		if k == len(chem.Curve)-1 {
+		if k == len(pack.Curve)-1 {
 			cmd = "M"
 		}
-		fmt.Fprintf(&d, "%s%d %d", cmd, x(1-pt.SOC), y(pt.CellV*s))
+		fmt.Fprintf(&d, "%s%d %d", cmd, x(1-pt.SOC), y(pt.PackV))
 	}
 	p.Curve = d.String()
 
-	labels := []plotLine{{Class: "cutoff", Y: y(pack.CutoffV()),
-		Label: svgText{Text: "cutoff " + formatNumber(pack.CutoffV()) + " V"}}}
-	for _, b := range loads {
-		if b.packV > pack.FullV() {
-			p.Notes = append(p.Notes, fmt.Sprintf("%s needs more than a full pack gives: it browns out at any charge.", b.node))
-			continue
-		}
-		if b.packV <= pack.CutoffV() {
+	labels := []plotLine{{Class: "cutoff", Y: y(pack.CutoffV),
+		Label: svgText{Text: "cutoff " + formatNumber(pack.CutoffV) + " V"}}}
+	for _, b := range r.Brownouts {
+		switch {
+		case b.Outcome == review.BrownoutPartway && b.PackV != nil:
+			labels = append(labels, plotLine{Class: "brownout", Y: y(*b.PackV),
+				Label: svgText{Text: b.Node + " browns out " + formatNumber(*b.PackV) + " V"}})
+		case b.Outcome == review.BrownoutAlways:
+			p.Notes = append(p.Notes, fmt.Sprintf("%s needs more than a full pack gives: it browns out at any charge.", b.Node))
+		case b.Outcome == review.BrownoutNever && b.PackV != nil:
 			p.Notes = append(p.Notes, fmt.Sprintf("%s keeps working down to the cutoff (it browns out only below %s V).",
-				b.node, formatNumber(b.packV)))
-			continue
+				b.Node, formatNumber(*b.PackV)))
 		}
-		labels = append(labels, plotLine{Class: "brownout", Y: y(b.packV),
-			Label: svgText{Text: b.node + " browns out " + formatNumber(b.packV) + " V"}})
 	}
 	spreadLabels(labels, f.Y, f.Y+f.H)
 	for k := range labels {
@@ -144,24 +125,17 @@ func plotBattery(n domain.Node, chem electric.Chemistry, loads []brownout, rep r
 	}
 	p.Lines = labels
 
-	for _, r := range rep.Runtime {
-		if r.Source != n.ID {
-			continue
-		}
-		row := runtimeRow(r)
-		p.Runtime = &row
-		start := 1 - pack.SOCAtPackV(pack.FullV())
+	if r.UsableShare > 0 {
+		start := 1 - pack.FullSOC
 		end := min(start+r.UsableShare, 1)
-		if r.UsableShare > 0 {
-			p.Usable = &svgRect{X: x(start), Y: f.Y, W: x(end) - x(start), H: f.H}
-			ex := x(end)
-			p.EndX = &ex
-			text := "runs out here"
-			if r.Hours != nil {
-				text = "runtime " + formatNumber(*r.Hours) + " h"
-			}
-			p.EndLabel = svgText{X: ex, Y: f.Y - 6, Text: text}
+		p.Usable = &svgRect{X: x(start), Y: f.Y, W: x(end) - x(start), H: f.H}
+		ex := x(end)
+		p.EndX = &ex
+		text := "runs out here"
+		if r.Hours != nil {
+			text = "runtime " + formatNumber(*r.Hours) + " h"
 		}
+		p.EndLabel = svgText{X: ex, Y: f.Y - 6, Text: text}
 	}
 	return p
 }
@@ -202,130 +176,4 @@ func niceStep(raw float64) float64 {
 		}
 	}
 	return 10 * mag
-}
-
-// brownout is the pack voltage below which a load's input falls under its
-// min_v.
-type brownout struct {
-	node  string
-	packV float64
-}
-
-// brownoutVoltages reads each motor's and load's min_v back up its path to
-// its battery, through the feed drops of the operating point and the
-// regulators on the way (DESIGN section 6): a feed or driver shifts the
-// voltage by its drop, a linear regulator caps it at output_v and shifts
-// it by its dropout, a buck caps it, a boost or buck-boost holds it flat
-// above its min_input_v. Keyed by battery id, highest voltage first.
-func brownoutVoltages(nodes []domain.Node, rep review.Report) map[string][]brownout {
-	index := make(map[string]int, len(nodes))
-	for i, n := range nodes {
-		index[n.ID] = i
-	}
-	drop := make(map[string]float64, len(rep.Feeds))
-	for _, f := range rep.Feeds {
-		drop[f.Node] = f.DropV
-	}
-	out := map[string][]brownout{}
-	for _, n := range nodes {
-		if (n.Type != domain.NodeMotor && n.Type != domain.NodeLoad) || n.MinV == nil || *n.MinV <= 0 {
-			continue
-		}
-		path := []int{index[n.ID]}
-		for len(path) <= len(nodes) {
-			last := nodes[path[len(path)-1]]
-			if last.Feed == nil {
-				break
-			}
-			p, ok := index[last.Feed.From]
-			if !ok {
-				break
-			}
-			path = append(path, p)
-		}
-		root := nodes[path[len(path)-1]]
-		if root.Type != domain.NodeBattery || len(path) > len(nodes) {
-			continue
-		}
-		// Walk down from the battery, building the map from pack voltage
-		// to this node's input, then read it backwards at min_v.
-		m := pathMap{ceiling: math.Inf(1)}
-		for k := len(path) - 2; k >= 0; k-- {
-			parent, child := nodes[path[k+1]], nodes[path[k]]
-			m = m.through(parent)
-			d := drop[child.ID]
-			m.ceiling -= d
-			if !m.flat {
-				m.shift += d
-			}
-		}
-		out[root.ID] = append(out[root.ID], brownout{node: n.ID, packV: m.packVFor(*n.MinV)})
-	}
-	for id := range out {
-		slices.SortStableFunc(out[id], func(a, b brownout) int {
-			return -cmpFloat(a.packV, b.packV)
-		})
-	}
-	return out
-}
-
-// pathMap is a node's input voltage as a function of pack voltage V:
-// off below threshold, else min(ceiling, V − shift), or the ceiling alone
-// when a regulator on the way holds it flat.
-type pathMap struct {
-	threshold, ceiling, shift float64
-	flat, dead                bool
-}
-
-// through is the map of what node n passes to its children.
-func (m pathMap) through(n domain.Node) pathMap {
-	if n.Type != domain.NodeRegulator || n.OutputV == nil {
-		return m
-	}
-	out := *n.OutputV
-	switch n.Topology {
-	case domain.TopologyLinear:
-		dropout := 0.0
-		if n.DropoutV != nil {
-			dropout = *n.DropoutV
-		}
-		m.ceiling = min(out, m.ceiling-dropout)
-		if !m.flat {
-			m.shift += dropout
-		}
-		return m
-	}
-	if n.MinInputV != nil && *n.MinInputV > 0 {
-		on := m.packVFor(*n.MinInputV)
-		m.dead = m.dead || math.IsInf(on, 1)
-		m.threshold = max(m.threshold, on)
-	}
-	if n.Topology == domain.TopologyBuck {
-		m.ceiling = min(out, m.ceiling)
-		return m
-	}
-	m.flat, m.ceiling = true, out
-	return m
-}
-
-// packVFor is the lowest pack voltage at which the input reaches v; +Inf
-// when it never does.
-func (m pathMap) packVFor(v float64) float64 {
-	switch {
-	case m.dead || m.ceiling < v:
-		return math.Inf(1)
-	case m.flat:
-		return m.threshold
-	}
-	return max(m.threshold, v+m.shift)
-}
-
-func cmpFloat(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }

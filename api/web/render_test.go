@@ -6,6 +6,7 @@ import (
 	"math"
 	"path"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -69,7 +70,7 @@ func demoReport(t *testing.T, name string) ReportInput {
 		t.Fatalf("review %s: %v", name, err)
 	}
 	return ReportInput{Report: rep, Design: &doc, DesignName: doc.Name,
-		ReviewedAt: time.Date(2026, 3, 2, 9, 30, 0, 0, time.UTC), Chemistries: limits.Chemistries, Components: comps}
+		ReviewedAt: time.Date(2026, 3, 2, 9, 30, 0, 0, time.UTC), Components: comps}
 }
 
 func mustViews(t *testing.T) *views {
@@ -132,32 +133,88 @@ func TestReportTreeHasEveryNode(t *testing.T) {
 	}
 }
 
-// The brownout lines are computed here from the report's feed drops and
-// the document; the engine words the one that limits the runtime. Both
-// must name the same voltage.
-func TestBrownoutLinesAgreeWithTheEngine(t *testing.T) {
+// The plot draws what the report says about each battery: a line for
+// every load that browns out partway, the highest of them the one the
+// engine names as limiting the runtime, and a note for every other load.
+func TestPlotDrawsTheReportsBrownouts(t *testing.T) {
 	checked := 0
 	for _, name := range demoDesignNames(t) {
 		in := demoReport(t, name)
-		lines := brownoutVoltages(resolveNodes(*in.Design, in.Components), in.Report)
-		for _, r := range in.Report.Runtime {
+		plots := dischargePlots(in.Report)
+		if len(plots) != len(in.Report.Runtime) {
+			t.Fatalf("%s: %d plots for %d batteries", name, len(plots), len(in.Report.Runtime))
+		}
+		for k, r := range in.Report.Runtime {
+			p := plots[k]
+			if p.Source != r.Source || p.Curve == "" || p.Chemistry != r.Pack.Chemistry {
+				t.Fatalf("%s: plot %d is %q (%s), curve %q; want %s", name, k, p.Source, p.Chemistry, p.Curve, r.Source)
+			}
+			if got := strings.Count(p.Curve, "L") + 1; got != len(r.Pack.Curve) {
+				t.Errorf("%s: curve has %d points, the report %d", name, got, len(r.Pack.Curve))
+			}
+			var lines []plotLine
+			for _, l := range p.Lines {
+				if l.Class == "brownout" {
+					lines = append(lines, l)
+				}
+			}
+			notes := 0
+			for _, b := range r.Brownouts {
+				if b.Outcome != review.BrownoutPartway {
+					notes++
+					continue
+				}
+				want := b.Node + " browns out " + formatNumber(*b.PackV) + " V"
+				if !slices.ContainsFunc(lines, func(l plotLine) bool { return l.Label.Text == want }) {
+					t.Errorf("%s: no line %q among %+v", name, want, lines)
+				}
+			}
+			if len(p.Notes) != notes {
+				t.Errorf("%s: %d notes for %d loads that never or always brown out: %q", name, len(p.Notes), notes, p.Notes)
+			}
+			// Higher voltages sit higher on the plot (smaller y).
+			for j := 1; j < len(lines); j++ {
+				if lines[j].Y < lines[j-1].Y {
+					t.Errorf("%s: brownout lines out of order: %+v", name, lines)
+				}
+			}
 			m := limitingBrownout.FindStringSubmatch(r.LimitedBy)
 			if m == nil {
 				continue
 			}
-			node := m[1]
 			want, err := strconv.ParseFloat(m[2], 64)
 			if err != nil {
 				t.Fatalf("%s: cannot read %q", name, r.LimitedBy)
 			}
-			got := lines[r.Source]
-			if len(got) == 0 || got[0].node != node || math.Abs(got[0].packV-want) > 0.06 {
-				t.Errorf("%s: engine says %q; the plot's highest brownout line is %+v", name, r.LimitedBy, got)
+			var top plotLine
+			if len(lines) > 0 {
+				top = lines[0]
+			}
+			if !strings.HasPrefix(top.Label.Text, m[1]+" browns out ") {
+				t.Errorf("%s: engine says %q; the plot's highest brownout line is %+v", name, r.LimitedBy, top)
+			}
+			got, err := strconv.ParseFloat(strings.TrimSuffix(strings.TrimPrefix(top.Label.Text, m[1]+" browns out "), " V"), 64)
+			if err != nil || math.Abs(got-want) > 0.06 {
+				t.Errorf("%s: engine says %q; the plot's line says %q", name, r.LimitedBy, top.Label.Text)
+			}
+			if p.EndX == nil || p.Usable == nil {
+				t.Errorf("%s: runtime limited by a brownout, but no end of runtime drawn", name)
 			}
 			checked++
 		}
 	}
 	if checked == 0 {
 		t.Fatal("no demo design is limited by a brownout, so nothing was compared")
+	}
+}
+
+// A report stored before reports carried the pack gets a note, not a plot
+// drawn from nothing.
+func TestPlotOfAnOlderReport(t *testing.T) {
+	hours := 2.5
+	plots := dischargePlots(review.Report{Runtime: []review.RuntimeResult{
+		{Source: "pack", Hours: &hours, UsableShare: 0.9, LimitedBy: "cell cutoff at 10.0 V"}}})
+	if len(plots) != 1 || plots[0].Source != "pack" || plots[0].Curve != "" || len(plots[0].Notes) != 1 {
+		t.Fatalf("plots %+v, want one for pack without a curve, with a note", plots)
 	}
 }

@@ -1,14 +1,12 @@
 package web
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"slices"
 	"time"
 
 	"wattshelf/domain"
-	"wattshelf/domain/electric"
 	"wattshelf/domain/review"
 )
 
@@ -18,12 +16,10 @@ type ReportInput struct {
 	Report review.Report
 	// Design is the document reviewed, or nil when it is no longer stored
 	// as it was (the design changed or was deleted since): the tree is then
-	// drawn from the report alone, without connectors or discharge plots.
+	// drawn from the report alone, without connectors.
 	Design     *domain.Design
 	DesignName string
 	ReviewedAt time.Time
-	// Chemistries are the limits set's, for the discharge curves.
-	Chemistries []electric.Chemistry
 	// Components are the shelf records the design's nodes name; they fill
 	// what a node leaves out, as they did for the review.
 	Components map[int64]domain.Component
@@ -62,19 +58,12 @@ type runtimeRow struct {
 	LimitedBy   string
 }
 
-func (v *views) renderReport(w io.Writer, in ReportInput) error {
-	return v.report.ExecuteTemplate(w, "page", reportView(in))
+func newRuntimeRow(r review.RuntimeResult) runtimeRow {
+	return runtimeRow{Source: r.Source, Hours: r.Hours, UsableShare: r.UsableShare, LimitedBy: r.LimitedBy}
 }
 
-// chemistriesOf reads the chemistry table out of a stored limits body.
-func chemistriesOf(body json.RawMessage) ([]electric.Chemistry, error) {
-	var l struct {
-		Chemistries []electric.Chemistry `json:"chemistries"`
-	}
-	if err := json.Unmarshal(body, &l); err != nil {
-		return nil, fmt.Errorf("decode chemistries: %w", err)
-	}
-	return l.Chemistries, nil
+func (v *views) renderReport(w io.Writer, in ReportInput) error {
+	return v.report.ExecuteTemplate(w, "page", reportView(in))
 }
 
 func reportView(in ReportInput) reportPage {
@@ -92,14 +81,14 @@ func reportView(in ReportInput) reportPage {
 	var nodes []domain.Node
 	if in.Design != nil {
 		nodes = resolveNodes(*in.Design, in.Components)
-		page.Plots = dischargePlots(nodes, rep, in.Chemistries)
 	} else {
 		page.DesignChanged = true
 	}
+	page.Plots = dischargePlots(rep)
 	page.Tree = layoutTree(rep, nodes, worst)
 	page.Groups = groupFindings(rep.Nodes, rep.Checks, worst)
 	for _, r := range rep.Runtime {
-		page.Runtime = append(page.Runtime, runtimeRow(r))
+		page.Runtime = append(page.Runtime, newRuntimeRow(r))
 	}
 	return page
 }
@@ -168,37 +157,17 @@ func groupFindings(nodes []review.NodeResult, checks []review.Check, worst map[s
 	return groups
 }
 
-// resolveNodes fills each node's diagram-relevant fields from its
-// component, the node's own fields winning, as the review did.
+// resolveNodes fills each node's topology from its component when the
+// node leaves it out, as the review did: the tree names it.
 func resolveNodes(d domain.Design, comps map[int64]domain.Component) []domain.Node {
-	out := make([]domain.Node, len(d.Nodes))
-	for i, n := range d.Nodes {
-		if n.ComponentID != nil {
-			if c, ok := comps[*n.ComponentID]; ok {
-				e := c.Electrical
-				fill(&n.MinV, e.MinV)
-				fill(&n.MaxV, e.MaxV)
-				fill(&n.OutputV, e.OutputV)
-				fill(&n.DropoutV, e.DropoutV)
-				fill(&n.MinInputV, e.MinInputV)
-				fill(&n.Series, e.Series)
-				fill(&n.Parallel, e.Parallel)
-				if n.Topology == "" {
-					n.Topology = e.Topology
-				}
-				if n.Chemistry == "" {
-					n.Chemistry = e.Chemistry
-				}
-			}
+	out := slices.Clone(d.Nodes)
+	for i, n := range out {
+		if n.ComponentID == nil || n.Topology != "" {
+			continue
 		}
-		out[i] = n
+		if c, ok := comps[*n.ComponentID]; ok {
+			out[i].Topology = c.Electrical.Topology
+		}
 	}
 	return out
-}
-
-func fill[T any](dst **T, src *T) {
-	if *dst == nil && src != nil {
-		v := *src
-		*dst = &v
-	}
 }

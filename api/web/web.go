@@ -31,7 +31,6 @@ type Source interface {
 	ComponentsByID(ctx context.Context, ids []int64) (map[int64]domain.Component, error)
 	ReviewByShareID(ctx context.Context, shareID string) (store.StoredReview, error)
 	Design(ctx context.Context, id int64) (store.StoredDesign, error)
-	Limits(ctx context.Context, version int) (store.LimitsSet, error)
 }
 
 // Deps are the page handlers' dependencies.
@@ -212,13 +211,6 @@ func (p *pages) reportInput(ctx context.Context, rec store.StoredReview) (Report
 	in.Design = &doc
 	if in.Components, err = p.deps.Source.ComponentsByID(ctx, doc.ComponentIDs()); err != nil {
 		return in, err
-	}
-	limits, err := p.deps.Source.Limits(ctx, rec.LimitsVersion)
-	if err != nil {
-		return in, fmt.Errorf("limits v%d for review %d: %w", rec.LimitsVersion, rec.ID, err)
-	}
-	if in.Chemistries, err = chemistriesOf(limits.Body); err != nil {
-		return in, fmt.Errorf("limits v%d for review %d: %w", rec.LimitsVersion, rec.ID, err)
 	}
 	return in, nil
 }

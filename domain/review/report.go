@@ -125,12 +125,63 @@ type FeedResult struct {
 }
 
 // RuntimeResult is how long a battery lasts. Hours is absent when the
-// battery delivers no average current.
+// battery delivers no average current. Pack and Brownouts carry what a
+// discharge plot needs, so no reader has to work it out again from the
+// document.
 type RuntimeResult struct {
-	Source      string   `json:"source"`
-	Hours       *float64 `json:"hours"`
-	UsableShare float64  `json:"usable_share"`
-	LimitedBy   string   `json:"limited_by"`
+	Source      string     `json:"source"`
+	Hours       *float64   `json:"hours"`
+	UsableShare float64    `json:"usable_share"`
+	LimitedBy   string     `json:"limited_by"`
+	Pack        PackFacts  `json:"pack"`
+	Brownouts   []Brownout `json:"brownouts"`
+}
+
+// PackFacts is a battery as the review resolved it: the design's cell
+// values over the stored chemistry's, times the pack's shape.
+type PackFacts struct {
+	Chemistry  string  `json:"chemistry"`
+	Series     int     `json:"series"`
+	Parallel   int     `json:"parallel"`
+	CapacityAh float64 `json:"capacity_ah"`
+	FullV      float64 `json:"full_v"`
+	NominalV   float64 `json:"nominal_v"`
+	CutoffV    float64 `json:"cutoff_v"`
+	// FullSOC is the state of charge the curve gives at FullV: 1 unless
+	// the design's cell_full_v sits below the top of the stored curve.
+	// The usable charge is counted from here down.
+	FullSOC float64 `json:"full_soc"`
+	// Curve is the chemistry's discharge curve times the series count,
+	// from empty to full.
+	Curve []PackPoint `json:"curve"`
+}
+
+// PackPoint is one point of a pack's discharge curve: its voltage when
+// SOC (state of charge, the share of capacity left) remains.
+type PackPoint struct {
+	SOC   float64 `json:"soc"`
+	PackV float64 `json:"pack_v"`
+}
+
+// Brownout outcomes: where, as its battery drains from full to cutoff, a
+// motor or load stops getting its min_v.
+const (
+	BrownoutPartway = "partway" // at PackV, with SOC of the charge left
+	BrownoutNever   = "never"   // it keeps its min_v down to the cutoff
+	BrownoutAlways  = "always"  // not even a full pack gives it its min_v
+)
+
+// Brownout is the pack voltage below which a motor or load fed from the
+// battery gets less than its min_v, read back through the feed drops and
+// regulators of the operating point. PackV is absent when no pack voltage
+// would do (a regulator on the way never turns on, or holds its output
+// below min_v); SOC is given for a brownout partway only. Motors and loads
+// without a min_v above 0 ask nothing of the pack and are not listed.
+type Brownout struct {
+	Node    string   `json:"node"`
+	Outcome string   `json:"outcome"`
+	PackV   *float64 `json:"pack_v,omitempty"`
+	SOC     *float64 `json:"soc,omitempty"`
 }
 
 // Cautions are carried by every report, whatever it found.

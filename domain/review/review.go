@@ -1,8 +1,10 @@
 package review
 
 import (
+	"cmp"
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 
 	"wattshelf/domain"
@@ -142,6 +144,14 @@ type need struct {
 	brownoutV, criticalV   float64 // -Inf: nothing asks
 	brownoutID, criticalID string
 	never                  []string // loads a full pack cannot satisfy: they fail voltage.range and are left out here
+	loads                  []loadNeed
+}
+
+// loadNeed is the pack voltage one motor or load needs to keep its min_v;
+// +Inf when none will do.
+type loadNeed struct {
+	id    string
+	packV float64
 }
 
 // brownouts reads each load's min_v back through its path to its battery.
@@ -158,7 +168,11 @@ func (r *reviewer) brownouts() []need {
 		}
 		v := n.path.packVFor(n.minV)
 		nd := &out[n.root]
-		if src := &nodes[n.root]; src.kind == kindBattery && v > src.pack.FullV() {
+		src := &nodes[n.root]
+		if src.kind == kindBattery {
+			nd.loads = append(nd.loads, loadNeed{n.id, v})
+		}
+		if src.kind == kindBattery && v > src.pack.FullV() {
 			nd.never = append(nd.never, n.id)
 			continue
 		}
@@ -187,7 +201,8 @@ func (r *reviewer) runtime(n *node, nd need) RuntimeResult {
 	if len(nd.never) > 0 {
 		limitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
 	}
-	res := RuntimeResult{Source: n.id, UsableShare: clean(share), LimitedBy: limitedBy}
+	res := RuntimeResult{Source: n.id, UsableShare: clean(share), LimitedBy: limitedBy,
+		Pack: packFacts(p), Brownouts: brownoutList(p, nd.loads)}
 	// A vanishing average current gives hours too large to print; the
 	// runtime is then simply not a concern and is left out.
 	if h := p.RuntimeH(n.avg, share); n.avg > 0 && !math.IsInf(h, 0) && !math.IsNaN(h) {
@@ -195,6 +210,45 @@ func (r *reviewer) runtime(n *node, nd need) RuntimeResult {
 		res.Hours = &h
 	}
 	return res
+}
+
+func packFacts(p electric.Pack) PackFacts {
+	s := float64(p.Series)
+	curve := make([]PackPoint, len(p.Chem.Curve))
+	for k, pt := range p.Chem.Curve {
+		curve[k] = PackPoint{SOC: clean(pt.SOC), PackV: clean(pt.CellV * s)}
+	}
+	return PackFacts{
+		Chemistry: p.Chem.Name, Series: p.Series, Parallel: p.Parallel, CapacityAh: clean(p.CapacityAh()),
+		FullV: clean(p.FullV()), NominalV: clean(p.NominalV()), CutoffV: clean(p.CutoffV()),
+		FullSOC: clean(p.SOCAtPackV(p.FullV())), Curve: curve,
+	}
+}
+
+// brownoutList says, for each load that asks the pack for a voltage, when
+// it browns out: the first to go (the highest voltage) first, loads that
+// ask the same in design order.
+func brownoutList(p electric.Pack, loads []loadNeed) []Brownout {
+	sorted := slices.Clone(loads)
+	slices.SortStableFunc(sorted, func(a, b loadNeed) int { return cmp.Compare(b.packV, a.packV) })
+	out := make([]Brownout, len(sorted))
+	for k, l := range sorted {
+		b := Brownout{Node: l.id}
+		if !math.IsInf(l.packV, 1) {
+			b.PackV = ptr(l.packV)
+		}
+		switch {
+		case l.packV > p.FullV():
+			b.Outcome = BrownoutAlways
+		case l.packV <= p.CutoffV():
+			b.Outcome = BrownoutNever
+		default:
+			b.Outcome = BrownoutPartway
+			b.SOC = ptr(p.SOCAtPackV(l.packV))
+		}
+		out[k] = b
+	}
+	return out
 }
 
 // protectedConductors finds, for each feed, the smallest ampacity among the
@@ -310,8 +364,20 @@ func (rep *Report) checkFinite() error {
 		}
 	}
 	for _, rt := range rep.Runtime {
-		if bad(rt.UsableShare) || badOpt(rt.Hours) {
+		pk := rt.Pack
+		if bad(rt.UsableShare, pk.CapacityAh, pk.FullV, pk.NominalV, pk.CutoffV, pk.FullSOC) || badOpt(rt.Hours) {
 			where = append(where, "runtime of "+rt.Source)
+		}
+		for _, pt := range pk.Curve {
+			if bad(pt.SOC, pt.PackV) {
+				where = append(where, "discharge curve of "+rt.Source)
+				break
+			}
+		}
+		for _, b := range rt.Brownouts {
+			if badOpt(b.PackV, b.SOC) {
+				where = append(where, "brownout of "+b.Node)
+			}
 		}
 	}
 	if len(where) > 0 {
