@@ -78,6 +78,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.Use(accessLog(cfg.Logger))
 	e.Use(recoverPanics(cfg.Logger))
 	e.Use(requestDeadline(DatabaseWaitLimit))
+	e.Use(refuseUnstorableText)
 	e.Use(middleware.BodyLimit(fmt.Sprint(MaxBodyBytes)))
 	e.Use(identify(cfg.Store))
 

@@ -85,6 +85,11 @@ func (p *Problems) CheckText(pointer, s string, max int, required bool) {
 	if n := len([]rune(s)); n > max {
 		p.Add(pointer, "is %d characters long; at most %d are allowed", n, max)
 	}
+	// PostgreSQL text cannot hold a NUL; refusing it here keeps it from
+	// reaching the database as a 500.
+	if strings.IndexByte(s, 0) >= 0 {
+		p.Add(pointer, "must not contain the NUL character (\\u0000)")
+	}
 }
 
 // CheckRange records a problem when v is not finite or outside [min, max].
