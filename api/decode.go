@@ -28,7 +28,10 @@ func readBody(c echo.Context) ([]byte, error) {
 		if errors.As(err, &mbe) {
 			return nil, echo.ErrStatusRequestEntityTooLarge
 		}
-		return nil, fmt.Errorf("read request body: %w", err)
+		// Any other failure is the client's: it stopped sending, or sent so
+		// slowly that the server's read timeout ran out. Left as a network
+		// error it would be mistaken for the database being unreachable.
+		return nil, &domain.DecodeError{Reason: "the request body did not arrive whole in time"}
 	}
 	return body, nil
 }
