@@ -94,8 +94,8 @@ func (s *server) reviewDocument(c echo.Context) error {
 	return c.JSON(http.StatusOK, report)
 }
 
-// reviewStoredDesign reviews a stored design and keeps the report, with
-// a share id that opens it without a login.
+// reviewStoredDesign reviews a stored design and keeps the report and the
+// document it read, with a share id that opens them without a login.
 func (s *server) reviewStoredDesign(c echo.Context) error {
 	v, err := limitsVersionParam(c)
 	if err != nil {

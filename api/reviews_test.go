@@ -7,6 +7,7 @@ import (
 	"net/http"
 	"regexp"
 	"strconv"
+	"strings"
 	"testing"
 
 	"wattshelf/domain/review"
@@ -160,4 +161,39 @@ func checkStatus(t *testing.T, rep review.Report, check, node string) review.Sta
 	}
 	t.Fatalf("no %s check on %s in the report", check, node)
 	return ""
+}
+
+// A shared report draws the document it reviewed, even after the design
+// was rewritten; a review of the new text draws the new one.
+func TestSharedReportShowsTheReviewedDocument(t *testing.T) {
+	h := newDesignHarness(t, Config{})
+	withConnector := func(family string, amps int) []byte {
+		return []byte(strings.Replace(benchLampDesign, `"distance_from_source_m": 0.05}`,
+			fmt.Sprintf(`"distance_from_source_m": 0.05}, "connectors": [{"family": %q, "rating_a": %d}]`, family, amps), 1))
+	}
+	var d store.StoredDesign
+	h.expect(h.call(http.MethodPost, "/v1/designs", "ada", withConnector("spade-terminal", 15)), http.StatusCreated, &d)
+	reviews := fmt.Sprintf("/v1/designs/%d/reviews", d.ID)
+	var before StoredReviewView
+	h.expect(h.call(http.MethodPost, reviews, "ada", nil), http.StatusCreated, &before)
+
+	h.expect(h.call(http.MethodPut, fmt.Sprintf("/v1/designs/%d", d.ID), "ada", withConnector("barrel-plug", 5),
+		"If-Match", `"1"`), http.StatusOK, nil)
+	var after StoredReviewView
+	h.expect(h.call(http.MethodPost, reviews, "ada", nil), http.StatusCreated, &after)
+
+	for _, c := range []struct {
+		shareID   string
+		want, not string
+	}{{before.ShareID, "spade-terminal 15 A", "barrel-plug"}, {after.ShareID, "barrel-plug 5 A", "spade-terminal"}} {
+		rec := h.call(http.MethodGet, "/reports/"+c.shareID, "", nil)
+		page := rec.Body.String()
+		if rec.Code != http.StatusOK || !strings.Contains(page, ">"+c.want+"</text>") || strings.Contains(page, c.not) {
+			t.Errorf("report %s (status %d): want the connector %q and no %q", c.shareID, rec.Code, c.want, c.not)
+		}
+		// The fuse's speed is only in the document.
+		if !strings.Contains(page, ">fuse 1 A fast</text>") {
+			t.Errorf("report %s does not label the fuse with its speed", c.shareID)
+		}
+	}
 }

@@ -218,3 +218,24 @@ func TestPlotOfAnOlderReport(t *testing.T) {
 		t.Fatalf("plots %+v, want one for pack without a curve, with a note", plots)
 	}
 }
+
+// A review stored before reviews kept their document is drawn from its
+// report alone, and the page says what is missing.
+func TestReportWithoutItsDocument(t *testing.T) {
+	v := mustViews(t)
+	in := demoReport(t, demoDesignNames(t)[0])
+	if strings.Contains(renderReportHTML(t, v, in), "stored before reviews kept") {
+		t.Error("a report with its document says it has none")
+	}
+	in.Design, in.Components = nil, nil
+	html := renderReportHTML(t, v, in)
+	if n := len(nodeGroup.FindAllString(html, -1)); n != len(in.Report.Nodes) {
+		t.Errorf("tree draws %d nodes, the report has %d", n, len(in.Report.Nodes))
+	}
+	if !strings.Contains(html, "stored before reviews kept the document they read") {
+		t.Error("the page does not say the diagram lacks the document's details")
+	}
+	if n := len(plotSVG.FindAllString(html, -1)); n != len(in.Report.Runtime) {
+		t.Errorf("%d discharge plots for %d batteries", n, len(in.Report.Runtime))
+	}
+}

@@ -14,9 +14,9 @@ import (
 // pure function of it: the handler only loads it.
 type ReportInput struct {
 	Report review.Report
-	// Design is the document reviewed, or nil when it is no longer stored
-	// as it was (the design changed or was deleted since): the tree is then
-	// drawn from the report alone, without connectors.
+	// Design is the document reviewed, or nil for a review stored before
+	// reviews kept their document: the tree is then drawn from the report
+	// alone, without connectors, fuse speeds, topologies or part numbers.
 	Design     *domain.Design
 	DesignName string
 	ReviewedAt time.Time
@@ -40,8 +40,8 @@ type reportPage struct {
 	Runtime       []runtimeRow
 	Nodes         []review.NodeResult
 	Cautions      []string
-	// DesignChanged says the diagrams lack what only the document held.
-	DesignChanged bool
+	// NoDocument says the tree lacks what only the document held.
+	NoDocument bool
 }
 
 type findingGroup struct {
@@ -82,7 +82,7 @@ func reportView(in ReportInput) reportPage {
 	if in.Design != nil {
 		nodes = resolveNodes(*in.Design, in.Components)
 	} else {
-		page.DesignChanged = true
+		page.NoDocument = true
 	}
 	page.Plots = dischargePlots(rep)
 	page.Tree = layoutTree(rep, nodes, worst)

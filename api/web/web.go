@@ -29,8 +29,7 @@ type Source interface {
 	Shelf(ctx context.Context) ([]domain.ShelfItem, error)
 	Component(ctx context.Context, id int64) (domain.Component, error)
 	ComponentsByID(ctx context.Context, ids []int64) (map[int64]domain.Component, error)
-	ReviewByShareID(ctx context.Context, shareID string) (store.StoredReview, error)
-	Design(ctx context.Context, id int64) (store.StoredDesign, error)
+	ReviewByShareID(ctx context.Context, shareID string) (store.SharedReview, error)
 }
 
 // Deps are the page handlers' dependencies.
@@ -186,29 +185,22 @@ func (p *pages) report(c echo.Context) error {
 	})
 }
 
-// reportInput gathers what the report page shows. A review stores its
-// report and the digest of the document it read, not the document: the
-// design's current text is used only while its digest still matches.
-func (p *pages) reportInput(ctx context.Context, rec store.StoredReview) (ReportInput, error) {
+// reportInput gathers what the report page shows: the stored report and
+// the document it reviewed, whatever the design has become since.
+func (p *pages) reportInput(ctx context.Context, rec store.SharedReview) (ReportInput, error) {
 	in := ReportInput{DesignName: rec.DesignName, ReviewedAt: rec.CreatedAt}
 	if err := json.Unmarshal(rec.Report, &in.Report); err != nil {
 		return in, fmt.Errorf("decode stored report of review %d: %w", rec.ID, err)
 	}
-	design, err := p.deps.Source.Design(ctx, rec.DesignID)
-	if errors.Is(err, domain.ErrNotFound) {
-		return in, nil
-	}
-	if err != nil {
-		return in, err
-	}
-	if store.DocumentDigest([]byte(design.Document)) != rec.DocumentSHA256 {
-		return in, nil
+	if rec.Document == "" {
+		return in, nil // stored before reviews kept their document
 	}
 	var doc domain.Design
-	if err := json.Unmarshal([]byte(design.Document), &doc); err != nil {
-		return in, fmt.Errorf("decode document of design %d: %w", design.ID, err)
+	if err := json.Unmarshal([]byte(rec.Document), &doc); err != nil {
+		return in, fmt.Errorf("decode document of review %d: %w", rec.ID, err)
 	}
 	in.Design = &doc
+	var err error
 	if in.Components, err = p.deps.Source.ComponentsByID(ctx, doc.ComponentIDs()); err != nil {
 		return in, err
 	}

@@ -95,7 +95,9 @@ type ExportedDesign struct {
 	Version   int64     `json:"version"`
 }
 
-// ExportedReview is a row of reviews with its report as stored.
+// ExportedReview is a row of reviews with its report as stored. Document
+// is the text reviewed ("" for reviews stored before it was kept, and in
+// files written before it was exported).
 type ExportedReview struct {
 	ID             int64           `json:"id"`
 	DesignID       int64           `json:"design_id"`
@@ -103,6 +105,7 @@ type ExportedReview struct {
 	Status         string          `json:"status"`
 	LimitsVersion  int             `json:"limits_version"`
 	DocumentSHA256 string          `json:"document_sha256"`
+	Document       string          `json:"document"`
 	Report         json.RawMessage `json:"report"`
 	CreatedBy      string          `json:"created_by"`
 	CreatedAt      time.Time       `json:"created_at"`
@@ -119,7 +122,7 @@ func ExportedColumns() map[string][]string {
 		"components":   {"id", "name", "kind", "description", "origin", "mains_origin", "bin", "quantity", "condition", "spec_source", "notes", "electrical", "owner", "created_at", "updated_at", "version"},
 		"measurements": {"id", "component_id", "voltage_v", "current_a", "speed_rpm", "note", "recorded_by", "recorded_at"},
 		"designs":      {"id", "name", "document", "owner", "created_at", "updated_at", "version"},
-		"reviews":      {"id", "design_id", "share_id", "status", "limits_version", "document_sha256", "report", "created_by", "created_at"},
+		"reviews":      {"id", "design_id", "share_id", "status", "limits_version", "document_sha256", "document", "report", "created_by", "created_at"},
 		"audit":        {"id", "at", "actor", "action", "subject_type", "subject_id", "detail"},
 	}
 }
@@ -190,11 +193,11 @@ func (s *Store) Export(ctx context.Context) (Snapshot, error) {
 			return err
 		}
 		if snap.Reviews, err = exportRows(ctx, tx, "reviews", `SELECT id, design_id, share_id, status, limits_version,
-				document_sha256, report, created_by, created_at FROM reviews ORDER BY id`,
+				document_sha256, document, report, created_by, created_at FROM reviews ORDER BY id`,
 			func(r pgx.CollectableRow) (ExportedReview, error) {
 				var v ExportedReview
 				err := r.Scan(&v.ID, &v.DesignID, &v.ShareID, &v.Status, &v.LimitsVersion, &v.DocumentSHA256,
-					&v.Report, &v.CreatedBy, &v.CreatedAt)
+					&v.Document, &v.Report, &v.CreatedBy, &v.CreatedAt)
 				v.CreatedAt = v.CreatedAt.UTC()
 				return v, err
 			}); err != nil {
@@ -309,9 +312,9 @@ func (s *Store) Import(ctx context.Context, snap Snapshot) error {
 				d.ID, d.Name, d.Document, d.Owner, d.CreatedAt, d.UpdatedAt, d.Version)
 		}
 		for _, r := range snap.Reviews {
-			b.Queue(`INSERT INTO reviews (id, design_id, share_id, status, limits_version, document_sha256, report,
-				created_by, created_at) OVERRIDING SYSTEM VALUE VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9)`,
-				r.ID, r.DesignID, r.ShareID, r.Status, r.LimitsVersion, r.DocumentSHA256, js(r.Report),
+			b.Queue(`INSERT INTO reviews (id, design_id, share_id, status, limits_version, document_sha256, document,
+				report, created_by, created_at) OVERRIDING SYSTEM VALUE VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)`,
+				r.ID, r.DesignID, r.ShareID, r.Status, r.LimitsVersion, r.DocumentSHA256, r.Document, js(r.Report),
 				r.CreatedBy, r.CreatedAt)
 		}
 		for _, e := range snap.Audit {

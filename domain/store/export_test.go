@@ -3,8 +3,10 @@ package store_test
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"errors"
 	"slices"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -74,8 +76,12 @@ func fillForExport(t *testing.T, s *store.Store, dbURL string) {
 		`INSERT INTO limits (version, body, note, created_by) VALUES (2, '{"policy":{"in_scope_v":50},"drop":{"critical_pct":2.5}}', 'tighter', 'ada')`,
 		`INSERT INTO designs (name, document, owner) VALUES ('Cart', '{"format": 1,  "name": "Cart", "nodes": []}', 'bo')`,
 		`UPDATE designs SET version = 3, updated_at = now() + interval '1 second'`,
+		// A review stored before reviews kept their document, and one that
+		// keeps it, spacing and all.
 		`INSERT INTO reviews (design_id, share_id, status, limits_version, document_sha256, report, created_by)
 		 SELECT id, 'Zx9_share-id', 'warn', 2, 'abc123', '{"status":"warn","counts":{"pass":3,"warn":1,"fail":0}}', 'bo' FROM designs`,
+		`INSERT INTO reviews (design_id, share_id, status, limits_version, document_sha256, document, report, created_by)
+		 SELECT id, 'Kept_document-1', 'pass', 1, 'def456', E'{"format": 1,  "name": "Cart \u00e9",\n "nodes": []}', '{"status":"pass"}', 'ada' FROM designs`,
 	} {
 		if _, err := conn.Exec(ctx, q); err != nil {
 			t.Fatalf("%s: %v", q, err)
@@ -113,6 +119,9 @@ func TestExportImportRoundTripIsByteIdentical(t *testing.T) {
 			t.Errorf("export holds no %s; the round trip would prove nothing about them", name)
 		}
 	}
+	if kept := snap.Reviews[len(snap.Reviews)-1].Document; !strings.Contains(kept, "Cart é\",\n") {
+		t.Errorf("the review's document is exported as %q", kept)
+	}
 	if strings.Contains(string(first), "digest") || strings.Contains(string(first), "wsh_") {
 		t.Error("export carries token material")
 	}
@@ -128,7 +137,8 @@ func TestExportImportRoundTripIsByteIdentical(t *testing.T) {
 	// JSON the service keeps as written comes back as written, not in the
 	// export file's layout.
 	for _, q := range []string{`SELECT string_agg(body::text, '|' ORDER BY version) FROM limits`,
-		`SELECT string_agg(report::text, '|' ORDER BY id) FROM reviews`} {
+		`SELECT string_agg(report::text, '|' ORDER BY id) FROM reviews`,
+		`SELECT string_agg(document, '|' ORDER BY id) FROM reviews`} {
 		if a, b := queryText(t, srcURL, q), queryText(t, dstURL, q); a != b {
 			t.Errorf("%s: stored %q, restored %q", q, a, b)
 		}
@@ -276,5 +286,35 @@ func TestExportCoversEverySchemaColumn(t *testing.T) {
 		if _, ok := live[table]; !ok {
 			t.Errorf("export names table %s, which the schema lacks", table)
 		}
+	}
+}
+
+// A file exported before reviews kept their document still imports; its
+// reviews come back without one.
+func TestImportOfAnExportWithoutReviewDocuments(t *testing.T) {
+	ctx := context.Background()
+	src, srcURL := storetest.NewStore(t)
+	fillForExport(t, src, srcURL)
+	var doc map[string]any
+	if err := json.Unmarshal(exportBytes(t, src), &doc); err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range doc["reviews"].([]any) {
+		delete(r.(map[string]any), "document")
+	}
+	older, err := json.Marshal(doc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	snap, err := store.ReadSnapshot(bytes.NewReader(older))
+	if err != nil {
+		t.Fatal(err)
+	}
+	dst, dstURL := storetest.NewStore(t)
+	if err := dst.Import(ctx, snap); err != nil {
+		t.Fatal(err)
+	}
+	if got := queryText(t, dstURL, `SELECT count(*)::text FROM reviews WHERE document = ''`); got != strconv.Itoa(len(snap.Reviews)) {
+		t.Errorf("%s of %d restored reviews have no document", got, len(snap.Reviews))
 	}
 }

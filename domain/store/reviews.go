@@ -32,6 +32,14 @@ type StoredReview struct {
 	CreatedAt      time.Time       `json:"created_at"`
 }
 
+// SharedReview is a stored review as its shared report shows it: with
+// the document reviewed, exactly as the design held it then. Document is
+// empty for reviews stored before documents were kept.
+type SharedReview struct {
+	StoredReview
+	Document string
+}
+
 // NewReview is what the caller computed: the report of one document
 // under one limits version.
 type NewReview struct {
@@ -64,17 +72,19 @@ func DocumentDigest(document []byte) string {
 const reviewColumns = `r.id, r.design_id, d.name, r.share_id, r.status, r.limits_version,
 	r.document_sha256, r.report, r.created_by, r.created_at`
 
-func scanReview(row pgx.Row) (StoredReview, error) {
+// scanReview reads reviewColumns, then any extra columns into extra.
+func scanReview(row pgx.Row, extra ...any) (StoredReview, error) {
 	var r StoredReview
 	var report []byte
-	err := row.Scan(&r.ID, &r.DesignID, &r.DesignName, &r.ShareID, &r.Status, &r.LimitsVersion,
-		&r.DocumentSHA256, &report, &r.CreatedBy, &r.CreatedAt)
+	dest := append([]any{&r.ID, &r.DesignID, &r.DesignName, &r.ShareID, &r.Status, &r.LimitsVersion,
+		&r.DocumentSHA256, &report, &r.CreatedBy, &r.CreatedAt}, extra...)
+	err := row.Scan(dest...)
 	r.Report = report
 	return r, err
 }
 
 // AddReview stores a review of a design that actor may change (its owner
-// or staff), with a fresh share id and the digest of the document.
+// or staff), with a fresh share id, the document and its digest.
 func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) (StoredReview, error) {
 	if !json.Valid(in.Report) {
 		return StoredReview{}, errors.New("add review: report is not JSON")
@@ -91,9 +101,9 @@ func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) 
 		}
 		var id int64
 		err := tx.QueryRow(ctx, `INSERT INTO reviews
-			(design_id, share_id, status, limits_version, document_sha256, report, created_by)
-			VALUES ($1, $2, $3, $4, $5, $6, $7) RETURNING id`,
-			in.DesignID, shareID, in.Status, in.LimitsVersion, DocumentDigest(in.Document),
+			(design_id, share_id, status, limits_version, document_sha256, document, report, created_by)
+			VALUES ($1, $2, $3, $4, $5, $6, $7, $8) RETURNING id`,
+			in.DesignID, shareID, in.Status, in.LimitsVersion, DocumentDigest(in.Document), string(in.Document),
 			in.Report, actor.Name).Scan(&id)
 		if err != nil {
 			return fmt.Errorf("insert review of design %d: %w", in.DesignID, err)
@@ -137,15 +147,17 @@ func (s *Store) ReviewsOfDesign(ctx context.Context, designID, beforeID int64, l
 const maxShareIDLen = 64
 
 // ReviewByShareID returns the review a share id opens, with the name of
-// its design. Anyone holding the id may see it.
-func (s *Store) ReviewByShareID(ctx context.Context, shareID string) (StoredReview, error) {
+// its design and the document it reviewed. Anyone holding the id may see
+// it.
+func (s *Store) ReviewByShareID(ctx context.Context, shareID string) (SharedReview, error) {
 	if shareID == "" || len(shareID) > maxShareIDLen {
-		return StoredReview{}, fmt.Errorf("shared report: %w", domain.ErrNotFound)
+		return SharedReview{}, fmt.Errorf("shared report: %w", domain.ErrNotFound)
 	}
-	r, err := scanReview(s.pool.QueryRow(ctx, `SELECT `+reviewColumns+`
-		FROM reviews r JOIN designs d ON d.id = r.design_id WHERE r.share_id = $1`, shareID))
+	var document string
+	r, err := scanReview(s.pool.QueryRow(ctx, `SELECT `+reviewColumns+`, r.document
+		FROM reviews r JOIN designs d ON d.id = r.design_id WHERE r.share_id = $1`, shareID), &document)
 	if err != nil {
-		return r, notFound(err, "shared report")
+		return SharedReview{}, notFound(err, "shared report")
 	}
-	return r, nil
+	return SharedReview{StoredReview: r, Document: document}, nil
 }

@@ -87,8 +87,16 @@ func TestReviews(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if shared.ID != last.ID || shared.DesignName != "lamp" {
-		t.Fatalf("by share id: %+v, want review %d of lamp", shared, last.ID)
+	if shared.ID != last.ID || shared.DesignName != "lamp" || shared.Document != string(doc) {
+		t.Fatalf("by share id: %+v, want review %d of lamp with its document", shared, last.ID)
+	}
+	// The review keeps the document it read after the design changes.
+	changed := []byte(`{"format":1,"name":"lamp, rewired","nodes":[]}`)
+	if _, err := st.UpdateDesign(ctx, ada, d.ID, 0, "lamp", changed); err != nil {
+		t.Fatal(err)
+	}
+	if shared, err = st.ReviewByShareID(ctx, last.ShareID); err != nil || shared.Document != string(doc) {
+		t.Fatalf("after the design changed the review holds %q (%v), want %q", shared.Document, err, doc)
 	}
 	for _, bad := range []string{"", "nope", last.ShareID + "x", string(make([]byte, 200))} {
 		if _, err := st.ReviewByShareID(ctx, bad); !errors.Is(err, domain.ErrNotFound) {
