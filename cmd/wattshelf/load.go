@@ -13,6 +13,7 @@ import (
 	"net/http"
 	"net/url"
 	"os"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
@@ -22,7 +23,7 @@ import (
 	"time"
 )
 
-const loadUsage = `usage: wattshelf load --url URL [--token TOKEN] [--clients 32] [--requests 3000] [--duration 10s] [--pid PID] [--only ROUTE]
+const loadUsage = `usage: wattshelf load --url URL [--token TOKEN] [--clients 32] [--requests 20000] [--duration 5s] [--pid PID] [--only ROUTE]
 
 Drives traffic at a wattshelf server on this machine (loopback only) and
 prints throughput and latency per route beside the HTTP floor (GET /healthz)
@@ -42,8 +43,8 @@ const (
 	loadShelfPageSize        = 50
 	loadMinShelfSize         = loadShelfPageSize + 10
 	loadDefaultClients       = 32
-	loadDefaultRequests      = 3000
-	loadDefaultPhaseDuration = 10 * time.Second
+	loadDefaultRequests      = 20000
+	loadDefaultPhaseDuration = 5 * time.Second
 )
 
 type loadConfig struct {
@@ -640,8 +641,8 @@ func targetFor(route string) float64 {
 }
 
 func (r *loadReport) print(w io.Writer, cfg loadConfig) {
-	fmt.Fprintf(w, "wattshelf load: %d clients, each route alone for at most %d requests or %s, then mixed; %s\n\n",
-		cfg.clients, cfg.requests, cfg.duration, cfg.base)
+	fmt.Fprintf(w, "wattshelf load: %d clients, each route alone for at most %d requests or %s, then mixed; %s; %d CPUs shared by server, database and load\n\n",
+		cfg.clients, cfg.requests, cfg.duration, cfg.base, runtime.NumCPU())
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "route\trequests\treq/s\tp50 ms\tp99 ms\t5xx\tother\tfloor\tratio\ttarget\t")
 	for _, p := range r.phases {
