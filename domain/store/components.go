@@ -214,6 +214,25 @@ type ShelfCursor struct {
 	ID   int64  `json:"i"`
 }
 
+// shelfColumns are what the public view shows: no owner and no notes,
+// which can run to thousands of characters nobody at the kiosk may read.
+const shelfColumns = `id, name, kind, description, origin, mains_origin, bin, quantity,
+	condition, spec_source, electrical, updated_at`
+
+func scanShelfItem(row pgx.Row) (domain.ShelfItem, error) {
+	var it domain.ShelfItem
+	var electrical []byte
+	err := row.Scan(&it.ID, &it.Name, &it.Kind, &it.Description, &it.Origin, &it.MainsOrigin, &it.Bin,
+		&it.Quantity, &it.Condition, &it.SpecSource, &electrical, &it.UpdatedAt)
+	if err != nil {
+		return it, err
+	}
+	if err := json.Unmarshal(electrical, &it.Electrical); err != nil {
+		return it, fmt.Errorf("decode electrical fields of component %d: %w", it.ID, err)
+	}
+	return it, nil
+}
+
 // ShelfPage returns up to limit shelf items after cursor (nil: from the
 // start) in shelf order, and whether more follow. It walks the (bin,
 // name, id) index, so every page costs the same however deep it is.
@@ -221,19 +240,16 @@ func (s *Store) ShelfPage(ctx context.Context, after *ShelfCursor, limit int) ([
 	var rows pgx.Rows
 	var err error
 	if after == nil {
-		rows, err = s.pool.Query(ctx, `SELECT `+componentColumns+` FROM components ORDER BY bin, name, id LIMIT $1`, limit+1)
+		rows, err = s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components ORDER BY bin, name, id LIMIT $1`, limit+1)
 	} else {
-		rows, err = s.pool.Query(ctx, `SELECT `+componentColumns+` FROM components
+		rows, err = s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components
 			WHERE (bin, name, id) > ($1, $2, $3) ORDER BY bin, name, id LIMIT $4`,
 			after.Bin, after.Name, after.ID, limit+1)
 	}
 	if err != nil {
 		return nil, false, fmt.Errorf("read shelf page: %w", err)
 	}
-	items, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (domain.ShelfItem, error) {
-		c, err := scanComponent(r)
-		return c.Public(), err
-	})
+	items, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (domain.ShelfItem, error) { return scanShelfItem(r) })
 	if err != nil {
 		return nil, false, fmt.Errorf("read shelf page: %w", err)
 	}
