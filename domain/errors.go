@@ -45,9 +45,21 @@ type Problems struct {
 	list []FieldProblem
 }
 
-// Add records a problem at pointer.
+// MaxProblems bounds the problems one input reports: plenty to fix a
+// document in one round trip, and it keeps a hostile body of a million
+// bad elements from becoming a response many times its own size.
+const MaxProblems = 100
+
+// Add records a problem at pointer. Past MaxProblems it records once that
+// more were found, at the document's root, and then nothing more.
 func (p *Problems) Add(pointer, format string, args ...any) {
-	p.list = append(p.list, FieldProblem{Pointer: pointer, Detail: fmt.Sprintf(format, args...)})
+	switch {
+	case len(p.list) < MaxProblems:
+		p.list = append(p.list, FieldProblem{Pointer: pointer, Detail: fmt.Sprintf(format, args...)})
+	case len(p.list) == MaxProblems:
+		p.list = append(p.list, FieldProblem{Pointer: "",
+			Detail: fmt.Sprintf("more than %d problems were found; fix these and send it again to see the rest", MaxProblems)})
+	}
 }
 
 // Len is the number of problems recorded so far.
