@@ -176,6 +176,17 @@ func DecodeDesign(data []byte) (Design, error) {
 	if len(bytes.TrimSpace(data)) == 0 {
 		return Design{}, &DecodeError{Reason: "the body is empty; send a design document"}
 	}
+	if d, ok := decodeDesignFast(data); ok {
+		return d, nil
+	}
+	return decodeDesignStrict(data)
+}
+
+// decodeDesignStrict is DecodeDesign's slow, thorough path: a walk over
+// the tokens that notes every shape problem with its pointer, then
+// encoding/json for the values. Documents with a problem take it, and so
+// does anything the fast path leaves to it.
+func decodeDesignStrict(data []byte) (Design, error) {
 	w := shapeWalker{dec: json.NewDecoder(bytes.NewReader(data)), fields: map[string]map[string]shapeKind{}}
 	w.dec.UseNumber()
 	if err := w.root(); err != nil {
@@ -316,18 +327,20 @@ func (w *shapeWalker) object(name, ptr string) error {
 			return err
 		}
 		key, _ := tok.(string)
-		kp := ptr + "/" + escapePointer(key)
+		// The pointer is built only when it is needed: for a problem or a
+		// nested value. Most keys hold a well-typed number.
+		kp := func() string { return ptr + "/" + escapePointer(key) }
 		if seen[key] {
 			if key == "feed" {
-				w.p.Add(kp, "appears twice: a node is fed from exactly one parent")
+				w.p.Add(kp(), "appears twice: a node is fed from exactly one parent")
 			} else {
-				w.p.Add(kp, "appears twice in one object")
+				w.p.Add(kp(), "appears twice in one object")
 			}
 		}
 		seen[key] = true
 		want, known := fields[key]
 		if !known {
-			w.p.Add(kp, "is not a field of a %s (field names are listed in DESIGN section 5)", name)
+			w.p.Add(kp(), "is not a field of a %s (field names are listed in DESIGN section 5)", name)
 		}
 		tok, err = w.dec.Token()
 		if err != nil {
@@ -347,28 +360,30 @@ func (w *shapeWalker) object(name, ptr string) error {
 	return err
 }
 
-func (w *shapeWalker) value(tok json.Token, want shapeKind, ptr string) error {
+// value checks one value against want; pointer gives its JSON pointer.
+func (w *shapeWalker) value(tok json.Token, want shapeKind, pointer func() string) error {
 	if tok == nil {
 		return nil // null leaves the field out
 	}
 	switch want.kind {
 	case "object":
 		if tok != json.Delim('{') {
-			w.p.Add(ptr, "must be an object")
+			w.p.Add(pointer(), "must be an object")
 			return w.skip(tok)
 		}
-		return w.object(want.name, ptr)
+		return w.object(want.name, pointer())
 	case "array":
 		if tok != json.Delim('[') {
-			w.p.Add(ptr, "must be an array")
+			w.p.Add(pointer(), "must be an array")
 			return w.skip(tok)
 		}
+		ptr := pointer()
 		for i := 0; w.dec.More(); i++ {
 			el, err := w.dec.Token()
 			if err != nil {
 				return err
 			}
-			if err := w.value(el, shapeKind{kind: want.elem, name: want.name}, ptr+"/"+strconv.Itoa(i)); err != nil {
+			if err := w.value(el, shapeKind{kind: want.elem, name: want.name}, func() string { return ptr + "/" + strconv.Itoa(i) }); err != nil {
 				return err
 			}
 		}
@@ -376,24 +391,24 @@ func (w *shapeWalker) value(tok json.Token, want shapeKind, ptr string) error {
 		return err
 	case "string":
 		if _, ok := tok.(string); !ok {
-			w.p.Add(ptr, "must be a string")
+			w.p.Add(pointer(), "must be a string")
 		}
 	case "bool":
 		if _, ok := tok.(bool); !ok {
-			w.p.Add(ptr, "must be true or false")
+			w.p.Add(pointer(), "must be true or false")
 		}
 	case "number", "integer":
 		n, ok := tok.(json.Number)
 		if !ok {
-			w.p.Add(ptr, "must be a number")
+			w.p.Add(pointer(), "must be a number")
 			break
 		}
 		if want.kind == "integer" {
 			if _, err := strconv.ParseInt(string(n), 10, 64); err != nil {
-				w.p.Add(ptr, "must be a whole number")
+				w.p.Add(pointer(), "must be a whole number")
 			}
 		} else if _, err := strconv.ParseFloat(string(n), 64); err != nil {
-			w.p.Add(ptr, "is too large a number")
+			w.p.Add(pointer(), "is too large a number")
 		}
 	}
 	return w.skip(tok)

@@ -1,0 +1,223 @@
+package domain
+
+import (
+	"bytes"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"reflect"
+	"slices"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// sameAsStrict fails unless DecodeDesign, fast path or not, gives what the
+// strict path alone gives for data: the same Design, or the same error.
+func sameAsStrict(t *testing.T, data []byte) {
+	t.Helper()
+	got, gotErr := DecodeDesign(data)
+	if len(bytes.TrimSpace(data)) == 0 {
+		if gotErr == nil {
+			t.Fatalf("an empty body was accepted")
+		}
+		return
+	}
+	want, wantErr := decodeDesignStrict(data)
+	switch {
+	case (gotErr == nil) != (wantErr == nil):
+		t.Fatalf("DecodeDesign says %v, the strict path %v, for %q", gotErr, wantErr, data)
+	case gotErr != nil && gotErr.Error() != wantErr.Error():
+		t.Fatalf("DecodeDesign says %q, the strict path %q", gotErr, wantErr)
+	case !reflect.DeepEqual(got, want):
+		t.Fatalf("DecodeDesign gives %+v, the strict path %+v, for %q", got, want, data)
+	}
+}
+
+// everyField writes an object of kind name with every field the walker's
+// table (kept in step with the struct tags) knows, nested objects and
+// arrays included, strings with escapes and non-ASCII text, and an array
+// element that is null. The key dup, when this object has it, is written
+// twice.
+func everyField(name, dup string) string {
+	fields := objectFields(name)
+	keys := make([]string, 0, len(fields))
+	for k := range fields {
+		keys = append(keys, k)
+	}
+	slices.Sort(keys)
+	var b strings.Builder
+	b.WriteString("{\n")
+	for i, k := range keys {
+		times := 1
+		if k == dup {
+			times = 2
+		}
+		for range times {
+			if b.Len() > 2 {
+				b.WriteString(",\n ")
+			}
+			b.WriteString(strconv.Quote(k) + " : ")
+			switch want := fields[k]; want.kind {
+			case "number":
+				b.WriteString([]string{"12.5", "-0.25", "3e-2", "7E+1", "0", "1.0e0"}[i%6])
+			case "integer":
+				b.WriteString(strconv.Itoa(i + 1))
+			case "string":
+				b.WriteString(`"grün \"q\" \\ \/ \b\f\n\r\t \u00e9\u20ac ` + k + `"`)
+			case "bool":
+				b.WriteString([]string{"true", "false"}[i%2])
+			case "object":
+				b.WriteString(everyField(want.name, dup))
+			case "array":
+				b.WriteString("[" + everyField(want.name, dup) + ", null, {}]")
+			}
+		}
+	}
+	b.WriteString("}")
+	return b.String()
+}
+
+// The fast path reads every field of every object, as the strict path
+// does; a field added to the structs and not to the fast path fails here.
+func TestFastDecodeReadsEveryField(t *testing.T) {
+	doc := []byte(everyField("design", ""))
+	got, ok := decodeDesignFast(doc)
+	if !ok {
+		t.Fatalf("the fast path gave up on a document of every field:\n%s", doc)
+	}
+	want, err := decodeDesignStrict(doc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got, want) {
+		t.Fatalf("fast %+v\nstrict %+v", got, want)
+	}
+	if n := got.Nodes[0]; n.Feed == nil || n.Feed.Wire == nil || n.Feed.Fuse == nil || len(n.Feed.Connectors) != 3 ||
+		n.CurrentA == nil || n.Series == nil || !strings.HasPrefix(n.ID, "grün \"q\" \\ / \b\f\n\r\t é€ ") {
+		t.Errorf("first node decoded as %+v", n)
+	}
+}
+
+// A key given twice in any object is left to the strict path, which says
+// so with its pointer.
+func TestFastDecodeLeavesRepeatedKeysToTheStrictPath(t *testing.T) {
+	for _, name := range []string{"design", "node", "feed", "wire", "fuse", "connector"} {
+		for key := range objectFields(name) {
+			doc := []byte(everyField("design", key))
+			if _, ok := decodeDesignFast(doc); ok {
+				t.Errorf("%s.%s given twice: the fast path accepted it", name, key)
+				continue
+			}
+			_, err := DecodeDesign(doc)
+			if ps := problemsOf(t, err); !slices.ContainsFunc(ps, func(p FieldProblem) bool {
+				return strings.HasSuffix(p.Pointer, "/"+key) && strings.Contains(p.Detail, "twice")
+			}) {
+				t.Errorf("%s.%s given twice: problems %v", name, key, ps)
+			}
+		}
+	}
+}
+
+// Documents that only the strict path takes, or that it refuses, give
+// the same answer through DecodeDesign as through the strict path alone.
+func TestDecodeDesignPathsAgree(t *testing.T) {
+	cases := map[string]string{
+		"valid":             validDoc,
+		"every field":       everyField("design", ""),
+		"nulls":             `{"format": null, "name": null, "ambient_c": null, "nodes": [null, {"id": null, "feed": null, "series": null}]}`,
+		"empty containers":  `{"nodes": [], "name": "", "description": ""}`,
+		"empty feed":        `{"nodes": [{"feed": {"connectors": []}}, {"feed": {"wire": {}, "fuse": {}}}]}`,
+		"escaped key":       `{"form\u0061t": 1, "nodes": []}`,
+		"key in capitals":   `{"Format": 1}`,
+		"folded key":        `{"ſeries": 1}`,
+		"unknown key":       `{"format": 1, "colour": "red"}`,
+		"invalid UTF-8":     "{\"name\": \"bad \xff byte\"}",
+		"surrogate pair":    `{"name": "\ud83d\udd0b pack"}`,
+		"lone surrogate":    `{"name": "\ud83d"}`,
+		"control character": "{\"name\": \"tab\there\"}",
+		"bad escape":        `{"name": "\x41"}`,
+		"short escape":      `{"name": "\u12"}`,
+		"fraction in int":   `{"format": 1.0}`,
+		"exponent in int":   `{"format": 1e0}`,
+		"huge int":          `{"format": 99999999999999999999}`,
+		"huge float":        `{"ambient_c": 1e400}`,
+		"tiny float":        `{"ambient_c": 1e-400}`,
+		"negative zero":     `{"format": -0, "ambient_c": -0.0}`,
+		"leading zero":      `{"format": 01}`,
+		"bare minus":        `{"format": -}`,
+		"dot without digit": `{"ambient_c": 1.}`,
+		"string for number": `{"format": "1"}`,
+		"number for string": `{"name": 5}`,
+		"object for array":  `{"nodes": {}}`,
+		"number in nodes":   `{"nodes": [1]}`,
+		"trailing comma":    `{"format": 1,}`,
+		"trailing data":     `{"format": 1} x`,
+		"two documents":     `{"format": 1} {}`,
+		"top-level null":    `null`,
+		"top-level array":   `[]`,
+		"truncated":         `{"nodes": [{"id": "a"`,
+		"byte order mark":   "\ufeff{\"format\": 1}",
+		"spaces everywhere": " \r\n\t{ \"format\" \t:\n1 , \"nodes\" : [ ] } \n",
+		"true for bool":     `{"nodes": [{"mains": true, "critical": false}]}`,
+		"word for bool":     `{"nodes": [{"mains": "yes"}]}`,
+		"misspelt literal":  `{"nodes": [{"mains": tru}]}`,
+		"empty":             "  ",
+	}
+	// Well-shaped documents, however they are spaced or whatever they
+	// leave out, need not take the slow path.
+	fast := []string{"valid", "every field", "nulls", "empty containers", "empty feed", "tiny float",
+		"negative zero", "spaces everywhere", "true for bool"}
+	for name, doc := range cases {
+		t.Run(name, func(t *testing.T) {
+			sameAsStrict(t, []byte(doc))
+			if _, ok := decodeDesignFast([]byte(doc)); ok != slices.Contains(fast, name) {
+				t.Errorf("fast path took it: %t", ok)
+			}
+		})
+	}
+}
+
+// The demo designs and large generated ones take the fast path.
+func TestFastDecodeTakesRealDesigns(t *testing.T) {
+	docs := map[string][]byte{"bench 1000": benchDocument(t, 1000)}
+	paths, err := filepath.Glob("../testdata/demo/designs/*.json")
+	if err != nil || len(paths) == 0 {
+		t.Fatalf("no demo designs: %v", err)
+	}
+	for _, p := range paths {
+		data, err := os.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		docs[filepath.Base(p)] = data
+	}
+	for name, data := range docs {
+		if _, ok := decodeDesignFast(data); !ok {
+			t.Errorf("%s: the fast path gave up on it", name)
+		}
+		sameAsStrict(t, data)
+	}
+}
+
+// FuzzDecodeDesign holds the fast path to the strict one: whatever the
+// input, DecodeDesign gives the strict path's Design or error.
+func FuzzDecodeDesign(f *testing.F) {
+	f.Add([]byte(validDoc))
+	f.Add([]byte(everyField("design", "")))
+	f.Add([]byte(everyField("design", "gauge")))
+	err := fs.WalkDir(os.DirFS("../testdata/demo/designs"), ".", func(p string, d fs.DirEntry, err error) error {
+		if err != nil || d.IsDir() {
+			return err
+		}
+		data, err := os.ReadFile(filepath.Join("../testdata/demo/designs", p))
+		f.Add(data)
+		return err
+	})
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		sameAsStrict(t, data)
+	})
+}
