@@ -406,9 +406,19 @@ func (r *reviewer) sourceCurrent(n *node, criticalNeed float64, criticalID strin
 	})
 }
 
-func (r *reviewer) sourceRuntime(n *node, hours, target float64, limitedBy string) {
+// sourceRuntime compares a battery's runtime with the design's target; a
+// design without one still gets the runtime stated, against a limit of 0.
+func (r *reviewer) sourceRuntime(n *node, hours float64, targetH *float64, limitedBy string) {
+	target := 0.0
+	if targetH != nil {
+		target = *targetH
+	}
 	conds := append(r.buf[:0], below("short", Warn, hours, target, "h"))
 	r.emit(CheckSourceRuntime, n.id, n.ptr, r.basis.runtime, conds, func(c cond, passed bool) string {
+		if targetH == nil {
+			return fmt.Sprintf("%s lasts about %s h at %s A average (limited by %s); the design sets no target_runtime_h.", n.id,
+				num(hours), num(n.avg), limitedBy)
+		}
 		if passed {
 			return fmt.Sprintf("%s lasts about %s h at %s A average (limited by %s), meeting the %s h target.", n.id, num(hours),
 				num(n.avg), limitedBy, num(target))
@@ -438,16 +448,24 @@ func (r *reviewer) wireAmpacity(n *node, ptr string) {
 	})
 }
 
-// dropPct is a feed's drop at the running current as a percentage of the
-// parent's nominal output.
+// dropBase is the voltage a feed's drop is a share of: the parent's
+// nominal output, or, when a regulator that cannot work puts out nothing,
+// the output it is meant to hold, so its own headroom finding stays the
+// only one about it and the wire is judged on its own merits.
+func (r *reviewer) dropBase(n *node) float64 {
+	p := &r.t.nodes[n.parent]
+	if p.outNom <= 0 && p.kind == kindRegulator {
+		return p.outputV
+	}
+	return p.outNom
+}
+
+// dropPct is a feed's drop at the running current as a percentage of
+// dropBase; a parent with no voltage at all gives no share.
 func (r *reviewer) dropPct(n *node) (dropV, share float64) {
 	dropV = n.run * n.feed.resistance
-	base := r.t.nodes[n.parent].outNom
-	switch {
-	case base > 0:
+	if base := r.dropBase(n); base > 0 {
 		return dropV, 100 * dropV / base
-	case dropV > 0:
-		return dropV, 100
 	}
 	return dropV, 0
 }
@@ -455,7 +473,7 @@ func (r *reviewer) dropPct(n *node) (dropV, share float64) {
 func (r *reviewer) wireDrop(n *node, ptr string) {
 	dropV, share := r.dropPct(n)
 	lim := r.limits.VoltageDrop
-	base := r.t.nodes[n.parent].outNom
+	base := r.dropBase(n)
 	conds := append(r.buf[:0], above("over", Fail, share, lim.NonCriticalPct.Value, "%"))
 	if n.critical {
 		conds = append(conds, above("critical", Warn, share, lim.CriticalPct.Value, "%"))

@@ -311,6 +311,12 @@ func TestSourceRuntimeEdges(t *testing.T) {
 		{"meets target", rt(3.9), "source.runtime", "pack", Pass, 4, 3.9, "meeting"},
 		{"short of target", rt(4.1), "source.runtime", "pack", Warn, 4, 4.1, "short of"},
 	})
+	// Without a target the runtime is still stated, as a pass against 0 h.
+	noTarget := doc("", nimh(10, ""),
+		`{"id": "fan", "type": "load", "current_a": 0.5, `+feedJS("pack", "1mm2", 0.29, `, "fuse": {"rating_a": 1, "distance_from_source_m": 0.1}`)+`}`)
+	runEdges(t, []edge{
+		{"no target", noTarget, "source.runtime", "pack", Pass, 4, 0, "sets no target_runtime_h"},
+	})
 
 	// Peukert's law (Peukert 1897, as in battery handbooks; common practice):
 	// t = H × (C/(I·H))^k. A 12 V, 7 Ah lead-acid block rated at 20 h with
@@ -361,6 +367,18 @@ func TestWireEdges(t *testing.T) {
 		{"critical under 3 %", drop(3.5, true), "wire.drop", "heater", Pass, 0.35 / 12 * 100, 3, "within the 3.00 % limit"},
 		{"critical over 3 %", drop(3.7, true), "wire.drop", "heater", Warn, 0.37 / 12 * 100, 3, "critical"},
 		{"non-critical over 3 %", drop(3.7, false), "wire.drop", "heater", Pass, 0.37 / 12 * 100, 10, ""},
+	})
+
+	// A buck with min_input_v 6 fed 5.5 V puts out nothing; its headroom
+	// check fails. The 0.01 Ω feed below it carries 1 A, a 0.01 V drop, and
+	// is judged against the 5 V the regulator is meant to hold: 0.2 %, a
+	// pass, not a share of zero volts.
+	dead := doc("", supplyOf(5.5, 10),
+		`{"id": "buck", "type": "regulator", "topology": "buck", "output_v": 5, "max_output_a": 2, "min_input_v": 6, `+feedJS("bench", "1mm2", 0.29, "")+`}`,
+		`{"id": "cam", "type": "load", "current_a": 1, "min_v": 4.5, "max_v": 5.5, `+feedJS("buck", "1mm2", 0.29, "")+`}`)
+	runEdges(t, []edge{
+		{"drop below a dead regulator", dead, "wire.drop", "cam", Pass, 0.01 / 5 * 100, 10, ""},
+		{"the dead regulator itself", dead, "regulator.headroom", "buck", Fail, 5.5, 6, ""},
 	})
 }
 

@@ -71,8 +71,8 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 			run := r.runtime(n, need[i])
 			rep.Runtime = append(rep.Runtime, run)
 			r.sourceCurrent(n, need[i].criticalV, need[i].criticalID)
-			if doc.TargetRuntimeH != nil && run.Hours != nil {
-				r.sourceRuntime(n, *run.Hours, *doc.TargetRuntimeH, run.LimitedBy)
+			if run.Hours != nil {
+				r.sourceRuntime(n, *run.Hours, doc.TargetRuntimeH, run.LimitedBy)
 			}
 		case kindSupply:
 			r.sourceCurrent(n, math.Inf(-1), "")
@@ -318,14 +318,16 @@ func ptr(x float64) *float64 {
 	return &c
 }
 
-// clean rounds a reported number to a millionth, which is finer than any
-// input, so reports do not change with the last bits of float arithmetic.
+// clean rounds a reported number to eight significant digits, finer than
+// any input, so reports do not change with the last bits of float
+// arithmetic, while a micro-ohm feed still reads as what it is.
 // Non-finite values pass through for checkFinite to catch.
 func clean(x float64) float64 {
-	if math.IsNaN(x) || math.IsInf(x, 0) || math.Abs(x) > 1e12 {
-		return x
+	if x == 0 || math.IsNaN(x) || math.IsInf(x, 0) || math.Abs(x) > 1e12 || math.Abs(x) < 1e-12 {
+		return x + 0 // + 0 turns −0 into 0
 	}
-	return math.Round(x*1e6)/1e6 + 0 // + 0 turns −0 into 0
+	scale := math.Pow(10, 7-math.Floor(math.Log10(math.Abs(x))))
+	return math.Round(x*scale)/scale + 0
 }
 
 // checkFinite guards the promise that a report never holds NaN or ±Inf.
