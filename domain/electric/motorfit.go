@@ -74,7 +74,11 @@ func FitMotor(points []BenchPoint) (MotorFit, error) {
 		return MotorFit{}, fmt.Errorf("%w: readings run from %g V to %g V; fit the readings of one supply voltage, or measure at one voltage", ErrMixedVoltages, minV, maxV)
 	}
 	if maxI-minI < CurrentResolutionA {
-		return MotorFit{}, fmt.Errorf("%w: all %d readings are at %g A; measure again at a different load, e.g. running free and with the shaft braked by hand", ErrTooFewCurrents, len(points), meanI)
+		which := fmt.Sprintf("all %d readings are", len(points))
+		if len(points) == 1 {
+			which = "the only reading is"
+		}
+		return MotorFit{}, fmt.Errorf("%w: %s at %g A; measure again at a different load, e.g. running free and with the shaft braked by hand", ErrTooFewCurrents, which, meanI)
 	}
 	var sxx, sxy float64
 	for _, p := range points {
