@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"net/url"
 	"strconv"
 	"strings"
 
@@ -54,9 +55,27 @@ type Migrator struct {
 	m  *migrate.Migrate
 }
 
+// withoutPoolSettings drops pgxpool's own settings (pool_max_conns and the
+// like) from a URL: only the pool understands them, and a plain connection
+// would pass them to the server, which refuses unknown parameters.
+func withoutPoolSettings(databaseURL string) string {
+	u, err := url.Parse(databaseURL)
+	if err != nil || u.RawQuery == "" {
+		return databaseURL
+	}
+	q := u.Query()
+	for k := range q {
+		if strings.HasPrefix(k, "pool_") {
+			q.Del(k)
+		}
+	}
+	u.RawQuery = q.Encode()
+	return u.String()
+}
+
 // NewMigrator opens a migrator on databaseURL.
 func NewMigrator(databaseURL string) (*Migrator, error) {
-	db, err := sql.Open("pgx/v5", databaseURL)
+	db, err := sql.Open("pgx/v5", withoutPoolSettings(databaseURL))
 	if err != nil {
 		return nil, fmt.Errorf("open database for migrations: %w", err)
 	}

@@ -57,7 +57,7 @@ func (s *Store) Ping(ctx context.Context) error { return s.pool.Ping(ctx) }
 // exist, connecting to the server's postgres database to do so. A role that
 // may not create databases gets a wrapped error; one that exists is fine.
 func EnsureDatabase(ctx context.Context, databaseURL string) error {
-	u, err := url.Parse(databaseURL)
+	u, err := url.Parse(withoutPoolSettings(databaseURL))
 	if err != nil {
 		return fmt.Errorf("parse database url: %w", err)
 	}
