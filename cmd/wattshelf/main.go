@@ -41,7 +41,7 @@ const usage = `wattshelf keeps a makerspace's shelf of salvaged parts and review
 power wiring of members' build designs.
 
 Usage:
-  wattshelf serve [--addr 127.0.0.1:8080] [--demo]
+  wattshelf serve [--addr 127.0.0.1:8080] [--demo] [--debug-addr 127.0.0.1:6060]
   wattshelf migrate up | down N | status
   wattshelf seed-demo
   wattshelf token create --name NAME --role member|staff
