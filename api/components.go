@@ -242,6 +242,15 @@ func ifMatchVersion(c echo.Context) (int64, error) {
 	return v, nil
 }
 
+// optionalIfMatchVersion is ifMatchVersion for deletes, which honour
+// If-Match when sent but do not require it.
+func optionalIfMatchVersion(c echo.Context) (int64, error) {
+	if c.Request().Header.Get("If-Match") == "" {
+		return 0, nil
+	}
+	return ifMatchVersion(c)
+}
+
 func (s *server) createComponent(c echo.Context) error {
 	var in domain.ComponentInput
 	if err := bindStrict(c, &in); err != nil {
@@ -403,11 +412,9 @@ func (s *server) deleteComponent(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	var version int64
-	if c.Request().Header.Get("If-Match") != "" {
-		if version, err = ifMatchVersion(c); err != nil {
-			return err
-		}
+	version, err := optionalIfMatchVersion(c)
+	if err != nil {
+		return err
 	}
 	if err := s.store.DeleteComponent(c.Request().Context(), currentUser(c), id, version); err != nil {
 		return err

@@ -227,11 +227,9 @@ func (s *server) deleteDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	var version int64
-	if c.Request().Header.Get("If-Match") != "" {
-		if version, err = ifMatchVersion(c); err != nil {
-			return err
-		}
+	version, err := optionalIfMatchVersion(c)
+	if err != nil {
+		return err
 	}
 	if err := s.store.DeleteDesign(c.Request().Context(), currentUser(c), id, version); err != nil {
 		return err
