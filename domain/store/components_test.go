@@ -388,3 +388,90 @@ func TestComponentsByIDShelfAndCount(t *testing.T) {
 		t.Errorf("count %d, %v", n, err)
 	}
 }
+
+// TestShelfRevisionFollowsEveryChange holds the promise the shelf cache
+// rests on: the revision moves with every committed change to the
+// components, whoever makes it, and stays put otherwise.
+func TestShelfRevisionFollowsEveryChange(t *testing.T) {
+	ctx := context.Background()
+	st, dbURL := storetest.NewStore(t)
+	// A second pool on the same database stands for another replica.
+	other, err := store.Open(ctx, dbURL)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer other.Close()
+	rev := func(s *store.Store) int64 {
+		t.Helper()
+		r, err := s.ShelfRevision(ctx)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return r
+	}
+	last := rev(st)
+	moved := func(what string) {
+		t.Helper()
+		now, seen := rev(st), rev(other)
+		if now <= last || seen != now {
+			t.Errorf("after %s: revision %d here, %d on the other replica; was %d", what, now, seen, last)
+		}
+		last = now
+	}
+	still := func(what string) {
+		t.Helper()
+		if now := rev(other); now != last {
+			t.Errorf("after %s: revision %d, want it to stay %d", what, now, last)
+		}
+	}
+
+	c := mustCreate(t, st, memberAda, part("motor", "Wiper motor"))
+	moved("a create")
+	if _, err := st.Shelf(ctx); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := st.AddMeasurement(ctx, memberAda, c.ID, domain.MeasurementInput{VoltageV: 12, CurrentA: 1.1}); err != nil {
+		t.Fatal(err)
+	}
+	still("a shelf read and a measurement")
+	if _, err := other.UpdateComponent(ctx, memberAda, c.ID, 1, part("motor", "Wiper motor, 12 V")); err != nil {
+		t.Fatal(err)
+	}
+	moved("an update on the other replica")
+	if _, err := st.UpdateComponent(ctx, memberAda, c.ID, 1, part("motor", "stale")); !errors.Is(err, domain.ErrPreconditionFailed) {
+		t.Fatalf("stale update: %v", err)
+	}
+	still("a refused update")
+
+	// A change whose transaction rolls back leaves the revision alone.
+	conn := rawConn(t, dbURL)
+	if _, err := conn.Exec(ctx, `ALTER TABLE audit ADD CONSTRAINT refuse_for_test CHECK (action <> 'component.delete')`); err != nil {
+		t.Fatal(err)
+	}
+	if err := st.DeleteComponent(ctx, memberAda, c.ID, 2); err == nil {
+		t.Fatal("delete succeeded although its audit row was refused")
+	}
+	still("a delete that rolled back")
+	if _, err := conn.Exec(ctx, `ALTER TABLE audit DROP CONSTRAINT refuse_for_test`); err != nil {
+		t.Fatal(err)
+	}
+	if err := st.DeleteComponent(ctx, memberAda, c.ID, 2); err != nil {
+		t.Fatal(err)
+	}
+	moved("a delete")
+
+	// Concurrent writers (spread over the counters) each move it once.
+	const writers = 8
+	var wg sync.WaitGroup
+	for i := range writers {
+		wg.Go(func() {
+			if _, err := st.CreateComponent(ctx, memberBo, part("light", "Lamp "+string(rune('A'+i)))); err != nil {
+				t.Error(err)
+			}
+		})
+	}
+	wg.Wait()
+	if now := rev(other); now != last+writers {
+		t.Errorf("after %d concurrent creates: revision %d, want %d", writers, now, last+writers)
+	}
+}
