@@ -1,6 +1,7 @@
 package api
 
 import (
+	"context"
 	"crypto/sha256"
 	"encoding/base64"
 	"encoding/hex"
@@ -49,53 +50,80 @@ type ShelfView struct {
 	Next  string             `json:"next,omitempty"`
 }
 
-// getShelf serves the public shelf with an ETag over its content, so a
-// kiosk polling with If-None-Match costs one query and no body.
+// getShelf serves the public shelf, or a page of it. Encoded views are
+// kept per shelf revision, which every request reads from the database
+// (one small query, as /readyz makes), so a change through any replica
+// is seen at once; the revision is also in the ETag, and a kiosk polling
+// with If-None-Match gets a 304 without a body.
 func (s *server) getShelf(c echo.Context) error {
-	view, err := s.shelfView(c)
+	key, after, err := shelfQuery(c)
 	if err != nil {
 		return err
 	}
-	body, err := json.Marshal(view)
+	ctx := c.Request().Context()
+	rev, err := s.store.ShelfRevision(ctx)
 	if err != nil {
-		return fmt.Errorf("encode shelf: %w", err)
+		return err
 	}
-	sum := sha256.Sum256(body)
-	etag := `"` + hex.EncodeToString(sum[:12]) + `"`
-	c.Response().Header().Set("ETag", etag)
+	page, ok := s.shelf.get(rev, key)
+	if !ok {
+		view, err := s.shelfView(ctx, key, after)
+		if err != nil {
+			return err
+		}
+		body, err := json.Marshal(view)
+		if err != nil {
+			return fmt.Errorf("encode shelf: %w", err)
+		}
+		// The hash keeps the ETag honest across releases that encode the
+		// same revision differently.
+		sum := sha256.Sum256(body)
+		page = shelfPage{body: body, etag: `"` + strconv.FormatInt(rev, 10) + "-" + hex.EncodeToString(sum[:8]) + `"`}
+		s.shelf.put(rev, key, page)
+	}
+	c.Response().Header().Set("ETag", page.etag)
 	c.Response().Header().Set("Cache-Control", "no-cache")
-	if match := c.Request().Header.Get("If-None-Match"); match != "" && strings.Contains(match, etag) {
+	if match := c.Request().Header.Get("If-None-Match"); match != "" && strings.Contains(match, page.etag) {
 		return c.NoContent(http.StatusNotModified)
 	}
-	return c.JSONBlob(http.StatusOK, body)
+	return c.JSONBlob(http.StatusOK, page.body)
 }
 
-// shelfView reads the whole shelf or, given ?limit= or ?cursor= (the
-// next of an earlier page), one page of it in the same order.
-func (s *server) shelfView(c echo.Context) (ShelfView, error) {
-	ctx := c.Request().Context()
+// shelfQuery reads ?limit= and ?cursor= (the next of an earlier page).
+// Neither means the whole shelf: limit 0 in the key.
+func shelfQuery(c echo.Context) (shelfKey, *store.ShelfCursor, error) {
 	limitParam, cursorParam := c.QueryParam("limit"), c.QueryParam("cursor")
 	if limitParam == "" && cursorParam == "" {
-		items, err := s.store.Shelf(ctx)
-		return ShelfView{Items: items}, err
+		return shelfKey{}, nil, nil
 	}
-	limit := defaultPageSize
+	key := shelfKey{limit: defaultPageSize, cursor: cursorParam}
 	if limitParam != "" {
 		n, err := strconv.Atoi(limitParam)
 		if err != nil || n < 1 || n > maxPageSize {
-			return ShelfView{}, queryProblem("/limit", "must be a whole number from 1 to %d", maxPageSize)
+			return key, nil, queryProblem("/limit", "must be a whole number from 1 to %d", maxPageSize)
 		}
-		limit = n
+		key.limit = n
 	}
-	var after *store.ShelfCursor
-	if cursorParam != "" {
-		cur, err := decodeShelfCursor(cursorParam)
-		if err != nil {
-			return ShelfView{}, queryProblem("/cursor", "is not a cursor this service issued")
+	if cursorParam == "" {
+		return key, nil, nil
+	}
+	cur, err := decodeShelfCursor(cursorParam)
+	if err != nil {
+		return key, nil, queryProblem("/cursor", "is not a cursor this service issued")
+	}
+	return key, &cur, nil
+}
+
+// shelfView reads the whole shelf or one page of it in shelf order.
+func (s *server) shelfView(ctx context.Context, key shelfKey, after *store.ShelfCursor) (ShelfView, error) {
+	if key.limit == 0 {
+		items, err := s.store.Shelf(ctx)
+		if items == nil {
+			items = []domain.ShelfItem{}
 		}
-		after = &cur
+		return ShelfView{Items: items}, err
 	}
-	items, more, err := s.store.ShelfPage(ctx, after, limit)
+	items, more, err := s.store.ShelfPage(ctx, after, key.limit)
 	if err != nil {
 		return ShelfView{}, err
 	}
