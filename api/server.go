@@ -45,6 +45,7 @@ type server struct {
 	logger        *slog.Logger
 	schemaVersion uint
 	limits        *limitsCache
+	shelf         *shelfCache
 	reviewLimiter *clientLimiter
 }
 
@@ -57,7 +58,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	if err != nil {
 		return nil, err
 	}
-	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want}
+	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache()}
 
 	metrics, err := newHTTPMetrics(cfg.Registry)
 	if err != nil {
