@@ -1,29 +1,75 @@
 package review
 
 import (
+	"encoding/json"
 	"fmt"
 	"testing"
 )
 
 // BenchmarkReview reviews designs of 10 to 5,000 nodes (the document
-// limit). The target is under 50 ms for 5,000 nodes on one core, growing
-// no faster than n·log n: compare ns/op across the sizes.
+// limit) with prepared rules, as the service does. The target is under
+// 50 ms for 5,000 nodes on one core, growing no faster than n·log n:
+// compare ns/op across the sizes.
 //
 //	go test ./domain/review -run '^$' -bench Review -benchmem -cpu 1
 func BenchmarkReview(b *testing.B) {
-	limits := DefaultLimits()
-	for _, n := range []int{10, 100, 1000, 5000} {
+	rules, err := Prepare(DefaultLimits(), 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	for _, n := range []int{10, 30, 100, 1000, 5000} {
 		d := benchDesign(n)
-		if _, err := Review(d, limits, 1, nil); err != nil {
+		if _, err := rules.Review(d, nil); err != nil {
 			b.Fatalf("%d nodes: %v", n, err)
 		}
 		b.Run(fmt.Sprintf("nodes=%d", n), func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				if _, err := Review(d, limits, 1, nil); err != nil {
+				if _, err := rules.Review(d, nil); err != nil {
 					b.Fatal(err)
 				}
 			}
 		})
 	}
+}
+
+// BenchmarkPrepare is what every review paid before the rules were kept
+// per limits version: validating the seeded limits and building the bases.
+func BenchmarkPrepare(b *testing.B) {
+	limits := DefaultLimits()
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := Prepare(limits, 1); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkReportJSON encodes a 30-node report with AppendJSON into a
+// reused buffer, and with encoding/json for comparison.
+func BenchmarkReportJSON(b *testing.B) {
+	rep, err := Review(benchDesign(30), DefaultLimits(), 1, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Run("AppendJSON", func(b *testing.B) {
+		b.ReportAllocs()
+		var buf []byte
+		for b.Loop() {
+			if buf, err = rep.AppendJSON(buf[:0]); err != nil {
+				b.Fatal(err)
+			}
+		}
+		b.SetBytes(int64(len(buf)))
+	})
+	b.Run("encoding/json", func(b *testing.B) {
+		b.ReportAllocs()
+		var out []byte
+		for b.Loop() {
+			if out, err = json.Marshal(rep); err != nil {
+				b.Fatal(err)
+			}
+		}
+		b.SetBytes(int64(len(out)))
+	})
 }

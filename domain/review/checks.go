@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 
 	"wattshelf/domain/electric"
 )
@@ -48,7 +49,9 @@ func flagged(what string, level Status, bad bool, value, limit float64, unit str
 }
 
 // bases are the rule-and-source sentences of each check, built once per
-// review from the limits.
+// limits version (Prepare). Every check carries one, so they are kept to
+// the rule and a citation of its source; the whole source text stays in
+// the limits version the report names.
 type bases struct {
 	voltageRange, headroomLinear, headroomSwitching, rating, thermal, source, runtime string
 	ampacity, drop, fuseMissing, fuseRating, fusePlacement, connector, scope          string
@@ -56,42 +59,61 @@ type bases struct {
 
 func newBases(l Limits) bases {
 	u, m := l.Policy.UtilisationPct, l.Policy.ThermalMarginC
-	f := l.Fuses
+	f, d := l.Fuses, l.VoltageDrop
+	warnAbove := fmt.Sprintf("warn above %g %% (%s)", u.Value, cite(u.Source))
 	return bases{
-		voltageRange: "the part's own rating (min_v, max_v) against its input: the high end with a full source and no load, " +
-			"the nominal, and the low end at the source's cutoff after feed drops at the running current (DESIGN section 6)",
-		headroomLinear: "a linear regulator holds output_v only while its input is at least output_v + dropout_v, " +
-			"and never above max_input_v (the part's datasheet)",
-		headroomSwitching: "a switching regulator holds output_v inside its input window (min_input_v to max_input_v; a buck " +
-			"needs at least its output, a boost at most it), and its feed must carry the input power P/η, which needs " +
-			"V_parent ≥ 2·√(R_feed·P/η)",
-		rating: fmt.Sprintf("fail above the part's rating; warn above %g %% of it (%s)", u.Value, u.Source),
-		thermal: fmt.Sprintf("junction temperature T_j = ambient + P·θ_JA, P = (V_in − V_out)·I_out + V_in·I_q at the input "+
-			"high end; fail at tj_max_c, warn within %g °C of it (%s)", m.Value, m.Source),
-		source: "fail when the continuous current exceeds the source's rating (max_discharge_a, by default the chemistry's " +
-			"C rate times the capacity; a supply's max_a); warn when the surge does, or when the sag of the surge through " +
-			"the internal resistance takes a critical load below its min_v",
-		runtime: "usable capacity (from full to the cell cutoff or the first brownout, read off the chemistry's discharge " +
-			"curve; Peukert's law where the chemistry stores an exponent) over the average current",
-		ampacity: fmt.Sprintf("ampacity from the stored conductor table (%s), insulation column and bundling factor; fail above it, "+
-			"warn above %g %% of it (%s)", l.Conductors.Source, u.Value, u.Source),
-		drop: fmt.Sprintf("drop across both conductors (copper 1/58 Ω·mm²/m at 20 °C, α = 0.00393 /K, IEC 60028) as a share of the "+
-			"parent's nominal voltage: fail over %g %% (%s); warn over %g %% on a critical load (%s)",
-			l.VoltageDrop.NonCriticalPct.Value, l.VoltageDrop.NonCriticalPct.Source,
-			l.VoltageDrop.CriticalPct.Value, l.VoltageDrop.CriticalPct.Source),
-		fuseMissing: "a feed leaving a source needs a fuse when the source can deliver more than the conductor carries " +
-			"(a battery: full voltage over internal resistance; a supply: max_a) (33 CFR 183.455); otherwise a fuse is still advised",
-		fuseRating: fmt.Sprintf("rating at most %g × the ampacity of every conductor it protects (%s); voltage rating at least "+
-			"the circuit's high end; rating at least %g × the continuous current (%s); a fast fuse at least the motor surge; "+
-			"a standard rating of its series (stored fuse families)",
-			f.MaxAmpacityMultiple.Value, f.MaxAmpacityMultiple.Source, f.ContinuousLoadFactor.Value, f.ContinuousLoadFactor.Source),
-		fusePlacement: fmt.Sprintf("within %g m of the source, or %g m when the conductor is sheathed (%s; %s)",
-			f.MaxDistanceM.Value, f.MaxDistanceSheathedM.Value, f.MaxDistanceM.Source, f.MaxDistanceSheathedM.Source),
-		connector: fmt.Sprintf("the connector's rating (from the design or its stored family); fail above it, warn above "+
-			"%g %% of it (%s)", u.Value, u.Source),
-		scope: fmt.Sprintf("mains is out of scope, and so is any source whose high end exceeds %g V DC (%s)",
-			l.Policy.InScopeMaxV.Value, l.Policy.InScopeMaxV.Source),
+		voltageRange: "the part's min_v and max_v against its input range at the operating point: full source and no load " +
+			"at the high end, cutoff and feed drops at the low end",
+		headroomLinear: "a linear regulator needs an input of at least output_v + dropout_v, and at most max_input_v " +
+			"(the part's datasheet)",
+		headroomSwitching: "a switching regulator needs an input inside its min_input_v to max_input_v window, and a feed " +
+			"that carries P/η: V_parent ≥ 2·√(R_feed·P/η)",
+		rating:  "the part's rating (its datasheet); " + warnAbove,
+		thermal: fmt.Sprintf("T_j = ambient + P·θ_JA at the input high end; fail at tj_max_c, warn within %g °C (%s)", m.Value, cite(m.Source)),
+		source: "the source's max_discharge_a (default: C rate × capacity) or max_a; fail on the running current, " +
+			"warn on the surge or when its sag takes a critical load below min_v",
+		runtime: "usable capacity, full to cutoff or first brownout on the discharge curve (Peukert where stored), over the " +
+			"average current",
+		ampacity: fmt.Sprintf("ampacity by insulation and bundling from %s; %s", cite(l.Conductors.Source), warnAbove),
+		drop: fmt.Sprintf("drop over both copper conductors (IEC 60028) as a share of the parent's nominal voltage: fail over "+
+			"%g %%, warn over %g %% on a critical load (%s)", d.NonCriticalPct.Value, d.CriticalPct.Value,
+			cites(d.NonCriticalPct.Source, d.CriticalPct.Source)),
+		fuseMissing: "a source's feed needs a fuse when the source can deliver more than the wire carries (33 CFR 183.455); " +
+			"otherwise one is advised",
+		fuseRating: fmt.Sprintf("at most %g × the ampacity it protects (%s), at least %g × the running current (%s); voltage "+
+			"rating at least the circuit's, a fast fuse at least the motor surge, a standard rating of its series",
+			f.MaxAmpacityMultiple.Value, cite(f.MaxAmpacityMultiple.Source), f.ContinuousLoadFactor.Value, cite(f.ContinuousLoadFactor.Source)),
+		fusePlacement: fmt.Sprintf("within %g m of the source, %g m when sheathed (%s)", f.MaxDistanceM.Value,
+			f.MaxDistanceSheathedM.Value, cites(f.MaxDistanceM.Source, f.MaxDistanceSheathedM.Source)),
+		connector: "the connector's rating (the design's or its stored family's); " + warnAbove,
+		scope: fmt.Sprintf("mains is out of scope, and so is any source above %g V DC (%s)", l.Policy.InScopeMaxV.Value,
+			cite(l.Policy.InScopeMaxV.Source)),
 	}
+}
+
+// cite is the citation a stored source opens with: the text before its
+// first colon or semicolon ("33 CFR 183.455: at most 150 % of …" cites
+// "33 CFR 183.455"), saying so when the rest marks something as recalled
+// from memory.
+func cite(source string) string {
+	head, rest := source, ""
+	if i := strings.IndexAny(source, ":;"); i >= 0 {
+		head, rest = source[:i], source[i:]
+	}
+	head = strings.TrimSpace(head)
+	if strings.Contains(rest, "from memory") && !strings.Contains(head, "from memory") {
+		head += ", partly from memory"
+	}
+	return head
+}
+
+// cites cites two sources, once when they cite the same.
+func cites(a, b string) string {
+	ca, cb := cite(a), cite(b)
+	if ca == cb {
+		return ca
+	}
+	return ca + "; " + cb
 }
 
 // num prints a value with about three significant digits.
@@ -132,11 +154,12 @@ type piece struct {
 func txt(s string) piece  { return piece{text: s} }
 func val(x float64) piece { return piece{number: x, isNum: true} }
 
-// say joins pieces into a sentence with a single allocation. The passing
-// sentences of the frequent checks use it: a 5,000-node design writes
-// tens of thousands of them, and fmt boxes every argument.
+// say writes a sentence of pieces into the review's text, where emit
+// finds it, and returns "". The passing sentences of the frequent checks
+// use it: a 5,000-node design writes tens of thousands of them, fmt boxes
+// every argument, and a string apiece would be an allocation apiece.
 func (r *reviewer) say(parts ...piece) string {
-	b := r.text[:0]
+	b := r.text
 	for _, p := range parts {
 		if p.isNum {
 			b = appendNum(b, p.number)
@@ -145,11 +168,12 @@ func (r *reviewer) say(parts ...piece) string {
 		}
 	}
 	r.text = b
-	return string(b)
+	return ""
 }
 
 // emit records a check from its conditions. msg writes the sentence for
-// the condition shown; passed says none was crossed.
+// the condition shown, with say or as a string of its own; passed says
+// none was crossed. The message is filled in by finishMessages.
 func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, msg func(c cond, passed bool) string) {
 	pick, status := -1, Pass
 	for i, c := range conds {
@@ -166,14 +190,35 @@ func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, msg func
 		}
 	}
 	c := conds[pick]
+	start := len(r.text)
+	if own := msg(c, passed); own != "" {
+		r.text = append(r.text, own...)
+	}
 	r.add(Check{Check: check, Node: nodeID, Pointer: ptr, Status: status, Value: c.value, Limit: c.limit,
-		Unit: c.unit, Message: msg(c, passed), Basis: basis})
+		Unit: c.unit, Basis: basis})
+	r.spans[len(r.checks)-1] = textSpan{int32(start), int32(len(r.text))}
 	r.buf = conds[:0]
+}
+
+// textSpan is where a check's message lies in the review's text; start −1
+// means the check was added with its message.
+type textSpan struct{ start, end int32 }
+
+// finishMessages turns the review's text into one string and gives each
+// emitted check its part of it: one allocation for every message.
+func (r *reviewer) finishMessages() {
+	all := string(r.text)
+	for i, sp := range r.spans {
+		if sp.start >= 0 {
+			r.checks[i].Message = all[sp.start:sp.end]
+		}
+	}
 }
 
 func (r *reviewer) add(c Check) {
 	c.Value, c.Limit = clean(c.Value), clean(c.Limit)
 	r.checks = append(r.checks, c)
+	r.spans = append(r.spans, textSpan{-1, -1})
 }
 
 // sourceOf is the battery or supply at the top of n's tree.
@@ -616,16 +661,21 @@ func (r *reviewer) connectorRating(n *node, ptr string, k int, c connector) {
 		conds = append(conds, above("voltage near", Warn, n.vHigh, u*c.ratingV, "V"))
 	}
 	r.emit(CheckConnectorRating, n.id, ptr, r.basis.connector, conds, func(cd cond, passed bool) string {
-		name := "connector " + strconv.Itoa(k+1)
+		// "xt30 connector", or "connector 2" for one without a family
+		first, second := "connector ", strconv.Itoa(k+1)
 		if c.family != "" {
-			name = c.family + " connector"
+			first, second = c.family, " connector"
 		}
+		if passed {
+			r.say(txt("The "), txt(first), txt(second), txt(" on the feed to "), txt(n.id), txt(" carries "), val(n.run),
+				txt(" A of its "), val(c.ratingA), txt(" A rating"))
+			if c.ratingV > 0 {
+				return r.say(txt(" at up to "), val(n.vHigh), txt(" V of its "), val(c.ratingV), txt(" V."))
+			}
+			return r.say(txt("."))
+		}
+		name := first + second
 		switch {
-		case passed && c.ratingV > 0:
-			return fmt.Sprintf("The %s on the feed to %s carries %s A of its %s A rating at up to %s V of its %s V.",
-				name, n.id, num(n.run), num(c.ratingA), num(n.vHigh), num(c.ratingV))
-		case passed:
-			return fmt.Sprintf("The %s on the feed to %s carries %s A of its %s A rating.", name, n.id, num(n.run), num(c.ratingA))
 		case cd.what == "current":
 			return fmt.Sprintf("The %s on the feed to %s carries %s A, above its %s A rating.", name, n.id, num(n.run), num(c.ratingA))
 		case cd.what == "voltage":

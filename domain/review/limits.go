@@ -238,7 +238,7 @@ func addJoined(p *domain.Problems, ptr string, err error) {
 }
 
 // chemistry returns the stored chemistry called name.
-func (l Limits) chemistry(name string) (electric.Chemistry, bool) {
+func (l *Limits) chemistry(name string) (electric.Chemistry, bool) {
 	for _, c := range l.Chemistries {
 		if c.Name == name {
 			return c, true
@@ -248,7 +248,7 @@ func (l Limits) chemistry(name string) (electric.Chemistry, bool) {
 }
 
 // fuseFamily returns the stored fuse family called name.
-func (l Limits) fuseFamily(name string) (electric.FuseFamily, bool) {
+func (l *Limits) fuseFamily(name string) (electric.FuseFamily, bool) {
 	for _, f := range l.Fuses.Families {
 		if f.Name == name {
 			return f, true
@@ -258,7 +258,7 @@ func (l Limits) fuseFamily(name string) (electric.FuseFamily, bool) {
 }
 
 // connectorFamily returns the stored connector family called name.
-func (l Limits) connectorFamily(name string) (ConnectorFamily, bool) {
+func (l *Limits) connectorFamily(name string) (ConnectorFamily, bool) {
 	for _, c := range l.Connectors {
 		if c.Family == name {
 			return c, true
@@ -277,4 +277,4 @@ func names[T any](items []T, name func(T) string) string {
 }
 
 // utilisation is the policy threshold as a share.
-func (l Limits) utilisation() float64 { return l.Policy.UtilisationPct.Value / 100 }
+func (l *Limits) utilisation() float64 { return l.Policy.UtilisationPct.Value / 100 }

@@ -33,7 +33,8 @@ const (
 // in, defaults applied, units in SI, and room for its operating point.
 type node struct {
 	id        string
-	ptr       string
+	ptr       string // its JSON pointer, "/nodes/N"
+	wirePtr   string // ptr + "/feed/wire" when it has a feed; ptr and the feed's pointer are prefixes of it
 	typ       string
 	kind      kind
 	parent    int // -1 at a root
@@ -108,6 +109,9 @@ type connector struct {
 	family           string
 	ratingA, ratingV float64 // ratingV 0: unknown
 }
+
+// feedPtr is the JSON pointer of the node's feed.
+func (n *node) feedPtr() string { return n.wirePtr[:len(n.wirePtr)-len("/wire")] }
 
 func (n *node) isSource() bool { return n.kind == kindBattery || n.kind == kindSupply }
 
@@ -221,16 +225,22 @@ func or(v *float64, def float64) float64 {
 // neither the node nor its component gives, a chemistry or fuse family the
 // limits do not store, a wire the conductor table cannot rate) come back as
 // a *domain.ValidationError.
-func build(doc domain.Design, limits Limits, components map[int64]domain.Component, ambientC float64) ([]node, error) {
+func build(doc domain.Design, limits *Limits, components map[int64]domain.Component, ambientC float64) ([]node, error) {
 	var p domain.Problems
 	rc := ratingCache{gauges: map[string]electric.Gauge{}, amps: map[ampKey]ampEntry{}}
 	nodes := make([]node, len(doc.Nodes))
+	feeds := make([]feed, 0, len(doc.Nodes)) // every node's feed, in one allocation
+	ptrs := nodePointers(doc)
 	index := make(map[string]int, len(doc.Nodes))
 	for i, dn := range doc.Nodes {
 		index[dn.ID] = i
 	}
 	for i, dn := range doc.Nodes {
-		ptr := "/nodes/" + strconv.Itoa(i)
+		ptr := ptrs[i]
+		if dn.Feed != nil {
+			nodes[i].wirePtr = ptr
+			ptr = ptr[:len(ptr)-len("/feed/wire")]
+		}
 		n := &nodes[i]
 		n.id, n.ptr, n.typ, n.parent, n.mains = dn.ID, ptr, dn.Type, -1, dn.Mains
 		if dn.ComponentID != nil {
@@ -257,13 +267,15 @@ func build(doc domain.Design, limits Limits, components map[int64]domain.Compone
 		}
 		resolveNode(&p, n, dn, limits)
 		if dn.Feed != nil {
-			n.feed = resolveFeed(&p, ptr+"/feed", *dn.Feed, limits, ambientC, &rc)
+			feeds = append(feeds, feed{})
+			n.feed = &feeds[len(feeds)-1]
+			resolveFeed(&p, n.feed, n.feedPtr(), *dn.Feed, limits, ambientC, &rc)
 		}
 	}
 	return nodes, p.Err()
 }
 
-func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits Limits) {
+func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {
 	switch dn.Type {
 	case domain.NodeBattery:
 		n.kind = kindBattery
@@ -367,14 +379,38 @@ func (rc *ratingCache) ampacity(t electric.ConductorTable, g electric.Gauge, ins
 	return e.amps, e.err
 }
 
-func resolveFeed(p *domain.Problems, ptr string, df domain.Feed, limits Limits, ambientC float64, rc *ratingCache) *feed {
+// nodePointers gives each node its JSON pointer, or for a node with a
+// feed its wire's ("/nodes/N/feed/wire", of which the node's and the
+// feed's are prefixes): all of them slices of one string.
+func nodePointers(doc domain.Design) []string {
+	var b []byte
+	ends := make([]int, len(doc.Nodes))
+	for i, dn := range doc.Nodes {
+		b = append(b, "/nodes/"...)
+		b = strconv.AppendInt(b, int64(i), 10)
+		if dn.Feed != nil {
+			b = append(b, "/feed/wire"...)
+		}
+		ends[i] = len(b)
+	}
+	all, start := string(b), 0
+	ptrs := make([]string, len(ends))
+	for i, end := range ends {
+		ptrs[i], start = all[start:end], end
+	}
+	return ptrs
+}
+
+// resolveFeed fills f from the document's feed; on a wire it cannot read
+// it leaves f empty and reports the problem.
+func resolveFeed(p *domain.Problems, f *feed, ptr string, df domain.Feed, limits *Limits, ambientC float64, rc *ratingCache) {
 	w := df.Wire
 	g, err := rc.gauge(w.Gauge)
 	if err != nil { // Validate has already said so; keep the pointer honest anyway
 		p.Add(ptr+"/wire/gauge", "%v", err)
-		return nil
+		return
 	}
-	f := &feed{
+	*f = feed{
 		from: df.From, gauge: g, lengthM: w.LengthM, insulationC: or(w.InsulationC, 105), bundled: 1,
 	}
 	if w.Bundled != nil {
@@ -420,5 +456,4 @@ func resolveFeed(p *domain.Problems, ptr string, df domain.Feed, limits Limits, 
 		}
 		f.connectors = append(f.connectors, c)
 	}
-	return f
 }

@@ -13,33 +13,71 @@ import (
 
 type reviewer struct {
 	t       *tree
-	limits  Limits
+	limits  *Limits
 	ambient float64
-	basis   bases
+	basis   *bases
 	checks  []Check
+	spans   []textSpan // of each check's message in text
+	nums    numbers
 	buf     []cond // conditions of the check being built, reused
-	text    []byte // the sentence being built, reused
+	text    []byte // every message said so far, end to end
 }
 
-// Review checks a design against a limits set. It validates the document,
+// Rules is a limits set that passed Validate, with what every review
+// derives from it (the basis sentences) worked out once. A service keeps
+// one per stored limits version: a version never changes once stored, so
+// neither does its Rules. Safe for concurrent use.
+type Rules struct {
+	limits  Limits
+	version int
+	basis   bases
+}
+
+// Prepare validates a limits set stored as version and readies it for
+// reviews. An unusable limits set is a plain error: it is the service's
+// fault, not the member's.
+func Prepare(limits Limits, version int) (*Rules, error) {
+	if err := limits.Validate(); err != nil {
+		// %v, not %w: the problems are in the limits, not in a document.
+		return nil, fmt.Errorf("limits v%d cannot be used: %v", version, err)
+	}
+	return &Rules{limits: limits, version: version, basis: newBases(limits)}, nil
+}
+
+// Version is the limits version the rules were prepared from.
+func (ru *Rules) Version() int { return ru.version }
+
+// Review checks a design against a limits set: Prepare, then Rules.Review.
+func Review(doc domain.Design, limits Limits, limitsVersion int, components map[int64]domain.Component) (Report, error) {
+	if err := doc.Validate(); err != nil {
+		return Report{}, err
+	}
+	ru, err := Prepare(limits, limitsVersion)
+	if err != nil {
+		return Report{}, err
+	}
+	return ru.review(doc, components)
+}
+
+// Review checks a design against the rules. It validates the document,
 // fills nodes that name a component_id from components (the node's own
 // fields win), solves the operating point (DESIGN section 6) and runs every
 // check of section 7. A document that breaks the contract, names a
 // component that is not in components, or leaves out a field neither it nor
 // its component gives comes back as a *domain.ValidationError with JSON
-// pointers. An unusable limits set is a plain error: it is the service's
-// fault, not the member's.
+// pointers.
 //
 // The cost is linear in the number of nodes, times the handful of steps a
 // design with switching regulators needs to settle (at most maxSolveSteps).
-func Review(doc domain.Design, limits Limits, limitsVersion int, components map[int64]domain.Component) (Report, error) {
+func (ru *Rules) Review(doc domain.Design, components map[int64]domain.Component) (Report, error) {
 	if err := doc.Validate(); err != nil {
 		return Report{}, err
 	}
-	if err := limits.Validate(); err != nil {
-		// %v, not %w: the problems are in the limits, not in the document.
-		return Report{}, fmt.Errorf("limits v%d cannot be used: %v", limitsVersion, err)
-	}
+	return ru.review(doc, components)
+}
+
+func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component) (Report, error) {
+	limits := &ru.limits
 	ambient := limits.Policy.DefaultAmbientC.Value
 	if doc.AmbientC != nil {
 		ambient = *doc.AmbientC
@@ -50,10 +88,11 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 	}
 	t := newTree(nodes)
 	t.solve()
-	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: newBases(limits),
-		checks: make([]Check, 0, 8*len(nodes)+1)}
+	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: &ru.basis,
+		checks: make([]Check, 0, 8*len(nodes)+1), spans: make([]textSpan, 0, 8*len(nodes)+1),
+		text: make([]byte, 0, 320*len(nodes)+256)}
 	rep := Report{
-		LimitsVersion: limitsVersion,
+		LimitsVersion: ru.version,
 		EngineVersion: EngineVersion,
 		Nodes:         make([]NodeResult, 0, len(nodes)),
 		Feeds:         make([]FeedResult, 0, len(nodes)),
@@ -94,6 +133,7 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 		rep.Nodes = append(rep.Nodes, r.nodeResult(n))
 	}
 
+	r.finishMessages()
 	rep.Checks = r.checks
 	rep.Status = Pass
 	for _, c := range r.checks {
@@ -118,8 +158,7 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 }
 
 func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
-	feedPtr := n.ptr + "/feed"
-	wirePtr := feedPtr + "/wire"
+	feedPtr, wirePtr := n.feedPtr(), n.wirePtr
 	r.wireAmpacity(n, wirePtr)
 	r.wireDrop(n, wirePtr)
 	fromSource := r.t.nodes[n.parent].isSource()
@@ -202,7 +241,7 @@ func (r *reviewer) runtime(n *node, nd need) RuntimeResult {
 		limitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
 	}
 	res := RuntimeResult{Source: n.id, UsableShare: clean(share), LimitedBy: limitedBy,
-		Pack: packFacts(p), Brownouts: brownoutList(p, nd.loads)}
+		Pack: packFacts(p), Brownouts: brownoutList(p, nd.loads, &r.nums)}
 	// A vanishing average current gives hours too large to print; the
 	// runtime is then simply not a concern and is left out.
 	if h := p.RuntimeH(n.avg, share); n.avg > 0 && !math.IsInf(h, 0) && !math.IsNaN(h) {
@@ -228,14 +267,14 @@ func packFacts(p electric.Pack) PackFacts {
 // brownoutList says, for each load that asks the pack for a voltage, when
 // it browns out: the first to go (the highest voltage) first, loads that
 // ask the same in design order.
-func brownoutList(p electric.Pack, loads []loadNeed) []Brownout {
+func brownoutList(p electric.Pack, loads []loadNeed, nums *numbers) []Brownout {
 	sorted := slices.Clone(loads)
 	slices.SortStableFunc(sorted, func(a, b loadNeed) int { return cmp.Compare(b.packV, a.packV) })
 	out := make([]Brownout, len(sorted))
 	for k, l := range sorted {
 		b := Brownout{Node: l.id}
 		if !math.IsInf(l.packV, 1) {
-			b.PackV = ptr(l.packV)
+			b.PackV = nums.ptr(l.packV)
 		}
 		switch {
 		case l.packV > p.FullV():
@@ -244,7 +283,7 @@ func brownoutList(p electric.Pack, loads []loadNeed) []Brownout {
 			b.Outcome = BrownoutNever
 		default:
 			b.Outcome = BrownoutPartway
-			b.SOC = ptr(p.SOCAtPackV(l.packV))
+			b.SOC = nums.ptr(p.SOCAtPackV(l.packV))
 		}
 		out[k] = b
 	}
@@ -288,12 +327,12 @@ func (r *reviewer) nodeResult(n *node) NodeResult {
 	}
 	if n.kind == kindRegulator {
 		res.Collapsed = n.switching() && (n.collapsed || !r.t.converged)
-		res.OutVLow, res.OutVNominal, res.OutVHigh = ptr(n.outLow), ptr(n.outNom), ptr(n.outHigh)
+		res.OutVLow, res.OutVNominal, res.OutVHigh = r.nums.ptr(n.outLow), r.nums.ptr(n.outNom), r.nums.ptr(n.outHigh)
 		if n.topo == topoLinear {
 			p, tj := r.junction(n)
-			res.DissipationW, res.JunctionC = ptr(p), ptr(tj)
+			res.DissipationW, res.JunctionC = r.nums.ptr(p), r.nums.ptr(tj)
 		} else {
-			res.DissipationW = ptr(electric.SwitchingLossW(n.outputV, n.outRun, n.efficiency))
+			res.DissipationW = r.nums.ptr(electric.SwitchingLossW(n.outputV, n.outRun, n.efficiency))
 		}
 	}
 	return res
@@ -308,14 +347,22 @@ func (r *reviewer) feedResult(n *node) FeedResult {
 		DropV: clean(dropV), DropPct: clean(share), AmpacityA: clean(f.ampacity),
 	}
 	if f.fuse != nil {
-		res.FuseA = ptr(f.fuse.ratingA)
+		res.FuseA = r.nums.ptr(f.fuse.ratingA)
 	}
 	return res
 }
 
-func ptr(x float64) *float64 {
-	c := clean(x)
-	return &c
+// numbers hands out pointers to cleaned numbers, the optional fields of a
+// report, from shared blocks: an allocation per block, not per number. A
+// full block is left to the pointers into it and a new one started.
+type numbers struct{ block []float64 }
+
+func (a *numbers) ptr(x float64) *float64 {
+	if len(a.block) == cap(a.block) {
+		a.block = make([]float64, 0, 64)
+	}
+	a.block = append(a.block, clean(x))
+	return &a.block[len(a.block)-1]
 }
 
 // clean rounds a reported number to eight significant digits, finer than
@@ -323,11 +370,96 @@ func ptr(x float64) *float64 {
 // arithmetic, while a micro-ohm feed still reads as what it is.
 // Non-finite values pass through for checkFinite to catch.
 func clean(x float64) float64 {
-	if x == 0 || math.IsNaN(x) || math.IsInf(x, 0) || math.Abs(x) > 1e12 || math.Abs(x) < 1e-12 {
+	ax := math.Abs(x)
+	if x == 0 || math.IsNaN(x) || math.IsInf(x, 0) || ax > 1e12 || ax < 1e-12 {
 		return x + 0 // + 0 turns −0 into 0
 	}
-	scale := math.Pow(10, 7-math.Floor(math.Log10(math.Abs(x))))
+	// The decimal exponent of x, floor(log10 |x|), read off its binary
+	// exponent rather than computed with Log10 and Pow: this runs for every
+	// number of every report. ax = 1.f × 2^e2 (ax is normal here), so
+	// floor(e2·log10 2) is the exponent or one short of it; 78913 / 2^18
+	// is log10 2 closely enough for every e2 in range.
+	e2 := int(math.Float64bits(ax)>>52&0x7ff) - 1023
+	e10 := (e2 * 78913) >> 18
+	if e10+1 <= 12 && ax >= powerOfTen(e10+1) {
+		e10++
+	}
+	scale := powerOfTen(7 - e10)
 	return math.Round(x*scale)/scale + 0
+}
+
+// powerOfTen is 10^k for k from -12 to 19, every scale clean uses, as
+// the float64 nearest it (the value math.Pow gives for these exponents).
+// A switch, which compiles to a jump table: an array would be copied at
+// every call.
+func powerOfTen(k int) float64 {
+	switch k {
+	case -12:
+		return 1e-12
+	case -11:
+		return 1e-11
+	case -10:
+		return 1e-10
+	case -9:
+		return 1e-9
+	case -8:
+		return 1e-8
+	case -7:
+		return 1e-7
+	case -6:
+		return 1e-6
+	case -5:
+		return 1e-5
+	case -4:
+		return 1e-4
+	case -3:
+		return 1e-3
+	case -2:
+		return 1e-2
+	case -1:
+		return 1e-1
+	case 0:
+		return 1e0
+	case 1:
+		return 1e1
+	case 2:
+		return 1e2
+	case 3:
+		return 1e3
+	case 4:
+		return 1e4
+	case 5:
+		return 1e5
+	case 6:
+		return 1e6
+	case 7:
+		return 1e7
+	case 8:
+		return 1e8
+	case 9:
+		return 1e9
+	case 10:
+		return 1e10
+	case 11:
+		return 1e11
+	case 12:
+		return 1e12
+	case 13:
+		return 1e13
+	case 14:
+		return 1e14
+	case 15:
+		return 1e15
+	case 16:
+		return 1e16
+	case 17:
+		return 1e17
+	case 18:
+		return 1e18
+	case 19:
+		return 1e19
+	}
+	panic("powerOfTen: exponent out of range")
 }
 
 // checkFinite guards the promise that a report never holds NaN or ±Inf.

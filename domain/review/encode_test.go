@@ -1,0 +1,184 @@
+package review
+
+import (
+	"bytes"
+	"encoding/json"
+	"math"
+	"math/rand/v2"
+	"path/filepath"
+	"reflect"
+	"strconv"
+	"testing"
+)
+
+// sameAsMarshal fails t unless AppendJSON writes what encoding/json's
+// Marshal writes for rep.
+func sameAsMarshal(t *testing.T, what string, rep Report) {
+	t.Helper()
+	want, err := json.Marshal(rep)
+	if err != nil {
+		t.Fatalf("%s: Marshal: %v", what, err)
+	}
+	got, err := rep.AppendJSON([]byte("prefix"))
+	if err != nil {
+		t.Fatalf("%s: AppendJSON: %v", what, err)
+	}
+	if !bytes.HasPrefix(got, []byte("prefix")) {
+		t.Fatalf("%s: AppendJSON dropped what the buffer held", what)
+	}
+	got = got[len("prefix"):]
+	if !bytes.Equal(got, want) {
+		i := 0
+		for i < len(got) && i < len(want) && got[i] == want[i] {
+			i++
+		}
+		lo := max(i-60, 0)
+		t.Fatalf("%s: AppendJSON differs from Marshal at byte %d:\n got …%s\nwant …%s", what, i,
+			got[lo:min(i+60, len(got))], want[lo:min(i+60, len(want))])
+	}
+}
+
+// TestAppendJSONMatchesEncodingJSON compares the hand-written encoder with
+// encoding/json on the demo designs, on random designs, and on reports
+// whose every field is set by reflection, so a field added to a report
+// type without being added to AppendJSON fails here.
+func TestAppendJSONMatchesEncodingJSON(t *testing.T) {
+	paths, err := filepath.Glob(filepath.Join(demoDir, "*.json"))
+	if err != nil || len(paths) == 0 {
+		t.Fatalf("no demo designs in %s: %v", demoDir, err)
+	}
+	for _, path := range paths {
+		rep, err := Review(readDesign(t, path), DefaultLimits(), 1, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		sameAsMarshal(t, path, rep)
+	}
+	rng := rand.New(rand.NewPCG(3, 4))
+	for round := range 300 {
+		rep, err := Review(randomDesign(rng, 1+rng.IntN(40)), DefaultLimits(), 1, nil)
+		if err != nil {
+			t.Fatalf("random design %d: %v", round, err)
+		}
+		sameAsMarshal(t, "random design", rep)
+	}
+	sameAsMarshal(t, "zero report", Report{})
+	for round := range 200 {
+		var rep Report
+		fillAll(rng, reflect.ValueOf(&rep).Elem(), round%4 == 0)
+		sameAsMarshal(t, "filled report", rep)
+	}
+}
+
+// awkwardStrings need escaping, or look as if they did.
+func awkwardStrings() []string {
+	return []string{"", "plain", `quote " and \ backslash`, "<script>&amp;</script>", "tab\tnew\nline\rcr\bbs\fff",
+		"\x00\x01\x1f\x7f", "bad utf-8 \xff\xfe end", "line\u2028para\u2029sep", "°C Ω·mm² √ 😀", "\xe2\x80"}
+}
+
+// awkwardFloats cover both number forms of encoding/json and their edges.
+func awkwardFloats() []float64 {
+	return []float64{0, math.Copysign(0, -1), 1, -1, 0.1, 1e-6, 9.99999e-7, 1e-7, 1.5e-9, 123456.789, 1e20, 1e21, -1e21,
+		1.7976931348623157e308, 5e-324, 12.345678, 100}
+}
+
+// fillAll sets every field v holds, walking into structs, slices and
+// pointers; sparse leaves pointers and slices nil now and then.
+func fillAll(rng *rand.Rand, v reflect.Value, sparse bool) {
+	switch v.Kind() {
+	case reflect.Struct:
+		for i := range v.NumField() {
+			fillAll(rng, v.Field(i), sparse)
+		}
+	case reflect.Pointer:
+		if sparse && rng.IntN(2) == 0 {
+			return
+		}
+		v.Set(reflect.New(v.Type().Elem()))
+		fillAll(rng, v.Elem(), sparse)
+	case reflect.Slice:
+		if sparse && rng.IntN(3) == 0 {
+			return
+		}
+		n := rng.IntN(3)
+		v.Set(reflect.MakeSlice(v.Type(), n, n))
+		for i := range n {
+			fillAll(rng, v.Index(i), sparse)
+		}
+	case reflect.String:
+		s := awkwardStrings()
+		v.SetString(s[rng.IntN(len(s))])
+	case reflect.Float64:
+		f := awkwardFloats()
+		v.SetFloat(f[rng.IntN(len(f))] * float64(1-2*rng.IntN(2)))
+	case reflect.Int:
+		v.SetInt(rng.Int64N(1<<40) - 1<<39)
+	case reflect.Bool:
+		v.SetBool(!sparse || rng.IntN(2) == 0)
+	default:
+		panic("fillAll: add a case for " + v.Kind().String())
+	}
+}
+
+func TestAppendJSONRefusesNonFiniteNumbers(t *testing.T) {
+	for _, x := range []float64{math.NaN(), math.Inf(1), math.Inf(-1)} {
+		rep := Report{Checks: []Check{{Value: x}}}
+		if _, err := rep.AppendJSON(nil); err == nil {
+			t.Errorf("AppendJSON wrote a report holding %v", x)
+		}
+		if _, err := json.Marshal(rep); err == nil {
+			t.Errorf("Marshal wrote a report holding %v; AppendJSON should follow it", x)
+		}
+	}
+}
+
+// TestCleanMatchesItsDefinition compares clean with the way it was first
+// written, with Log10 and Pow, across the magnitudes reports hold. At the
+// edges of the powers of ten, where Log10 can be a hair off, clean must
+// give eight significant digits as strconv rounds them.
+func TestCleanMatchesItsDefinition(t *testing.T) {
+	byDefinition := func(x float64) float64 {
+		if x == 0 || math.IsNaN(x) || math.IsInf(x, 0) || math.Abs(x) > 1e12 || math.Abs(x) < 1e-12 {
+			return x + 0
+		}
+		scale := math.Pow(10, 7-math.Floor(math.Log10(math.Abs(x))))
+		return math.Round(x*scale)/scale + 0
+	}
+	same := func(x float64) {
+		t.Helper()
+		got, want := clean(x), byDefinition(x)
+		if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+			t.Fatalf("clean(%v) = %v, want %v", x, got, want)
+		}
+	}
+	rng := rand.New(rand.NewPCG(5, 6))
+	for range 1_000_000 {
+		x := math.Pow(10, -13+26*rng.Float64())
+		if rng.IntN(2) == 0 {
+			x = -x
+		}
+		same(x)
+	}
+	eightDigits := func(x float64) {
+		t.Helper()
+		if math.Abs(x) > 1e12 || math.Abs(x) < 1e-12 {
+			same(x)
+			return
+		}
+		want, _ := strconv.ParseFloat(strconv.FormatFloat(x, 'e', 7, 64), 64)
+		if got := clean(x); got != want && got != byDefinition(x) {
+			t.Fatalf("clean(%v) = %v, want %v", x, got, want)
+		}
+	}
+	for k := -13; k <= 13; k++ {
+		p := math.Pow(10, float64(k))
+		for _, x := range []float64{p, math.Nextafter(p, 0), math.Nextafter(p, 2*p), p * (1 - 5e-9), p * (1 + 5e-9),
+			p * (1 - 4e-9), p * (1 + 4e-9)} {
+			eightDigits(x)
+			eightDigits(-x)
+		}
+	}
+	for _, x := range []float64{0, math.Copysign(0, -1), math.NaN(), math.Inf(1), math.Inf(-1), 1e-12, 1e12, 12.345678951} {
+		same(x)
+	}
+}
