@@ -114,22 +114,23 @@ type limitsStore interface {
 // can go unnoticed here; a PUT to this replica is seen at once.
 const currentLimitsTTL = 10 * time.Second
 
-// limitsCache keeps decoded limits versions and the number of the current
-// one, so a review normally costs no query for its limits. A version never
-// changes once stored, so cached versions never go stale; only which
-// version is current does, and that is re-read after currentLimitsTTL.
+// limitsCache keeps limits versions decoded, validated and prepared for
+// reviews, and the number of the current one, so a review normally costs
+// no query and no validation for its limits. A version never changes once
+// stored, so cached versions never go stale; only which version is current
+// does, and that is re-read after currentLimitsTTL.
 type limitsCache struct {
 	store limitsStore
 	now   func() time.Time
 
 	mu        sync.Mutex
-	versions  map[int]review.Limits
+	versions  map[int]*review.Rules
 	current   int
 	checkedAt time.Time
 }
 
 func newLimitsCache(st limitsStore, now func() time.Time) *limitsCache {
-	return &limitsCache{store: st, now: now, versions: map[int]review.Limits{}}
+	return &limitsCache{store: st, now: now, versions: map[int]*review.Rules{}}
 }
 
 // defaultLimitsNote is stored with the seeded version 1.
@@ -144,34 +145,39 @@ func ensureDefaultLimits(ctx context.Context, st limitsStore) (bool, error) {
 	return st.EnsureDefaultLimits(ctx, body, defaultLimitsNote)
 }
 
-// get returns limits version v, or the current version when v is 0, with
-// the version number used.
-func (lc *limitsCache) get(ctx context.Context, v int) (review.Limits, int, error) {
+// get returns the rules of limits version v, or of the current version
+// when v is 0, with the version number used.
+func (lc *limitsCache) get(ctx context.Context, v int) (*review.Rules, int, error) {
 	if v == 0 {
 		var err error
 		if v, err = lc.currentVersion(ctx); err != nil {
-			return review.Limits{}, 0, err
+			return nil, 0, err
 		}
 	}
 	lc.mu.Lock()
-	l, ok := lc.versions[v]
+	rules, ok := lc.versions[v]
 	lc.mu.Unlock()
 	if ok {
-		return l, v, nil
+		return rules, v, nil
 	}
 	set, err := lc.store.Limits(ctx, v)
 	if err != nil {
-		return review.Limits{}, 0, err
+		return nil, 0, err
 	}
 	// Stored versions passed validation when written; fields added since
-	// then simply stay at their zero value.
+	// then simply stay at their zero value, and Prepare says whether the
+	// set still makes sense.
+	var l review.Limits
 	if err := json.Unmarshal(set.Body, &l); err != nil {
-		return review.Limits{}, 0, fmt.Errorf("decode limits v%d: %w", v, err)
+		return nil, 0, fmt.Errorf("decode limits v%d: %w", v, err)
+	}
+	if rules, err = review.Prepare(l, v); err != nil {
+		return nil, 0, err
 	}
 	lc.mu.Lock()
-	lc.versions[v] = l
+	lc.versions[v] = rules
 	lc.mu.Unlock()
-	return l, v, nil
+	return rules, v, nil
 }
 
 func (lc *limitsCache) currentVersion(ctx context.Context) (int, error) {
@@ -200,11 +206,16 @@ func (lc *limitsCache) currentVersion(ctx context.Context) (int, error) {
 	return v, nil
 }
 
-// remember records a version just stored here as the current one.
+// remember records a version just stored here as the current one. Limits
+// that fail Prepare (they passed Validate before being stored, so only a
+// bug gets here) are left for get to report.
 func (lc *limitsCache) remember(v int, l review.Limits) {
+	rules, err := review.Prepare(l, v)
 	lc.mu.Lock()
 	defer lc.mu.Unlock()
-	lc.versions[v] = l
+	if err == nil {
+		lc.versions[v] = rules
+	}
 	if v > lc.current {
 		lc.current, lc.checkedAt = v, lc.now()
 	}

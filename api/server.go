@@ -46,6 +46,7 @@ type server struct {
 	schemaVersion uint
 	limits        *limitsCache
 	shelf         *shelfCache
+	buffers       bufferPool
 	reviewLimiter *clientLimiter
 }
 
