@@ -7,6 +7,7 @@ import (
 	"encoding/base64"
 	"encoding/hex"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"time"
 
@@ -83,39 +84,52 @@ func scanReview(row pgx.Row, extra ...any) (StoredReview, error) {
 }
 
 // AddReview stores a review of a design that actor may change (its owner
-// or staff), with a fresh share id, the document and its digest.
+// or staff), with a fresh share id, the document and its digest. The
+// returned review's Report is in.Report itself, not a copy.
+//
+// It is one statement, so one round trip: lock the design, insert the
+// review if actor may change the design, and write the audit row with it.
+// A single statement commits or fails whole, like the transaction it
+// replaces. The report column's json type refuses a report that is not
+// JSON, so there is no scan of it here, and nothing of it comes back.
 func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) (StoredReview, error) {
-	// The report column's json type refuses a report that is not JSON, so
-	// no scan of it here: at tens of kilobytes a report, that scan was a
-	// seventh of a stored review's time.
 	shareID, err := newShareID()
 	if err != nil {
 		return StoredReview{}, err
 	}
-	var r StoredReview
-	err = s.inTx(ctx, func(tx pgx.Tx) error {
-		// Locking the design keeps it from being deleted under the insert.
-		if err := lockOwned(ctx, tx, "designs", in.DesignID, actor, 0); err != nil {
-			return err
-		}
-		var id int64
-		err := tx.QueryRow(ctx, `INSERT INTO reviews
-			(design_id, share_id, status, limits_version, document_sha256, document, report, created_by)
-			VALUES ($1, $2, $3, $4, $5, $6, $7, $8) RETURNING id`,
-			in.DesignID, shareID, in.Status, in.LimitsVersion, DocumentDigest(in.Document), string(in.Document),
-			in.Report, actor.Name).Scan(&id)
-		if err != nil {
-			return fmt.Errorf("insert review of design %d: %w", in.DesignID, err)
-		}
-		r, err = scanReview(tx.QueryRow(ctx, `SELECT `+reviewColumns+`
-			FROM reviews r JOIN designs d ON d.id = r.design_id WHERE r.id = $1`, id))
-		if err != nil {
-			return fmt.Errorf("read back review %d: %w", id, err)
-		}
-		return audit(ctx, tx, actor.Name, "review.create", "design", in.DesignID,
-			map[string]any{"review": id, "status": in.Status, "limits_version": in.LimitsVersion})
-	})
-	return r, err
+	r := StoredReview{DesignID: in.DesignID, ShareID: shareID, Status: in.Status, LimitsVersion: in.LimitsVersion,
+		DocumentSHA256: DocumentDigest(in.Document), Report: in.Report, CreatedBy: actor.Name}
+	var owner string
+	var id *int64
+	var createdAt *time.Time
+	// Locking the design keeps it from being deleted under the insert.
+	err = s.pool.QueryRow(ctx, `WITH d AS (
+			SELECT id, name, owner FROM designs WHERE id = $1 FOR UPDATE
+		), r AS (
+			INSERT INTO reviews (design_id, share_id, status, limits_version, document_sha256, document, report, created_by)
+			SELECT d.id, $2, $3, $4, $5, $6, $7, $8 FROM d WHERE $9 OR d.owner = $8
+			RETURNING id, created_at
+		), a AS (
+			INSERT INTO audit (actor, action, subject_type, subject_id, detail)
+			SELECT $8, 'review.create', 'design', $1::text,
+				jsonb_build_object('review', r.id, 'status', $3::text, 'limits_version', $4::integer) FROM r
+		)
+		SELECT d.name, d.owner, r.id, r.created_at FROM d LEFT JOIN r ON true`,
+		in.DesignID, shareID, in.Status, in.LimitsVersion, r.DocumentSHA256, string(in.Document), in.Report, actor.Name,
+		actor.Role == domain.RoleStaff).Scan(&r.DesignName, &owner, &id, &createdAt)
+	if errors.Is(err, pgx.ErrNoRows) {
+		return StoredReview{}, fmt.Errorf("design %d: %w", in.DesignID, domain.ErrNotFound)
+	}
+	if err != nil {
+		return StoredReview{}, fmt.Errorf("store review of design %d: %w", in.DesignID, err)
+	}
+	if id == nil {
+		// The insert's condition is domain.User.MayChange: staff, or the
+		// owner. Only an actor it refuses inserts nothing.
+		return StoredReview{}, fmt.Errorf("design %d belongs to %s: %w", in.DesignID, owner, domain.ErrForbidden)
+	}
+	r.ID, r.CreatedAt = *id, *createdAt
+	return r, nil
 }
 
 // ReviewsOfDesign returns up to limit reviews of a design, newest first,

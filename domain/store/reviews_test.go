@@ -3,7 +3,9 @@ package store_test
 import (
 	"context"
 	"errors"
+	"fmt"
 	"regexp"
+	"strconv"
 	"testing"
 
 	"wattshelf/domain"
@@ -110,5 +112,58 @@ func TestReviews(t *testing.T) {
 	}
 	if _, err := st.ReviewByShareID(ctx, last.ShareID); !errors.Is(err, domain.ErrNotFound) {
 		t.Fatalf("share id after the design was deleted: %v, want not found", err)
+	}
+}
+
+// TestAddReviewWritesItsAuditRowOrNothing: a stored review and its audit
+// row come together, and a refused one leaves neither.
+func TestAddReviewWritesItsAuditRowOrNothing(t *testing.T) {
+	ctx := context.Background()
+	st, dbURL := storetest.NewStore(t)
+	conn := rawConn(t, dbURL)
+	ada := domain.User{Name: "ada", Role: domain.RoleMember}
+	if _, err := st.EnsureDefaultLimits(ctx, []byte(`{}`), "defaults"); err != nil {
+		t.Fatal(err)
+	}
+	doc := []byte(`{"format":1,"name":"fan","nodes":[]}`)
+	d, err := st.CreateDesign(ctx, ada, "fan", doc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	in := store.NewReview{DesignID: d.ID, Document: doc, Status: "pass", LimitsVersion: 1, Report: []byte(`{"status":"pass"}`)}
+	subject := strconv.FormatInt(d.ID, 10)
+	for _, refused := range []struct {
+		who  domain.User
+		in   store.NewReview
+		want error
+	}{
+		{domain.User{Name: "bo", Role: domain.RoleMember}, in, domain.ErrForbidden},
+		{ada, store.NewReview{DesignID: d.ID, Document: doc, Status: "pass", LimitsVersion: 7, Report: in.Report}, nil},
+		{ada, store.NewReview{DesignID: d.ID, Document: doc, Status: "pass", LimitsVersion: 1, Report: []byte(`{"status":`)}, nil},
+	} {
+		if _, err := st.AddReview(ctx, refused.who, refused.in); err == nil || (refused.want != nil && !errors.Is(err, refused.want)) {
+			t.Errorf("review by %s of limits v%d: %v, want a refusal (%v)", refused.who.Name, refused.in.LimitsVersion, err, refused.want)
+		}
+	}
+	if n := countRows(t, conn, `SELECT count(*) FROM reviews`); n != 0 {
+		t.Fatalf("%d reviews stored by refused calls", n)
+	}
+	if n := countRows(t, conn, `SELECT count(*) FROM audit WHERE action = 'review.create'`); n != 0 {
+		t.Fatalf("%d review audit rows written by refused calls", n)
+	}
+	r, err := st.AddReview(ctx, ada, in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	trail, err := st.AuditTrail(ctx, "design", subject, 10)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(trail) == 0 || trail[0].Action != "review.create" || trail[0].Actor != "ada" ||
+		!jsonEqual(t, trail[0].Detail, fmt.Sprintf(`{"review": %d, "status": "pass", "limits_version": 1}`, r.ID)) {
+		t.Fatalf("newest audit entry of design %d: %+v", d.ID, trail)
+	}
+	if r.CreatedAt.IsZero() || r.DesignName != "fan" || r.CreatedBy != "ada" {
+		t.Errorf("stored review %+v lacks what the database gave it", r)
 	}
 }
