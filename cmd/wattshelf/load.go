@@ -118,6 +118,18 @@ type loadClient struct {
 
 // send makes one request and reads the whole answer.
 func (c *loadClient) send(ctx context.Context, method, path string, body []byte, withToken bool) (int, []byte, error) {
+	return c.exchange(ctx, method, path, body, withToken, true)
+}
+
+// sendDrained makes one request and reads its answer to the end without
+// keeping it: a route that needs nothing from the body should not spend
+// the CPU the server shares with it on decoding or copying it.
+func (c *loadClient) sendDrained(ctx context.Context, method, path string, body []byte, withToken bool) (int, error) {
+	status, _, err := c.exchange(ctx, method, path, body, withToken, false)
+	return status, err
+}
+
+func (c *loadClient) exchange(ctx context.Context, method, path string, body []byte, withToken, keep bool) (int, []byte, error) {
 	var rd io.Reader
 	if body != nil {
 		rd = bytes.NewReader(body)
@@ -137,6 +149,10 @@ func (c *loadClient) send(ctx context.Context, method, path string, body []byte,
 		return 0, nil, err
 	}
 	defer res.Body.Close()
+	if !keep {
+		_, err = io.Copy(io.Discard, res.Body)
+		return res.StatusCode, nil, err
+	}
 	raw, err := io.ReadAll(res.Body)
 	return res.StatusCode, raw, err
 }
@@ -333,8 +349,7 @@ func (e *statusError) Error() string { return fmt.Sprintf("status %d: %.300s", e
 func loadRoutes(state *loadState) []loadRoute {
 	get := func(path string, withToken bool) func(ctx context.Context, c *loadClient, n int) (int, error) {
 		return func(ctx context.Context, c *loadClient, n int) (int, error) {
-			status, _, err := c.send(ctx, http.MethodGet, path, nil, withToken)
-			return status, err
+			return c.sendDrained(ctx, http.MethodGet, path, nil, withToken)
 		}
 	}
 	return []loadRoute{
@@ -344,8 +359,7 @@ func loadRoutes(state *loadState) []loadRoute {
 			do: get(fmt.Sprintf("/v1/shelf?limit=%d", loadShelfPageSize), false)},
 		{name: fmt.Sprintf("POST /v1/reviews (%d nodes)", loadReviewDesignNodes), floor: "HTTP",
 			do: func(ctx context.Context, c *loadClient, n int) (int, error) {
-				status, _, err := c.send(ctx, http.MethodPost, "/v1/reviews", state.design, true)
-				return status, err
+				return c.sendDrained(ctx, http.MethodPost, "/v1/reviews", state.design, true)
 			}},
 		{name: "POST /v1/components, GET it back", floor: "DB",
 			do: func(ctx context.Context, c *loadClient, n int) (int, error) {
