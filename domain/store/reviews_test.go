@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"regexp"
 	"strconv"
+	"strings"
 	"testing"
 
 	"wattshelf/domain"
@@ -165,5 +166,37 @@ func TestAddReviewWritesItsAuditRowOrNothing(t *testing.T) {
 	}
 	if r.CreatedAt.IsZero() || r.DesignName != "fan" || r.CreatedBy != "ada" {
 		t.Errorf("stored review %+v lacks what the database gave it", r)
+	}
+}
+
+// TestStoredReviewsAreCompressedWithLZ4 checks migration 0007 on a server
+// that has lz4: a report large enough to be compressed is, with lz4.
+func TestStoredReviewsAreCompressedWithLZ4(t *testing.T) {
+	ctx := context.Background()
+	st, dbURL := storetest.NewStore(t)
+	conn := rawConn(t, dbURL)
+	if _, err := conn.Exec(ctx, `CREATE TEMP TABLE lz4_probe (t text COMPRESSION lz4)`); err != nil {
+		t.Skipf("this PostgreSQL has no lz4 (%v); migration 0007 leaves pglz", err)
+	}
+	ada := domain.User{Name: "ada", Role: domain.RoleMember}
+	if _, err := st.EnsureDefaultLimits(ctx, []byte(`{}`), "defaults"); err != nil {
+		t.Fatal(err)
+	}
+	doc := []byte(`{"format":1,"name":"big","nodes":[]}`)
+	d, err := st.CreateDesign(ctx, ada, "big", doc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	report := []byte(`{"checks":[` + strings.Repeat(`{"check":"wire.drop","message":"The feed loses 0.1 V."},`, 400) + `{}]}`)
+	r, err := st.AddReview(ctx, ada, store.NewReview{DesignID: d.ID, Document: doc, Status: "pass", LimitsVersion: 1, Report: report})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var method *string
+	if err := conn.QueryRow(ctx, `SELECT pg_column_compression(report) FROM reviews WHERE id = $1`, r.ID).Scan(&method); err != nil {
+		t.Fatal(err)
+	}
+	if method == nil || *method != "lz4" {
+		t.Errorf("a %d-byte report is stored with compression %v, want lz4", len(report), method)
 	}
 }

@@ -1,0 +1,2 @@
+ALTER TABLE reviews ALTER COLUMN report SET COMPRESSION default;
+ALTER TABLE reviews ALTER COLUMN document SET COMPRESSION default;
