@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"strings"
 	"testing"
 	"time"
 
@@ -141,4 +142,26 @@ func BenchmarkReviewPipeline(b *testing.B) {
 	})
 	raw, _ := json.Marshal(rep)
 	b.Logf("report of %d nodes: %d bytes", loadReviewDesignNodes, len(raw))
+}
+
+func TestTopLevelStringStopsAtItsField(t *testing.T) {
+	for _, c := range []struct {
+		body, want string
+		ok         bool
+	}{
+		{`{"id": 3, "share_id": "abc", "report": {"share_id": "inner"}}`, "abc", true},
+		{`{"report": {"share_id": "inner", "checks": [{"share_id": "x"}]}, "share_id": "outer"}`, "outer", true},
+		// Decoding stops at the field: what follows it is not read.
+		{`{"share_id": "first"} trailing garbage {`, "first", true},
+		{`{"id": 3}`, "", false},
+		{`{"share_id": 7}`, "", false},
+		{`{"share_id": ""}`, "", false},
+		{`["share_id", "abc"]`, "", false},
+		{`{"id": `, "", false},
+	} {
+		got, err := topLevelString(json.NewDecoder(strings.NewReader(c.body)), "share_id")
+		if got != c.want || (err == nil) != c.ok {
+			t.Errorf("%s: %q, %v; want %q (ok %t)", c.body, got, err, c.want, c.ok)
+		}
+	}
 }
