@@ -17,12 +17,16 @@ type environment struct {
 	databaseURL string
 	publicURL   string
 	logLevel    slog.Level
+	// gcTuned: the operator set GOGC or GOMEMLIMIT, and serve leaves the
+	// collector as they said.
+	gcTuned bool
 }
 
 func newEnvironment(getenv func(string) string) environment {
 	env := environment{
 		databaseURL: getenv("DATABASE_URL"),
 		publicURL:   strings.TrimRight(getenv("WATTSHELF_PUBLIC_URL"), "/"),
+		gcTuned:     getenv("GOGC") != "" || getenv("GOMEMLIMIT") != "",
 	}
 	if env.databaseURL == "" {
 		env.databaseURL = defaultDatabaseURL
