@@ -89,7 +89,8 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	t := newTree(nodes)
 	t.solve()
 	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: &ru.basis,
-		checks: make([]Check, 0, 8*len(nodes)+1), spans: make([]textSpan, 0, 8*len(nodes)+1),
+		// A node gets about four checks: its own, and its feed's.
+		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8),
 		text: make([]byte, 0, 320*len(nodes)+256)}
 	rep := Report{
 		LimitsVersion: ru.version,
