@@ -122,8 +122,15 @@ func TestChangeRollsBackWhenItsAuditRowFails(t *testing.T) {
 	c := mustCreate(t, st, memberAda, part("camera", "Doorbell camera board"))
 
 	if _, err := conn.Exec(ctx, `ALTER TABLE audit ADD CONSTRAINT refuse_for_test
-		CHECK (action NOT IN ('component.update', 'component.delete', 'measurement.create', 'token.create'))`); err != nil {
+		CHECK (action NOT IN ('component.create', 'component.update', 'component.delete', 'measurement.create', 'token.create'))
+		NOT VALID`); err != nil { // NOT VALID: the create above keeps its audit row
 		t.Fatal(err)
+	}
+	if _, err := st.CreateComponent(ctx, memberAda, part("camera", "Webcam board")); err == nil {
+		t.Error("create succeeded although its audit row was refused")
+	}
+	if n := countRows(t, conn, `SELECT count(*) FROM components`); n != 1 {
+		t.Errorf("%d components after a refused create, want the 1 from before", n)
 	}
 	if _, err := st.UpdateComponent(ctx, memberAda, c.ID, 1, part("camera", "renamed")); err == nil {
 		t.Error("update succeeded although its audit row was refused")

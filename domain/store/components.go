@@ -45,20 +45,24 @@ func (s *Store) CreateComponent(ctx context.Context, actor domain.User, in domai
 	if err != nil {
 		return domain.Component{}, fmt.Errorf("encode electrical fields: %w", err)
 	}
-	var c domain.Component
-	err = s.inTx(ctx, func(tx pgx.Tx) error {
-		c, err = scanComponent(tx.QueryRow(ctx, `INSERT INTO components
+	// One statement, so one round trip: the insert and its audit row
+	// commit or fail together, as a transaction of the two would.
+	c, err := scanComponent(s.pool.QueryRow(ctx, `WITH c AS (
+			INSERT INTO components
 			(name, kind, description, origin, mains_origin, bin, quantity, condition, spec_source, notes, electrical, owner)
 			VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12)
-			RETURNING `+componentColumns,
-			in.Name, in.Kind, in.Description, in.Origin, in.MainsOrigin, in.Bin, in.Quantity,
-			in.Condition, in.SpecSource, in.Notes, electrical, actor.Name))
-		if err != nil {
-			return fmt.Errorf("insert component: %w", err)
-		}
-		return audit(ctx, tx, actor.Name, "component.create", "component", c.ID, map[string]any{"name": c.Name})
-	})
-	return c, err
+			RETURNING `+componentColumns+`
+		), a AS (
+			INSERT INTO audit (actor, action, subject_type, subject_id, detail)
+			SELECT $12, 'component.create', 'component', c.id::text, jsonb_build_object('name', c.name) FROM c
+		)
+		SELECT `+componentColumns+` FROM c`,
+		in.Name, in.Kind, in.Description, in.Origin, in.MainsOrigin, in.Bin, in.Quantity,
+		in.Condition, in.SpecSource, in.Notes, electrical, actor.Name))
+	if err != nil {
+		return domain.Component{}, fmt.Errorf("insert component: %w", err)
+	}
+	return c, nil
 }
 
 // Component returns one component.
