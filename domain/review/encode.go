@@ -25,6 +25,33 @@ func (rep *Report) AppendJSON(b []byte) ([]byte, error) {
 type reportEncoder struct {
 	b   []byte
 	bad bool // a number JSON cannot hold was met
+	// Every check carries the basis of its kind: a few sentences, each
+	// written many times. Once escaped, a basis is copied from where it was
+	// first written.
+	bases  [16]written
+	nBases int
+}
+
+// written is a string and where its encoding lies in the output.
+type written struct {
+	s          string
+	start, end int
+}
+
+// repeated writes s, a string the report holds many times over.
+func (e *reportEncoder) repeated(s string) {
+	for _, w := range e.bases[:e.nBases] {
+		if w.s == s {
+			e.b = append(e.b, e.b[w.start:w.end]...)
+			return
+		}
+	}
+	start := len(e.b)
+	e.str(s)
+	if e.nBases < len(e.bases) {
+		e.bases[e.nBases] = written{s, start, len(e.b)}
+		e.nBases++
+	}
 }
 
 func (e *reportEncoder) report(rep *Report) {
@@ -110,7 +137,7 @@ func (e *reportEncoder) check(c *Check) {
 	e.b = append(e.b, `,"message":`...)
 	e.str(c.Message)
 	e.b = append(e.b, `,"basis":`...)
-	e.str(c.Basis)
+	e.repeated(c.Basis)
 	e.b = append(e.b, '}')
 }
 
@@ -278,45 +305,15 @@ func (e *reportEncoder) num(x float64) {
 
 // str writes a JSON string as encoding/json does with HTML escaping on:
 // <, > and & as \u003c, \u003e and \u0026, U+2028 and U+2029 escaped,
-// invalid UTF-8 as U+FFFD. Valid text, which is all the engine writes,
-// goes eight bytes at a time.
+// invalid UTF-8 as U+FFFD. Plain ASCII goes eight bytes at a time; only
+// the rest is looked at a byte or a rune at a time.
 func (e *reportEncoder) str(s string) {
-	if !utf8.ValidString(s) {
-		e.strInvalid(s)
-		return
-	}
 	b := append(e.b, '"')
 	start := 0
 	for i := 0; ; {
 		if i = skipPlain(s, i); i >= len(s) {
 			break
 		}
-		c := s[i]
-		switch {
-		case c == 0xE2 && i+2 < len(s) && s[i+1] == 0x80 && (s[i+2] == 0xA8 || s[i+2] == 0xA9):
-			// U+2028 LINE SEPARATOR or U+2029 PARAGRAPH SEPARATOR
-			b = append(b, s[start:i]...)
-			b = append(b, '\\', 'u', '2', '0', '2', hexDigit(s[i+2]&0xF))
-			i += 3
-			start = i
-		case c >= 0x20 && c != '"' && c != '\\' && c != '<' && c != '>' && c != '&':
-			i++
-		default:
-			b = append(b, s[start:i]...)
-			b = appendEscape(b, c)
-			i++
-			start = i
-		}
-	}
-	b = append(b, s[start:]...)
-	e.b = append(b, '"')
-}
-
-// strInvalid is str for text that is not valid UTF-8, a rune at a time.
-func (e *reportEncoder) strInvalid(s string) {
-	b := append(e.b, '"')
-	start := 0
-	for i := 0; i < len(s); {
 		c := s[i]
 		if c < utf8.RuneSelf {
 			if c >= 0x20 && c != '"' && c != '\\' && c != '<' && c != '>' && c != '&' {
@@ -369,27 +366,25 @@ func appendEscape(b []byte, c byte) []byte {
 
 func hexDigit(x byte) byte { return "0123456789abcdef"[x] }
 
-// skipPlain returns the index of the first byte from i on that may need a
-// look of its own in str, testing eight bytes at once. In valid UTF-8 only
-// control characters, " \ < > &, and 0xE2 (which leads U+2028 and U+2029)
-// do. The tests are the zero-byte trick: a byte of v is zero exactly where
-// (v − 0x01…01) &^ v has its high bit set, and a byte is under 0x20 where
-// (x − 0x20…20) &^ x has it (a borrow only flows out of a byte that is
-// itself under 0x20).
+// skipPlain returns the index of the first byte from i on that str must
+// look at on its own, testing eight bytes at once: a control character,
+// " \ < > &, or a byte past ASCII. The tests are the zero-byte trick: a
+// byte of v is zero exactly where (v − 0x01…01) &^ v has its high bit
+// set, and a byte is under 0x20 where (x − 0x20…20) &^ x has it (a borrow
+// only flows out of a byte that is itself under 0x20).
 func skipPlain(s string, i int) int {
 	const ones, highs = 0x0101010101010101, 0x8080808080808080
 	for ; i+8 <= len(s); i += 8 {
 		w := s[i : i+8]
 		x := uint64(w[0]) | uint64(w[1])<<8 | uint64(w[2])<<16 | uint64(w[3])<<24 |
 			uint64(w[4])<<32 | uint64(w[5])<<40 | uint64(w[6])<<48 | uint64(w[7])<<56
-		q, bs, lt, gt, amp, e2 := x^('"'*ones), x^('\\'*ones), x^('<'*ones), x^('>'*ones), x^('&'*ones), x^(0xE2*ones)
-		found := (x - 0x20*ones) &^ x
+		q, bs, lt, gt, amp := x^('"'*ones), x^('\\'*ones), x^('<'*ones), x^('>'*ones), x^('&'*ones)
+		found := x | (x-0x20*ones)&^x
 		found |= (q - ones) &^ q
 		found |= (bs - ones) &^ bs
 		found |= (lt - ones) &^ lt
 		found |= (gt - ones) &^ gt
 		found |= (amp - ones) &^ amp
-		found |= (e2 - ones) &^ e2
 		if found&highs != 0 {
 			return i
 		}

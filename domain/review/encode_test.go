@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"strconv"
+	"strings"
 	"testing"
 )
 
@@ -180,5 +181,28 @@ func TestCleanMatchesItsDefinition(t *testing.T) {
 	}
 	for _, x := range []float64{0, math.Copysign(0, -1), math.NaN(), math.Inf(1), math.Inf(-1), 1e-12, 1e12, 12.345678951} {
 		same(x)
+	}
+}
+
+// TestStringEscapingMatchesEncodingJSON puts every kind of byte that needs
+// a look of its own at every place in and around an eight-byte word.
+func TestStringEscapingMatchesEncodingJSON(t *testing.T) {
+	specials := []string{"\x00", "\x1f", "\t", "\n", `"`, `\`, "<", ">", "&", "\x7f", "é", "–", "\u2028", "\u2029",
+		"😀", "\xff", "\xe2\x80", "\xe2\x80\xa8"[:2], "~", " "}
+	for _, sp := range specials {
+		for pre := 0; pre <= 17; pre++ {
+			for _, post := range []int{0, 1, 7, 8, 9} {
+				s := strings.Repeat("a", pre) + sp + strings.Repeat("b", post)
+				want, err := json.Marshal(s)
+				if err != nil {
+					t.Fatal(err)
+				}
+				var e reportEncoder
+				e.str(s)
+				if !bytes.Equal(e.b, want) {
+					t.Fatalf("%q: got %s, want %s", s, e.b, want)
+				}
+			}
+		}
 	}
 }
