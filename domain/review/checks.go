@@ -131,17 +131,95 @@ func num(x float64) string {
 
 func pct(share float64) string { return strconv.FormatFloat(share*100, 'f', 0, 64) + " %" }
 
-// appendNum is num for a byte buffer.
+// appendNum is num for a byte buffer, and what most of the time of a
+// review's sentences goes into. Where it can tell the rounding for sure it
+// rounds in float64 and writes the digits itself; strconv, which rounds
+// the exact binary value, decides the rest. TestAppendNumMatchesNum holds
+// the two ways to the same bytes.
 func appendNum(b []byte, x float64) []byte {
-	switch ax := math.Abs(x); {
+	ax := math.Abs(x)
+	var decimals int
+	switch {
 	case ax >= 100:
-		return strconv.AppendFloat(b, x, 'f', 0, 64)
+		decimals = 0
 	case ax >= 10:
-		return strconv.AppendFloat(b, x, 'f', 1, 64)
+		decimals = 1
 	case ax >= 1 || ax == 0:
-		return strconv.AppendFloat(b, x, 'f', 2, 64)
+		decimals = 2
+	case ax >= 1e-4:
+		// Three significant digits as 'g' writes them here: fixed point,
+		// trailing zeros dropped. ax = 0.d… × 10^(e+1), e from −4 to −1.
+		e := -1
+		for ax < powerOfTen(e) {
+			e--
+		}
+		if n, ok := roundSure(ax * powerOfTen(2-e)); ok {
+			return appendFixed(b, math.Signbit(x), n, 2-e, true)
+		}
+		return strconv.AppendFloat(b, x, 'g', 3, 64)
+	default:
+		return strconv.AppendFloat(b, x, 'g', 3, 64)
 	}
-	return strconv.AppendFloat(b, x, 'g', 3, 64)
+	if n, ok := roundSure(ax * powerOfTen(decimals)); ok {
+		return appendFixed(b, math.Signbit(x), n, decimals, false)
+	}
+	return strconv.AppendFloat(b, x, 'f', decimals, 64)
+}
+
+// roundSure rounds a scaled value to a whole number when the float64
+// product cannot have been rounded across a half: it is below 1e12, where
+// its error is under 1e-4, and its fraction is farther than that from ½.
+func roundSure(scaled float64) (uint64, bool) {
+	if scaled >= 1e12 {
+		return 0, false
+	}
+	whole := math.Floor(scaled)
+	frac := scaled - whole
+	if math.Abs(frac-0.5) < 1e-3 {
+		return 0, false
+	}
+	n := uint64(whole)
+	if frac > 0.5 {
+		n++
+	}
+	return n, true
+}
+
+// appendFixed writes n × 10^−decimals with that many decimals, or with the
+// trailing zeros of the fraction dropped when trim is set.
+func appendFixed(b []byte, negative bool, n uint64, decimals int, trim bool) []byte {
+	if negative {
+		b = append(b, '-')
+	}
+	unit := uint64(wholePowerOfTen(decimals))
+	b = strconv.AppendUint(b, n/unit, 10)
+	frac := n % unit
+	if trim {
+		for frac != 0 && frac%10 == 0 {
+			frac /= 10
+			decimals--
+		}
+		if frac == 0 {
+			return b
+		}
+	}
+	if decimals == 0 {
+		return b
+	}
+	b = append(b, '.')
+	for d := decimals - 1; d >= 0; d-- {
+		b = append(b, byte('0'+frac/uint64(wholePowerOfTen(d))%10))
+	}
+	return b
+}
+
+// wholePowerOfTen is 10^k for k from 0 to 6.
+func wholePowerOfTen(k int) uint64 {
+	p := uint64(1)
+	for range k {
+		p *= 10
+	}
+	return p
 }
 
 // piece is a part of a sentence: text, or a number printed as num does.

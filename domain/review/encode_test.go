@@ -153,7 +153,7 @@ func TestCleanMatchesItsDefinition(t *testing.T) {
 		}
 	}
 	rng := rand.New(rand.NewPCG(5, 6))
-	for range 1_000_000 {
+	for range 300_000 {
 		x := math.Pow(10, -13+26*rng.Float64())
 		if rng.IntN(2) == 0 {
 			x = -x
@@ -204,5 +204,52 @@ func TestStringEscapingMatchesEncodingJSON(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+// TestAppendNumMatchesNum holds appendNum's own rounding to strconv's, on
+// random values of every magnitude a report prints and on the decimal
+// halves where float64 rounding could go the other way.
+func TestAppendNumMatchesNum(t *testing.T) {
+	byStrconv := func(x float64) string {
+		switch ax := math.Abs(x); {
+		case ax >= 100:
+			return strconv.FormatFloat(x, 'f', 0, 64)
+		case ax >= 10:
+			return strconv.FormatFloat(x, 'f', 1, 64)
+		case ax >= 1 || ax == 0:
+			return strconv.FormatFloat(x, 'f', 2, 64)
+		}
+		return strconv.FormatFloat(x, 'g', 3, 64)
+	}
+	same := func(x float64) {
+		t.Helper()
+		if got, want := string(appendNum(nil, x)), byStrconv(x); got != want {
+			t.Fatalf("appendNum(%v) = %s, want %s", x, got, want)
+		}
+	}
+	rng := rand.New(rand.NewPCG(7, 8))
+	for range 300_000 {
+		x := math.Pow(10, -7+20*rng.Float64())
+		if rng.IntN(4) == 0 {
+			x = -x
+		}
+		same(x)
+	}
+	// Halves and near-halves at every place num rounds to.
+	for _, scale := range []float64{1, 10, 100, 1e3, 1e4, 1e5, 1e6} {
+		for k := range 3000 {
+			for _, frac := range []float64{0.5, 0.4999999, 0.5000001, 0.995, 0.9995, 0.005, 0.0005} {
+				x := (float64(k) + frac) / scale
+				same(x)
+				same(math.Nextafter(x, 0))
+				same(math.Nextafter(x, math.Inf(1)))
+				same(-x)
+			}
+		}
+	}
+	for _, x := range []float64{0, math.Copysign(0, -1), 1, 9.995, 99.95, 999.5, 1e-4, 0.99995, 1e11, 1e12, 1e15, 1e300,
+		5e-324, math.Inf(1), math.NaN()} {
+		same(x)
 	}
 }
