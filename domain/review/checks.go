@@ -206,14 +206,18 @@ func appendFixed(b []byte, negative bool, n uint64, decimals int, trim bool) []b
 	if decimals == 0 {
 		return b
 	}
-	b = append(b, '.')
-	for d := decimals - 1; d >= 0; d-- {
-		b = append(b, byte('0'+frac/uint64(wholePowerOfTen(d))%10))
+	var digits [20]byte
+	i := len(digits)
+	for range decimals {
+		i--
+		digits[i] = byte('0' + frac%10)
+		frac /= 10
 	}
-	return b
+	b = append(b, '.')
+	return append(b, digits[i:]...)
 }
 
-// wholePowerOfTen is 10^k for k from 0 to 6.
+// wholePowerOfTen is 10^k for k from 0 to 19.
 func wholePowerOfTen(k int) uint64 {
 	p := uint64(1)
 	for range k {

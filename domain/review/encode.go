@@ -292,6 +292,19 @@ func (e *reportEncoder) num(x float64) {
 		return
 	}
 	abs := math.Abs(x)
+	// A number clean left at eight significant digits, k × 10^−q, reads
+	// back from exactly those digits (q ≤ 22 makes 10^q exact, so clean's
+	// division rounded k / 10^q correctly), and no shorter decimal is
+	// within a hair of it: its shortest form is k's digits, trailing zeros
+	// dropped. Anything else, strconv writes.
+	if abs >= 1e-6 && abs < 1e8 {
+		q := 7 - decimalExponent(abs)
+		scale := powerOfTen(q)
+		if k := math.Round(abs * scale); k/scale == abs {
+			e.b = appendFixed(e.b, x < 0, uint64(k), q, true)
+			return
+		}
+	}
 	if abs != 0 && (abs < 1e-6 || abs >= 1e21) {
 		e.b = strconv.AppendFloat(e.b, x, 'e', -1, 64)
 		if n := len(e.b); n >= 4 && e.b[n-4] == 'e' && e.b[n-3] == '-' && e.b[n-2] == '0' {

@@ -253,3 +253,38 @@ func TestAppendNumMatchesNum(t *testing.T) {
 		same(x)
 	}
 }
+
+// TestNumMatchesEncodingJSON checks the encoder's numbers, above all the
+// shortcut for numbers clean has rounded, against encoding/json.
+func TestNumMatchesEncodingJSON(t *testing.T) {
+	same := func(x float64) {
+		t.Helper()
+		want, err := json.Marshal(x)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var e reportEncoder
+		e.num(x)
+		if !bytes.Equal(e.b, want) {
+			t.Fatalf("num(%v) = %s, want %s", x, e.b, want)
+		}
+	}
+	rng := rand.New(rand.NewPCG(9, 10))
+	for range 300_000 {
+		x := math.Pow(10, -13+26*rng.Float64())
+		if rng.IntN(3) == 0 {
+			x = -x
+		}
+		same(x)
+		same(clean(x))
+	}
+	for k := 1; k <= 100_000; k++ {
+		for _, q := range []float64{1, 1e3, 1e6, 1e8, 1e13} {
+			same(clean(float64(k) / q))
+			same(float64(k) / q)
+		}
+	}
+	for _, x := range []float64{0, math.Copysign(0, -1), 1e-6, 9.99999999e-7, 1e8, 99999999.5, 99999999, 12345678.9, 0.1, 0.3} {
+		same(x)
+	}
+}

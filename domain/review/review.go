@@ -375,18 +375,22 @@ func clean(x float64) float64 {
 	if x == 0 || math.IsNaN(x) || math.IsInf(x, 0) || ax > 1e12 || ax < 1e-12 {
 		return x + 0 // + 0 turns −0 into 0
 	}
-	// The decimal exponent of x, floor(log10 |x|), read off its binary
-	// exponent rather than computed with Log10 and Pow: this runs for every
-	// number of every report. ax = 1.f × 2^e2 (ax is normal here), so
-	// floor(e2·log10 2) is the exponent or one short of it; 78913 / 2^18
-	// is log10 2 closely enough for every e2 in range.
+	scale := powerOfTen(7 - decimalExponent(ax))
+	return math.Round(x*scale)/scale + 0
+}
+
+// decimalExponent is floor(log10 ax) for ax from 1e-12 to 1e12, read off
+// its binary exponent rather than computed with Log10: this runs for every
+// number of every report. ax = 1.f × 2^e2 (ax is normal here), so
+// floor(e2·log10 2) is the exponent or one short of it; 78913 / 2^18 is
+// log10 2 closely enough for every e2 in range.
+func decimalExponent(ax float64) int {
 	e2 := int(math.Float64bits(ax)>>52&0x7ff) - 1023
 	e10 := (e2 * 78913) >> 18
 	if e10+1 <= 12 && ax >= powerOfTen(e10+1) {
 		e10++
 	}
-	scale := powerOfTen(7 - e10)
-	return math.Round(x*scale)/scale + 0
+	return e10
 }
 
 // powerOfTen is 10^k for k from -12 to 19, every scale clean uses, as
