@@ -2,7 +2,9 @@ package main
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
+	"io"
 	"strings"
 	"testing"
 	"time"
@@ -163,5 +165,41 @@ func TestTopLevelStringStopsAtItsField(t *testing.T) {
 		if got != c.want || (err == nil) != c.ok {
 			t.Errorf("%s: %q, %v; want %q (ok %t)", c.body, got, err, c.want, c.ok)
 		}
+	}
+}
+
+// TestLoadRunsEveryRouteAgainstAServer runs the harness, with small
+// budgets, against `wattshelf serve` on a database of its own: every route
+// answers as expected, and every write it acknowledged is found again.
+// It checks what the harness counts, not how fast anything is.
+func TestLoadRunsEveryRouteAgainstAServer(t *testing.T) {
+	ctx := context.Background()
+	getenv := cliEnv(absentDatabaseURL(t))
+	s := startServe(t, getenv)
+	stdout, _, err := runCLI(ctx, getenv, "token", "create", "--name", "load", "--role", "member")
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg := loadConfig{base: s.base, token: strings.TrimSpace(stdout), clients: 4, requests: 40, duration: 10 * time.Second}
+	report, err := runLoad(ctx, cfg, io.Discard)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(report.phases) != 7 {
+		t.Fatalf("%d phases, want 6 routes and the mix", len(report.phases))
+	}
+	for _, p := range report.phases {
+		if p.requests == 0 || p.fiveXX+p.other+p.transport != 0 || p.firstError != "" {
+			t.Errorf("%s: %d requests, %d 5xx, %d other, %d without answer (%s)", p.route.name, p.requests,
+				p.fiveXX, p.other, p.transport, p.firstError)
+		}
+	}
+	if report.acked < 40 || report.lost != 0 {
+		t.Errorf("%d acknowledged creates, %d lost (%s)", report.acked, report.lost, report.lostDetail)
+	}
+	var out bytes.Buffer
+	report.print(&out, cfg)
+	if !strings.Contains(out.String(), "lost writes: 0 of ") || !strings.Contains(out.String(), "POST /v1/designs/{id}/reviews") {
+		t.Errorf("printed report:\n%s", out.String())
 	}
 }
