@@ -16,7 +16,7 @@ import (
 func TestMigrateCommands(t *testing.T) {
 	ctx := context.Background()
 	// A database that does not exist yet: migrate creates it first.
-	getenv := cliEnv(absentDatabaseURL(t))
+	getenv := cliEnv(storetest.AbsentDatabaseURL(t))
 	latest, err := store.SchemaVersion()
 	if err != nil {
 		t.Fatal(err)

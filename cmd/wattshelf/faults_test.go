@@ -524,7 +524,7 @@ func TestTwoServersOneDatabase(t *testing.T) {
 	var a, b *serverProcess
 	var dbURL string
 	for round := range 3 {
-		dbURL = absentDatabaseURL(t)
+		dbURL = storetest.AbsentDatabaseURL(t)
 		a, b = launchProcess(t, bin, dbURL), launchProcess(t, bin, dbURL)
 		a.url, b.url = a.log.waitForAddr(t, 60*time.Second), b.log.waitForAddr(t, 60*time.Second)
 		for _, p := range []*serverProcess{a, b} {

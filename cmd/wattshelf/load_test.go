@@ -11,6 +11,7 @@ import (
 
 	"wattshelf/domain"
 	"wattshelf/domain/review"
+	"wattshelf/domain/store/storetest"
 )
 
 func TestReviewDesignIsAValidDesignOfTheAskedSize(t *testing.T) {
@@ -174,7 +175,7 @@ func TestTopLevelStringStopsAtItsField(t *testing.T) {
 // It checks what the harness counts, not how fast anything is.
 func TestLoadRunsEveryRouteAgainstAServer(t *testing.T) {
 	ctx := context.Background()
-	getenv := cliEnv(absentDatabaseURL(t))
+	getenv := cliEnv(storetest.AbsentDatabaseURL(t))
 	s := startServe(t, getenv)
 	stdout, _, err := runCLI(ctx, getenv, "token", "create", "--name", "load", "--role", "member")
 	if err != nil {

@@ -3,17 +3,10 @@ package main
 import (
 	"bytes"
 	"context"
-	"crypto/rand"
-	"encoding/hex"
 	"errors"
-	"net/url"
 	"strings"
 	"sync"
 	"testing"
-
-	"github.com/jackc/pgx/v5"
-
-	"wattshelf/domain/store/storetest"
 )
 
 // cliEnv is a getenv that points the program at dbURL and nothing else.
@@ -50,35 +43,6 @@ func (b *guardedBuffer) String() string {
 	b.mu.Lock()
 	defer b.mu.Unlock()
 	return b.buf.String()
-}
-
-// absentDatabaseURL names a database that does not exist yet on the test
-// server; whatever creates it, it is dropped when t ends.
-func absentDatabaseURL(t *testing.T) string {
-	t.Helper()
-	u, err := url.Parse(storetest.NewDatabaseURL(t))
-	if err != nil {
-		t.Fatal(err)
-	}
-	var b [6]byte
-	_, _ = rand.Read(b[:])
-	name := "wattshelf_test_cli_" + hex.EncodeToString(b[:])
-	admin := *u
-	admin.Path = "/postgres"
-	t.Cleanup(func() {
-		ctx := context.Background()
-		conn, err := pgx.Connect(ctx, admin.String())
-		if err != nil {
-			t.Errorf("connect to drop %s: %v", name, err)
-			return
-		}
-		defer conn.Close(ctx)
-		if _, err := conn.Exec(ctx, "DROP DATABASE IF EXISTS "+name+" WITH (FORCE)"); err != nil {
-			t.Errorf("drop %s: %v", name, err)
-		}
-	})
-	u.Path = "/" + name
-	return u.String()
 }
 
 func exitCode(err error) int {

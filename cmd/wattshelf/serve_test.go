@@ -10,6 +10,7 @@ import (
 	"strings"
 	"testing"
 	"time"
+	"wattshelf/domain/store/storetest"
 )
 
 // freeAddr finds a loopback port nothing listens on by letting the
@@ -114,7 +115,7 @@ func (s *runningServer) get(t *testing.T, path, token string) (int, []byte) {
 // working beside it.
 func TestServeStartsAnswersAndStops(t *testing.T) {
 	ctx := context.Background()
-	getenv := cliEnv(absentDatabaseURL(t))
+	getenv := cliEnv(storetest.AbsentDatabaseURL(t))
 	s := startServe(t, getenv)
 
 	if code, body := s.get(t, "/healthz", ""); code != http.StatusOK {
@@ -171,7 +172,7 @@ func TestServeDemoSeedsOnce(t *testing.T) {
 		want = append(want, c.Name)
 	}
 	slices.Sort(want)
-	getenv := cliEnv(absentDatabaseURL(t))
+	getenv := cliEnv(storetest.AbsentDatabaseURL(t))
 
 	shelfNames := func(s *runningServer) []string {
 		code, body := s.get(t, "/v1/shelf", "")
@@ -212,7 +213,7 @@ func TestServeRefusesABusyPort(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer ln.Close()
-	dbURL := absentDatabaseURL(t)
+	dbURL := storetest.AbsentDatabaseURL(t)
 	ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
 	defer cancel()
 	err = run(ctx, []string{"serve", "--addr", ln.Addr().String()}, cliEnv(dbURL), io.Discard, io.Discard)
@@ -226,7 +227,7 @@ func TestServeRefusesABusyPort(t *testing.T) {
 // only then does run return.
 func TestServeFinishesInFlightRequests(t *testing.T) {
 	ctx := context.Background()
-	getenv := cliEnv(absentDatabaseURL(t))
+	getenv := cliEnv(storetest.AbsentDatabaseURL(t))
 	s := startServe(t, getenv)
 	stdout, _, err := runCLI(ctx, getenv, "token", "create", "--name", "kim", "--role", "staff")
 	if err != nil {

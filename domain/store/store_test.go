@@ -2,16 +2,12 @@ package store_test
 
 import (
 	"context"
-	"crypto/rand"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"net"
-	"net/url"
 	"sync"
 	"testing"
 
-	"github.com/jackc/pgx/v5"
 	"github.com/jackc/pgx/v5/pgconn"
 
 	"wattshelf/domain"
@@ -19,38 +15,9 @@ import (
 	"wattshelf/domain/store/storetest"
 )
 
-// missingDatabaseURL names a database that does not exist yet on the test
-// server, and drops it when t ends if something created it.
-func missingDatabaseURL(t *testing.T) string {
-	t.Helper()
-	u, err := url.Parse(storetest.NewDatabaseURL(t))
-	if err != nil {
-		t.Fatal(err)
-	}
-	var b [6]byte
-	_, _ = rand.Read(b[:])
-	name := "wattshelf_test_ensure_" + hex.EncodeToString(b[:])
-	admin := *u
-	admin.Path = "/postgres"
-	t.Cleanup(func() {
-		ctx := context.Background()
-		conn, err := pgx.Connect(ctx, admin.String())
-		if err != nil {
-			t.Errorf("connect to drop %s: %v", name, err)
-			return
-		}
-		defer conn.Close(ctx)
-		if _, err := conn.Exec(ctx, "DROP DATABASE IF EXISTS "+name+" WITH (FORCE)"); err != nil {
-			t.Errorf("drop %s: %v", name, err)
-		}
-	})
-	u.Path = "/" + name
-	return u.String()
-}
-
 func TestEnsureDatabase(t *testing.T) {
 	ctx := context.Background()
-	dbURL := missingDatabaseURL(t)
+	dbURL := storetest.AbsentDatabaseURL(t)
 	if _, err := store.Open(ctx, dbURL); err == nil {
 		t.Fatal("the database exists before EnsureDatabase")
 	}
@@ -73,7 +40,7 @@ func TestEnsureDatabase(t *testing.T) {
 // TestEnsureDatabaseConcurrently stands for replicas starting together on a
 // server without the database: every one of them must start.
 func TestEnsureDatabaseConcurrently(t *testing.T) {
-	dbURL := missingDatabaseURL(t)
+	dbURL := storetest.AbsentDatabaseURL(t)
 	const replicas = 6
 	errs := make([]error, replicas)
 	var wg sync.WaitGroup

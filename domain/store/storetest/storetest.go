@@ -11,6 +11,7 @@ import (
 	"fmt"
 	"net/url"
 	"os"
+	"strings"
 	"sync"
 	"testing"
 	"time"
@@ -73,6 +74,29 @@ func startContainer() (u string, err error) {
 // returns its URL.
 func NewDatabaseURL(t testing.TB) string {
 	t.Helper()
+	u := AbsentDatabaseURL(t)
+	admin, err := serverURL()
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx := context.Background()
+	conn, err := pgx.Connect(ctx, admin)
+	if err != nil {
+		t.Fatalf("connect to test server: %v", err)
+	}
+	defer conn.Close(ctx)
+	name := strings.TrimPrefix(mustParse(t, u).Path, "/")
+	if _, err := conn.Exec(ctx, "CREATE DATABASE "+name); err != nil {
+		t.Fatalf("create test database: %v", err)
+	}
+	return u
+}
+
+// AbsentDatabaseURL names a database that does not exist yet on the test
+// server, for tests of whatever creates it; it is dropped when t ends if
+// something did.
+func AbsentDatabaseURL(t testing.TB) string {
+	t.Helper()
 	admin, err := serverURL()
 	if err != nil {
 		t.Fatal(err)
@@ -80,17 +104,8 @@ func NewDatabaseURL(t testing.TB) string {
 	var b [6]byte
 	_, _ = rand.Read(b[:])
 	name := "wattshelf_test_" + hex.EncodeToString(b[:])
-
-	ctx := context.Background()
-	conn, err := pgx.Connect(ctx, admin)
-	if err != nil {
-		t.Fatalf("connect to test server: %v", err)
-	}
-	defer conn.Close(ctx)
-	if _, err := conn.Exec(ctx, "CREATE DATABASE "+name); err != nil {
-		t.Fatalf("create test database: %v", err)
-	}
 	t.Cleanup(func() {
+		ctx := context.Background()
 		conn, err := pgx.Connect(ctx, admin)
 		if err != nil {
 			t.Errorf("connect to drop test database: %v", err)
@@ -101,12 +116,18 @@ func NewDatabaseURL(t testing.TB) string {
 			t.Errorf("drop test database: %v", err)
 		}
 	})
-	u, err := url.Parse(admin)
-	if err != nil {
-		t.Fatalf("parse test server url: %v", err)
-	}
+	u := mustParse(t, admin)
 	u.Path = "/" + name
 	return u.String()
+}
+
+func mustParse(t testing.TB, raw string) *url.URL {
+	t.Helper()
+	u, err := url.Parse(raw)
+	if err != nil {
+		t.Fatalf("parse test database url: %v", err)
+	}
+	return u
 }
 
 // NewStore returns a store on a fresh, migrated database of t's own.
