@@ -18,7 +18,7 @@ import (
 // the status, the problem type and, for field problems, the pointers.
 func TestProblemKinds(t *testing.T) {
 	a := startShelfAPI(t)
-	mine := a.created(a.owner, component("Hair-dryer fan", "motor"))
+	mine := a.created(a.owner, component("Tape-deck capstan motor", "motor"))
 	staffs := a.created(a.staff, component("Bench fuse", "fuse"))
 	minePath := fmt.Sprintf("/v1/components/%d", mine.ID)
 	staffPath := fmt.Sprintf("/v1/components/%d", staffs.ID)

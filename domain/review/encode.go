@@ -295,7 +295,7 @@ func (e *reportEncoder) num(x float64) {
 	// A number clean left at eight significant digits, k × 10^−q, reads
 	// back from exactly those digits (q ≤ 22 makes 10^q exact, so clean's
 	// division rounded k / 10^q correctly), and no shorter decimal is
-	// within a hair of it: its shortest form is k's digits, trailing zeros
+	// within a rounding step of it: its shortest form is k's digits, trailing zeros
 	// dropped. Anything else, strconv writes.
 	if abs >= 1e-6 && abs < 1e8 {
 		q := 7 - decimalExponent(abs)

@@ -135,7 +135,7 @@ func TestAppendJSONRefusesNonFiniteNumbers(t *testing.T) {
 
 // TestCleanMatchesItsDefinition compares clean with the way it was first
 // written, with Log10 and Pow, across the magnitudes reports hold. At the
-// edges of the powers of ten, where Log10 can be a hair off, clean must
+// edges of the powers of ten, where Log10 can be slightly off, clean must
 // give eight significant digits as strconv rounds them.
 func TestCleanMatchesItsDefinition(t *testing.T) {
 	byDefinition := func(x float64) float64 {
