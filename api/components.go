@@ -253,6 +253,13 @@ func pathID(c echo.Context, name string) (int64, error) {
 
 func etagOf(version int64) string { return `"` + strconv.FormatInt(version, 10) + `"` }
 
+// jsonWithETag answers v with the ETag of its version, so the client can
+// send it back in If-Match.
+func jsonWithETag(c echo.Context, status int, version int64, v any) error {
+	c.Response().Header().Set("ETag", etagOf(version))
+	return c.JSON(status, v)
+}
+
 // ifMatchVersion reads the version a client last saw from If-Match, which
 // writes require; "*" matches any version.
 func ifMatchVersion(c echo.Context) (int64, error) {
@@ -293,8 +300,7 @@ func (s *server) createComponent(c echo.Context) error {
 		return err
 	}
 	c.Response().Header().Set("Location", fmt.Sprintf("/v1/components/%d", comp.ID))
-	c.Response().Header().Set("ETag", etagOf(comp.Version))
-	return c.JSON(http.StatusCreated, comp)
+	return jsonWithETag(c, http.StatusCreated, comp.Version, comp)
 }
 
 func (s *server) getComponent(c echo.Context) error {
@@ -306,8 +312,7 @@ func (s *server) getComponent(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	c.Response().Header().Set("ETag", etagOf(comp.Version))
-	return c.JSON(http.StatusOK, comp)
+	return jsonWithETag(c, http.StatusOK, comp.Version, comp)
 }
 
 func (s *server) replaceComponent(c echo.Context) error {
@@ -377,8 +382,7 @@ func (s *server) patchComponent(c echo.Context) error {
 		if err != nil {
 			return err
 		}
-		c.Response().Header().Set("ETag", etagOf(comp.Version))
-		return c.JSON(http.StatusOK, comp)
+		return jsonWithETag(c, http.StatusOK, comp.Version, comp)
 	}
 }
 
@@ -431,8 +435,7 @@ func (s *server) saveComponent(c echo.Context, id, version int64, in domain.Comp
 	if err != nil {
 		return err
 	}
-	c.Response().Header().Set("ETag", etagOf(comp.Version))
-	return c.JSON(http.StatusOK, comp)
+	return jsonWithETag(c, http.StatusOK, comp.Version, comp)
 }
 
 func (s *server) deleteComponent(c echo.Context) error {

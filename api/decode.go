@@ -49,11 +49,17 @@ func readBody(c echo.Context) ([]byte, error) {
 // (400); unknown fields and wrong types are *domain.ValidationError (422)
 // naming the field by JSON pointer.
 func decodeStrict(body []byte, v any) error {
+	return decodeOne(body, v, (*json.Decoder).DisallowUnknownFields)
+}
+
+// decodeOne decodes exactly one JSON value from body into v, with the
+// decoder set up by setup; an empty body and trailing data are malformed.
+func decodeOne(body []byte, v any, setup func(*json.Decoder)) error {
 	if len(bytes.TrimSpace(body)) == 0 {
 		return &domain.DecodeError{Reason: "the body is empty; send a JSON object"}
 	}
 	dec := json.NewDecoder(bytes.NewReader(body))
-	dec.DisallowUnknownFields()
+	setup(dec)
 	if err := dec.Decode(v); err != nil {
 		return classifyDecodeErrorFor(err, dec.InputOffset(), reflect.TypeOf(v))
 	}
@@ -61,11 +67,6 @@ func decodeStrict(body []byte, v any) error {
 		return &domain.DecodeError{Offset: dec.InputOffset(), Reason: "trailing data after the JSON value"}
 	}
 	return nil
-}
-
-// classifyDecodeError is classifyDecodeErrorFor without a target type.
-func classifyDecodeError(err error, offset int64) error {
-	return classifyDecodeErrorFor(err, offset, nil)
 }
 
 // classifyDecodeErrorFor sorts a decoding error into malformed (400) or

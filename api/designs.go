@@ -1,10 +1,8 @@
 package api
 
 import (
-	"bytes"
 	"encoding/json"
 	"fmt"
-	"io"
 	"net/http"
 	"strconv"
 	"time"
@@ -116,8 +114,7 @@ func (s *server) createDesign(c echo.Context) error {
 		return err
 	}
 	c.Response().Header().Set("Location", fmt.Sprintf("/v1/designs/%d", d.ID))
-	c.Response().Header().Set("ETag", etagOf(d.Version))
-	return c.JSON(http.StatusCreated, d)
+	return jsonWithETag(c, http.StatusCreated, d.Version, d)
 }
 
 // visibleDesign loads a design the caller may see: its owner's or, for
@@ -142,8 +139,7 @@ func (s *server) getDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	c.Response().Header().Set("ETag", etagOf(d.Version))
-	return c.JSON(http.StatusOK, d)
+	return jsonWithETag(c, http.StatusOK, d.Version, d)
 }
 
 func (s *server) replaceDesign(c echo.Context) error {
@@ -199,18 +195,7 @@ func (s *server) patchDesign(c echo.Context) error {
 // decodeNumbers decodes one JSON object keeping numbers as written, so a
 // merge patch does not round the values it leaves alone.
 func decodeNumbers(body []byte, v *map[string]any) error {
-	if len(bytes.TrimSpace(body)) == 0 {
-		return &domain.DecodeError{Reason: "the body is empty; send a JSON object"}
-	}
-	dec := json.NewDecoder(bytes.NewReader(body))
-	dec.UseNumber()
-	if err := dec.Decode(v); err != nil {
-		return classifyDecodeError(err, dec.InputOffset())
-	}
-	if _, err := dec.Token(); err != io.EOF {
-		return &domain.DecodeError{Offset: dec.InputOffset(), Reason: "trailing data after the JSON value"}
-	}
-	return nil
+	return decodeOne(body, v, (*json.Decoder).UseNumber)
 }
 
 func (s *server) saveDesign(c echo.Context, id, version int64, name string, document []byte) error {
@@ -218,8 +203,7 @@ func (s *server) saveDesign(c echo.Context, id, version int64, name string, docu
 	if err != nil {
 		return err
 	}
-	c.Response().Header().Set("ETag", etagOf(d.Version))
-	return c.JSON(http.StatusOK, d)
+	return jsonWithETag(c, http.StatusOK, d.Version, d)
 }
 
 func (s *server) deleteDesign(c echo.Context) error {

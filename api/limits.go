@@ -35,8 +35,7 @@ func (s *server) getCurrentLimits(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	c.Response().Header().Set("ETag", etagOf(int64(l.Version)))
-	return c.JSON(http.StatusOK, l)
+	return jsonWithETag(c, http.StatusOK, int64(l.Version), l)
 }
 
 func (s *server) getLimitsVersion(c echo.Context) error {
@@ -48,8 +47,7 @@ func (s *server) getLimitsVersion(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	c.Response().Header().Set("ETag", etagOf(int64(l.Version)))
-	return c.JSON(http.StatusOK, l)
+	return jsonWithETag(c, http.StatusOK, int64(l.Version), l)
 }
 
 // putLimits stores a new limits version. If-Match must name the version
@@ -85,8 +83,7 @@ func (s *server) putLimits(c echo.Context) error {
 	}
 	s.limits.remember(l.Version, *in.Limits)
 	c.Response().Header().Set("Location", fmt.Sprintf("/v1/limits/%d", l.Version))
-	c.Response().Header().Set("ETag", etagOf(int64(l.Version)))
-	return c.JSON(http.StatusCreated, l)
+	return jsonWithETag(c, http.StatusCreated, int64(l.Version), l)
 }
 
 // underPointer moves a validation error's pointers under prefix, so they
