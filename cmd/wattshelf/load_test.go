@@ -110,41 +110,78 @@ func TestLoadReportTargets(t *testing.T) {
 }
 
 // BenchmarkReviewPipeline measures the CPU one POST /v1/reviews of the
-// load design costs the server, step by step.
+// load design costs the server, step by step, the way api/reviews.go does
+// it: rules prepared once (the API keeps them per limits version),
+// DecodeDesign, Rules.Review (which validates the document itself) and
+// AppendJSON into a buffer that is reused (the API pools them). "validate"
+// is the part of "review" that Design.Validate takes; "whole" is the three
+// steps the server runs, one after the other.
+//
+//	go test ./cmd/wattshelf -run '^$' -bench ReviewPipeline -benchmem -cpu 1 -count 5
 func BenchmarkReviewPipeline(b *testing.B) {
 	body := reviewDesign("bench", loadReviewDesignNodes)
-	limits := review.DefaultLimits()
+	rules, err := review.Prepare(review.DefaultLimits(), 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	doc, err := domain.DecodeDesign(body)
+	if err != nil {
+		b.Fatal(err)
+	}
+	rep, err := rules.Review(doc, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
 	b.Run("decode", func(b *testing.B) {
+		b.ReportAllocs()
 		for b.Loop() {
 			if _, err := domain.DecodeDesign(body); err != nil {
 				b.Fatal(err)
 			}
 		}
 	})
-	doc, err := domain.DecodeDesign(body)
-	if err != nil {
-		b.Fatal(err)
-	}
+	b.Run("validate", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			if err := doc.Validate(); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
 	b.Run("review", func(b *testing.B) {
+		b.ReportAllocs()
 		for b.Loop() {
-			if _, err := review.Review(doc, limits, 1, nil); err != nil {
+			if _, err := rules.Review(doc, nil); err != nil {
 				b.Fatal(err)
 			}
 		}
 	})
-	rep, err := review.Review(doc, limits, 1, nil)
-	if err != nil {
-		b.Fatal(err)
-	}
+	var buf []byte
 	b.Run("encode", func(b *testing.B) {
+		b.ReportAllocs()
 		for b.Loop() {
-			if _, err := json.Marshal(rep); err != nil {
+			if buf, err = rep.AppendJSON(buf[:0]); err != nil {
 				b.Fatal(err)
 			}
 		}
 	})
-	raw, _ := json.Marshal(rep)
-	b.Logf("report of %d nodes: %d bytes", loadReviewDesignNodes, len(raw))
+	b.Run("whole", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			d, err := domain.DecodeDesign(body)
+			if err != nil {
+				b.Fatal(err)
+			}
+			r, err := rules.Review(d, nil)
+			if err != nil {
+				b.Fatal(err)
+			}
+			if buf, err = r.AppendJSON(buf[:0]); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	b.Logf("report of %d nodes: %d bytes, %d checks", loadReviewDesignNodes, len(buf), len(rep.Checks))
 }
 
 func TestTopLevelStringStopsAtItsField(t *testing.T) {
