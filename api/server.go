@@ -27,6 +27,9 @@ const MaxBodyBytes = 2 << 20
 type Config struct {
 	Store  *store.Store
 	Logger *slog.Logger
+	// Tokens checks bearer tokens; nil means asking Store every time.
+	// serve passes a store.TokenCache.
+	Tokens authenticator
 	// Registry receives the HTTP and pool metrics and is served at /metrics.
 	Registry *prometheus.Registry
 	// PublicBaseURL is the address printed into QR codes and links, e.g.
@@ -87,7 +90,11 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.Use(requestDeadline(DatabaseWaitLimit))
 	e.Use(refuseUnstorableText)
 	e.Use(middleware.BodyLimit(fmt.Sprint(MaxBodyBytes)))
-	e.Use(identify(cfg.Store))
+	tokens := cfg.Tokens
+	if tokens == nil {
+		tokens = cfg.Store
+	}
+	e.Use(identify(tokens))
 
 	e.GET("/healthz", s.healthz)
 	e.GET("/readyz", s.readyz)

@@ -14,6 +14,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 
 	"wattshelf/api"
+	"wattshelf/domain/store"
 )
 
 // shutdownGrace bounds how long in-flight requests may take to finish.
@@ -55,8 +56,23 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 		return err
 	}
 
+	tokens := store.NewTokenCache(st, store.TokenCacheTTL)
+	listenCtx, stopListening := context.WithCancel(ctx)
+	listened := make(chan struct{})
+	go func() {
+		defer close(listened)
+		_ = tokens.Listen(listenCtx, time.Second, func(err error) {
+			logger.Warn("token cache off until the database answers again", "err", err)
+		})
+	}()
+	defer func() { stopListening(); <-listened }()
+
+	registry := prometheus.NewRegistry()
+	if err := registerTokenCacheMetrics(registry, tokens); err != nil {
+		return err
+	}
 	handler, err := api.New(api.Config{
-		Store: st, Logger: logger, Registry: prometheus.NewRegistry(), PublicBaseURL: env.publicURL,
+		Store: st, Tokens: tokens, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
 	})
 	if err != nil {
 		return err
@@ -92,6 +108,27 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 		return fmt.Errorf("serve: %w", err)
 	}
 	logger.Info("stopped")
+	return nil
+}
+
+// registerTokenCacheMetrics exports how often a token was checked from
+// memory and how often the database was asked.
+func registerTokenCacheMetrics(reg prometheus.Registerer, tokens *store.TokenCache) error {
+	for _, m := range []struct {
+		name, help string
+		value      func() uint64
+	}{
+		{"wattshelf_token_checks_remembered_total", "Bearer tokens accepted from the server's memory of recent checks.",
+			func() uint64 { h, _ := tokens.Stats(); return h }},
+		{"wattshelf_token_checks_database_total", "Bearer tokens checked against the database.",
+			func() uint64 { _, m := tokens.Stats(); return m }},
+	} {
+		value := m.value
+		if err := reg.Register(prometheus.NewCounterFunc(prometheus.CounterOpts{Name: m.name, Help: m.help},
+			func() float64 { return float64(value()) })); err != nil {
+			return fmt.Errorf("register %s: %w", m.name, err)
+		}
+	}
 	return nil
 }
 

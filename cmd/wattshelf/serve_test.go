@@ -138,8 +138,18 @@ func TestServeStartsAnswersAndStops(t *testing.T) {
 	if _, _, err := runCLI(ctx, getenv, "token", "revoke", "ada"); err != nil {
 		t.Fatal(err)
 	}
-	if code, _ := s.get(t, "/v1/components", token); code != http.StatusUnauthorized {
-		t.Errorf("component list with a revoked token: %d, want 401", code)
+	// serve remembers checked tokens and forgets them when the database
+	// notifies a revocation, which arrives asynchronously: within
+	// milliseconds here, so five seconds is ample.
+	for deadline := time.Now().Add(5 * time.Second); ; time.Sleep(5 * time.Millisecond) {
+		code, _ := s.get(t, "/v1/components", token)
+		if code == http.StatusUnauthorized {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Errorf("component list with a revoked token: still %d after 5 s, want 401", code)
+			break
+		}
 	}
 	if code, body := s.get(t, "/metrics", ""); code != http.StatusOK || !strings.Contains(string(body), "wattshelf_http_requests_total") {
 		t.Errorf("metrics: %d", code)
