@@ -186,44 +186,40 @@ func roundSure(scaled float64) (uint64, bool) {
 }
 
 // appendFixed writes n × 10^−decimals with that many decimals, or with the
-// trailing zeros of the fraction dropped when trim is set.
+// trailing zeros of the fraction dropped when trim is set. The digits are
+// written from the right into a small array and appended at once: this
+// runs for nearly every number of a review and of its report.
 func appendFixed(b []byte, negative bool, n uint64, decimals int, trim bool) []byte {
-	if negative {
-		b = append(b, '-')
-	}
-	unit := uint64(wholePowerOfTen(decimals))
-	b = strconv.AppendUint(b, n/unit, 10)
-	frac := n % unit
 	if trim {
-		for frac != 0 && frac%10 == 0 {
-			frac /= 10
+		for decimals > 0 && n%10 == 0 {
+			n /= 10
 			decimals--
 		}
-		if frac == 0 {
-			return b
+	}
+	var digits [48]byte // 20 digits, up to 19 leading zeros of a fraction, '.', '-'
+	i := len(digits)
+	if decimals > 0 {
+		for range decimals {
+			i--
+			digits[i] = byte('0' + n%10)
+			n /= 10
+		}
+		i--
+		digits[i] = '.'
+	}
+	for {
+		i--
+		digits[i] = byte('0' + n%10)
+		n /= 10
+		if n == 0 {
+			break
 		}
 	}
-	if decimals == 0 {
-		return b
-	}
-	var digits [20]byte
-	i := len(digits)
-	for range decimals {
+	if negative {
 		i--
-		digits[i] = byte('0' + frac%10)
-		frac /= 10
+		digits[i] = '-'
 	}
-	b = append(b, '.')
 	return append(b, digits[i:]...)
-}
-
-// wholePowerOfTen is 10^k for k from 0 to 19.
-func wholePowerOfTen(k int) uint64 {
-	p := uint64(1)
-	for range k {
-		p *= 10
-	}
-	return p
 }
 
 // piece is a part of a sentence: text, or a number printed as num does.

@@ -318,21 +318,26 @@ func (e *reportEncoder) num(x float64) {
 
 // str writes a JSON string as encoding/json does with HTML escaping on:
 // <, > and & as \u003c, \u003e and \u0026, U+2028 and U+2029 escaped,
-// invalid UTF-8 as U+FFFD. Plain ASCII goes eight bytes at a time; only
-// the rest is looked at a byte or a rune at a time.
+// invalid UTF-8 as U+FFFD. Plain ASCII goes eight bytes at a time, then a
+// byte at a time through plainBytes to the end of the word; only what is
+// left is looked at as a rune.
 func (e *reportEncoder) str(s string) {
 	b := append(e.b, '"')
 	start := 0
 	for i := 0; ; {
-		if i = skipPlain(s, i); i >= len(s) {
-			break
+		i = skipPlain(s, i)
+		end := min(i+8, len(s))
+		for i < end && plainBytes[s[i]] == '1' {
+			i++
+		}
+		if i == end {
+			if i == len(s) {
+				break
+			}
+			continue
 		}
 		c := s[i]
 		if c < utf8.RuneSelf {
-			if c >= 0x20 && c != '"' && c != '\\' && c != '<' && c != '>' && c != '&' {
-				i++
-				continue
-			}
 			b = append(b, s[start:i]...)
 			b = appendEscape(b, c)
 			i++
@@ -357,6 +362,19 @@ func (e *reportEncoder) str(s string) {
 	b = append(b, s[start:]...)
 	e.b = append(b, '"')
 }
+
+// plainBytes marks with '1' each byte str copies as it is: printable ASCII
+// (and DEL) other than " \ < > &. A constant, so the table cannot be
+// changed; TestPlainBytesMatchEncodingJSON checks every entry.
+const plainBytes = "" +
+	"00000000000000000000000000000000" + // 0x00–0x1f: control characters
+	"11011101111111111111111111110101" + // 0x20–0x3f: " & < >
+	"11111111111111111111111111110111" + // 0x40–0x5f: \
+	"11111111111111111111111111111111" + // 0x60–0x7f
+	"00000000000000000000000000000000" + // 0x80–0xff: past ASCII, read as runes
+	"00000000000000000000000000000000" +
+	"00000000000000000000000000000000" +
+	"00000000000000000000000000000000"
 
 // appendEscape writes an ASCII byte JSON needs escaped.
 func appendEscape(b []byte, c byte) []byte {
@@ -384,20 +402,20 @@ func hexDigit(x byte) byte { return "0123456789abcdef"[x] }
 // " \ < > &, or a byte past ASCII. The tests are the zero-byte trick: a
 // byte of v is zero exactly where (v − 0x01…01) &^ v has its high bit
 // set, and a byte is under 0x20 where (x − 0x20…20) &^ x has it (a borrow
-// only flows out of a byte that is itself under 0x20).
+// only flows out of a byte that is itself under 0x20). Setting bit 2
+// makes " (0x22) read as & (0x26), and setting bit 1 makes < (0x3c) read
+// as > (0x3e), so three comparisons cover the five characters; only " and
+// & become 0x26 that way, and only < and > become 0x3e.
 func skipPlain(s string, i int) int {
 	const ones, highs = 0x0101010101010101, 0x8080808080808080
 	for ; i+8 <= len(s); i += 8 {
 		w := s[i : i+8]
 		x := uint64(w[0]) | uint64(w[1])<<8 | uint64(w[2])<<16 | uint64(w[3])<<24 |
 			uint64(w[4])<<32 | uint64(w[5])<<40 | uint64(w[6])<<48 | uint64(w[7])<<56
-		q, bs, lt, gt, amp := x^('"'*ones), x^('\\'*ones), x^('<'*ones), x^('>'*ones), x^('&'*ones)
-		found := x | (x-0x20*ones)&^x
-		found |= (q - ones) &^ q
-		found |= (bs - ones) &^ bs
-		found |= (lt - ones) &^ lt
-		found |= (gt - ones) &^ gt
-		found |= (amp - ones) &^ amp
+		qa := (x | 0x04*ones) ^ ('&' * ones)
+		lg := (x | 0x02*ones) ^ ('>' * ones)
+		bs := x ^ ('\\' * ones)
+		found := x | (x-0x20*ones)&^x | (qa-ones)&^qa | (lg-ones)&^lg | (bs-ones)&^bs
 		if found&highs != 0 {
 			return i
 		}

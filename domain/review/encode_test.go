@@ -207,6 +207,47 @@ func TestStringEscapingMatchesEncodingJSON(t *testing.T) {
 	}
 }
 
+// TestPlainBytesMatchEncodingJSON holds the escaping scan to
+// encoding/json for every byte value: plainBytes marks exactly the bytes
+// Marshal copies as they are, skipPlain stops at the word holding any
+// other byte and at no word without one, and str writes what Marshal
+// writes with the byte at every place in and around a word.
+func TestPlainBytesMatchEncodingJSON(t *testing.T) {
+	for c := range 256 {
+		one := string([]byte{byte(c)})
+		want, err := json.Marshal(one)
+		if err != nil {
+			t.Fatal(err)
+		}
+		copied := string(want) == `"`+one+`"`
+		if got := plainBytes[c] == '1'; got != copied {
+			t.Errorf("plainBytes[%#02x] = %t, but encoding/json copies it: %t (%s)", c, got, copied, want)
+		}
+		for at := range 8 {
+			w := []byte("abcdefgh" + "ijklmnop")
+			w[8+at] = byte(c)
+			stop := skipPlain(string(w), 0)
+			if wantStop := map[bool]int{true: 16, false: 8}[copied]; stop != wantStop {
+				t.Errorf("byte %#02x at %d of the second word: skipPlain stops at %d, want %d", c, at, stop, wantStop)
+			}
+		}
+		for pre := range 18 {
+			for _, post := range []int{0, 1, 7, 8, 9} {
+				s := strings.Repeat("a", pre) + one + strings.Repeat("b", post)
+				want, err := json.Marshal(s)
+				if err != nil {
+					t.Fatal(err)
+				}
+				var e reportEncoder
+				e.str(s)
+				if !bytes.Equal(e.b, want) {
+					t.Fatalf("%q: got %s, want %s", s, e.b, want)
+				}
+			}
+		}
+	}
+}
+
 // TestAppendNumMatchesNum holds appendNum's own rounding to strconv's, on
 // random values of every magnitude a report prints and on the decimal
 // halves where float64 rounding could go the other way.
