@@ -24,3 +24,16 @@ func TestMigrateWithPoolSettingsInURL(t *testing.T) {
 		t.Errorf("pool max conns %d, want 4 from the URL", got)
 	}
 }
+
+// Without pool_max_conns the pool is sized for writes waiting on commit
+// flushes, not pgxpool's one connection per core.
+func TestOpenSizesThePoolForWrites(t *testing.T) {
+	s, err := store.Open(context.Background(), storetest.NewDatabaseURL(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	if got := s.Pool().Config().MaxConns; got != store.DefaultMaxConns {
+		t.Errorf("pool max conns %d, want %d", got, store.DefaultMaxConns)
+	}
+}

@@ -25,11 +25,22 @@ type Store struct {
 	pool *pgxpool.Pool
 }
 
+// DefaultMaxConns is the pool's size unless the URL sets pool_max_conns.
+// pgxpool's own default, one per core and at least 4, suits queries that
+// keep a core busy; a write here spends most of its time waiting for its
+// commit to reach the disk, and only writes in flight together share one
+// flush. With 4, writers queued for a connection for tens of milliseconds
+// under the load harness while the cores sat partly idle (issue 6).
+const DefaultMaxConns = 16
+
 // Open connects a pool to databaseURL and checks that it answers.
 func Open(ctx context.Context, databaseURL string) (*Store, error) {
 	cfg, err := pgxpool.ParseConfig(databaseURL)
 	if err != nil {
 		return nil, fmt.Errorf("parse database url: %w", err)
+	}
+	if !strings.Contains(databaseURL, "pool_max_conns") {
+		cfg.MaxConns = DefaultMaxConns
 	}
 	pool, err := pgxpool.NewWithConfig(ctx, cfg)
 	if err != nil {
