@@ -42,32 +42,78 @@ func metricSizesMM2() []float64 {
 
 // ParseGauge reads "30AWG" … "4/0AWG" (also "0AWG"…"0000AWG" for the
 // aught sizes) or a metric size such as "0.5mm2" or "1.5mm²". Case,
-// surrounding spaces and a space before the unit are ignored.
+// surrounding spaces and a space before the unit are ignored. Validation
+// parses every feed's gauge of every review, so the unit is matched
+// without lowering a copy of the label: the numbers before it are digits
+// or go to strconv, which ignores their case, so lowering the whole label
+// (as the first version did) never changed an answer.
 func ParseGauge(label string) (Gauge, error) {
-	s := strings.ToLower(strings.TrimSpace(label))
-	number := func(unit string) string { return strings.TrimSpace(strings.TrimSuffix(s, unit)) }
+	awg, areaMM2, err := readGauge(label)
 	switch {
-	case s == "":
-		return Gauge{}, fmt.Errorf("%w: empty label; write e.g. \"18AWG\" or \"1.5mm2\"", ErrUnknownGauge)
-	case strings.HasSuffix(s, "awg"):
-		return parseAWG(label, number("awg"))
-	case strings.HasSuffix(s, "mm2"):
-		return parseMetric(label, number("mm2"))
-	case strings.HasSuffix(s, "mm²"):
-		return parseMetric(label, number("mm²"))
+	case err != nil:
+		return Gauge{}, err
+	case areaMM2 > 0:
+		return MetricGauge(areaMM2), nil
 	}
-	return Gauge{}, fmt.Errorf("%w: %q has no unit; write \"NNAWG\" (30AWG to 4/0AWG) or a metric size like \"1.5mm2\"", ErrUnknownGauge, label)
+	return AWGGauge(awg), nil
 }
 
-func parseAWG(label, num string) (Gauge, error) {
+// CheckGauge gives the error ParseGauge gives for label, or nil, without
+// working out the size's area: validation only needs to know.
+func CheckGauge(label string) error {
+	_, _, err := readGauge(label)
+	return err
+}
+
+// readGauge reads a label as an AWG formula index, or as a metric area
+// (above 0) when it names one.
+func readGauge(label string) (awg int, areaMM2 float64, err error) {
+	s := strings.TrimSpace(label)
+	number := func(unit string) string { return strings.TrimSpace(s[:len(s)-len(unit)]) }
+	switch {
+	case s == "":
+		return 0, 0, fmt.Errorf("%w: empty label; write e.g. \"18AWG\" or \"1.5mm2\"", ErrUnknownGauge)
+	case hasSuffixFoldASCII(s, "awg"):
+		awg, err = parseAWG(label, number("awg"))
+		return awg, 0, err
+	case hasSuffixFoldASCII(s, "mm2"):
+		areaMM2, err = parseMetric(label, number("mm2"))
+		return 0, areaMM2, err
+	case hasSuffixFoldASCII(s, "mm²"):
+		areaMM2, err = parseMetric(label, number("mm²"))
+		return 0, areaMM2, err
+	}
+	return 0, 0, fmt.Errorf("%w: %q has no unit; write \"NNAWG\" (30AWG to 4/0AWG) or a metric size like \"1.5mm2\"", ErrUnknownGauge, label)
+}
+
+// hasSuffixFoldASCII reports whether s ends in suffix, a lower-case unit,
+// with the ASCII letters of s in either case.
+func hasSuffixFoldASCII(s, suffix string) bool {
+	if len(s) < len(suffix) {
+		return false
+	}
+	tail := s[len(s)-len(suffix):]
+	for i := range len(suffix) {
+		c := tail[i]
+		if 'A' <= c && c <= 'Z' {
+			c += 'a' - 'A'
+		}
+		if c != suffix[i] {
+			return false
+		}
+	}
+	return true
+}
+
+func parseAWG(label, num string) (int, error) {
 	n, ok := awgIndex(num)
 	if !ok {
-		return Gauge{}, fmt.Errorf("%w: %q is not an AWG number; write 30AWG to 1AWG, or 1/0AWG to 4/0AWG", ErrUnknownGauge, label)
+		return 0, fmt.Errorf("%w: %q is not an AWG number; write 30AWG to 1AWG, or 1/0AWG to 4/0AWG", ErrUnknownGauge, label)
 	}
 	if n > smallestAWG || n < largestAWG {
-		return Gauge{}, fmt.Errorf("%w: %q is outside 30AWG to 4/0AWG", ErrUnknownGauge, label)
+		return 0, fmt.Errorf("%w: %q is outside 30AWG to 4/0AWG", ErrUnknownGauge, label)
 	}
-	return AWGGauge(n), nil
+	return n, nil
 }
 
 // awgIndex turns "18", "1/0", "0", "00", "000", "0000", "2/0" … into the
@@ -97,31 +143,91 @@ func AWGGauge(n int) Gauge {
 }
 
 // AWGLabel is the canonical label of a formula index: 18 → "18AWG",
-// 0 → "1/0AWG", -3 → "4/0AWG".
+// 0 → "1/0AWG", -3 → "4/0AWG". The sizes ParseGauge accepts are slices
+// of constants, so parsing a label allocates nothing.
 func AWGLabel(n int) string {
-	if n <= 0 {
-		return fmt.Sprintf("%d/0AWG", 1-n)
+	const (
+		aught = "1/0AWG2/0AWG3/0AWG4/0AWG"                                          // 0 … -3, six bytes each
+		ones  = "1AWG2AWG3AWG4AWG5AWG6AWG7AWG8AWG9AWG"                              // 1 … 9, four bytes each
+		tens  = "10AWG11AWG12AWG13AWG14AWG15AWG16AWG17AWG18AWG19AWG20AWG21AWG22AWG" // 10 … 22, five bytes each
+		more  = "23AWG24AWG25AWG26AWG27AWG28AWG29AWG30AWG"                          // 23 … 30, five bytes each
+	)
+	switch {
+	case largestAWG <= n && n <= 0:
+		return aught[6*-n : 6*-n+6]
+	case 1 <= n && n <= 9:
+		return ones[4*(n-1) : 4*n]
+	case 10 <= n && n <= 22:
+		return tens[5*(n-10) : 5*(n-9)]
+	case 23 <= n && n <= smallestAWG:
+		return more[5*(n-23) : 5*(n-22)]
+	case n <= 0:
+		return strconv.Itoa(1-n) + "/0AWG"
 	}
-	return fmt.Sprintf("%dAWG", n)
+	return strconv.Itoa(n) + "AWG"
 }
 
-func parseMetric(label, num string) (Gauge, error) {
+func parseMetric(label, num string) (float64, error) {
 	area, err := strconv.ParseFloat(num, 64)
 	if err != nil {
-		return Gauge{}, fmt.Errorf("%w: %q is not a metric area; write e.g. \"0.75mm2\"", ErrUnknownGauge, label)
+		return 0, fmt.Errorf("%w: %q is not a metric area; write e.g. \"0.75mm2\"", ErrUnknownGauge, label)
 	}
 	for _, size := range metricSizesMM2() {
 		if area == size {
-			return MetricGauge(size), nil
+			return size, nil
 		}
 	}
-	return Gauge{}, fmt.Errorf("%w: %q is not a standard metric size (accepted: %s mm2)", ErrUnknownGauge, label, formatSizes(metricSizesMM2()))
+	return 0, fmt.Errorf("%w: %q is not a standard metric size (accepted: %s mm2)", ErrUnknownGauge, label, formatSizes(metricSizesMM2()))
 }
 
 // MetricGauge builds the gauge for a metric cross-section without checking
 // that it is a standard size.
 func MetricGauge(areaMM2 float64) Gauge {
-	return Gauge{Label: strconv.FormatFloat(areaMM2, 'f', -1, 64) + "mm2", Metric: true, AreaMM2: areaMM2}
+	return Gauge{Label: metricLabel(areaMM2), Metric: true, AreaMM2: areaMM2}
+}
+
+// metricLabel is the canonical label of a cross-section: strconv's
+// shortest form and "mm2"; a constant for each size of metricSizesMM2.
+func metricLabel(areaMM2 float64) string {
+	switch areaMM2 {
+	case 0.13:
+		return "0.13mm2"
+	case 0.22:
+		return "0.22mm2"
+	case 0.35:
+		return "0.35mm2"
+	case 0.5:
+		return "0.5mm2"
+	case 0.75:
+		return "0.75mm2"
+	case 1:
+		return "1mm2"
+	case 1.5:
+		return "1.5mm2"
+	case 2.5:
+		return "2.5mm2"
+	case 4:
+		return "4mm2"
+	case 6:
+		return "6mm2"
+	case 10:
+		return "10mm2"
+	case 16:
+		return "16mm2"
+	case 25:
+		return "25mm2"
+	case 35:
+		return "35mm2"
+	case 50:
+		return "50mm2"
+	case 70:
+		return "70mm2"
+	case 95:
+		return "95mm2"
+	case 120:
+		return "120mm2"
+	}
+	return strconv.FormatFloat(areaMM2, 'f', -1, 64) + "mm2"
 }
 
 func formatSizes(sizes []float64) string {

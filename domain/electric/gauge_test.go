@@ -2,7 +2,10 @@ package electric
 
 import (
 	"errors"
+	"fmt"
 	"math"
+	"strconv"
+	"strings"
 	"testing"
 )
 
@@ -187,4 +190,110 @@ func TestAWGAreaFromDiameter(t *testing.T) {
 	within(t, "1/0AWG area", AWGGauge(0).AreaMM2, 53.49, 0.002)
 	// Each step of three sizes roughly halves the area (common practice).
 	within(t, "area ratio 15AWG/18AWG", AWGGauge(15).AreaMM2/AWGGauge(18).AreaMM2, 2, 0.01)
+}
+
+// parseGaugeByDefinition is ParseGauge as first written: the label
+// lowered and trimmed, the unit cut off, labels built with fmt.
+func parseGaugeByDefinition(label string) (Gauge, error) {
+	s := strings.ToLower(strings.TrimSpace(label))
+	number := func(unit string) string { return strings.TrimSpace(strings.TrimSuffix(s, unit)) }
+	awg := func(num string) (Gauge, error) {
+		n, ok := awgIndex(num)
+		if !ok {
+			return Gauge{}, fmt.Errorf("%w: %q is not an AWG number; write 30AWG to 1AWG, or 1/0AWG to 4/0AWG", ErrUnknownGauge, label)
+		}
+		if n > smallestAWG || n < largestAWG {
+			return Gauge{}, fmt.Errorf("%w: %q is outside 30AWG to 4/0AWG", ErrUnknownGauge, label)
+		}
+		d := AWGDiameterMM(n)
+		return Gauge{Label: awgLabelByDefinition(n), AWG: n, AreaMM2: math.Pi / 4 * d * d}, nil
+	}
+	metric := func(num string) (Gauge, error) {
+		area, err := strconv.ParseFloat(num, 64)
+		if err != nil {
+			return Gauge{}, fmt.Errorf("%w: %q is not a metric area; write e.g. \"0.75mm2\"", ErrUnknownGauge, label)
+		}
+		for _, size := range metricSizesMM2() {
+			if area == size {
+				return Gauge{Label: strconv.FormatFloat(size, 'f', -1, 64) + "mm2", Metric: true, AreaMM2: size}, nil
+			}
+		}
+		return Gauge{}, fmt.Errorf("%w: %q is not a standard metric size (accepted: %s mm2)", ErrUnknownGauge, label, formatSizes(metricSizesMM2()))
+	}
+	switch {
+	case s == "":
+		return Gauge{}, fmt.Errorf("%w: empty label; write e.g. \"18AWG\" or \"1.5mm2\"", ErrUnknownGauge)
+	case strings.HasSuffix(s, "awg"):
+		return awg(number("awg"))
+	case strings.HasSuffix(s, "mm2"):
+		return metric(number("mm2"))
+	case strings.HasSuffix(s, "mm²"):
+		return metric(number("mm²"))
+	}
+	return Gauge{}, fmt.Errorf("%w: %q has no unit; write \"NNAWG\" (30AWG to 4/0AWG) or a metric size like \"1.5mm2\"", ErrUnknownGauge, label)
+}
+
+func awgLabelByDefinition(n int) string {
+	if n <= 0 {
+		return fmt.Sprintf("%d/0AWG", 1-n)
+	}
+	return fmt.Sprintf("%dAWG", n)
+}
+
+// TestParseGaugeMatchesItsDefinition holds ParseGauge, which matches the
+// unit without lowering a copy of the label and builds labels from
+// constants, and CheckGauge, to the way ParseGauge was first written: the same gauge or the same
+// error for every accepted size in every case, and for labels that are
+// wrong in every way the first version told apart.
+func TestParseGaugeMatchesItsDefinition(t *testing.T) {
+	var labels []string
+	for n := largestAWG - 2; n <= smallestAWG+2; n++ {
+		l := awgLabelByDefinition(n)
+		num := strings.TrimSuffix(l, "AWG")
+		labels = append(labels, l, num+"awg", num+"Awg", num+"aWg", " "+num+" AWG ", "\t"+num+"AWG\n", num+"A WG", num+"AWG.")
+	}
+	for _, size := range append(metricSizesMM2(), 0.1, 3, 150) {
+		num := strconv.FormatFloat(size, 'f', -1, 64)
+		labels = append(labels, num+"mm2", num+"MM2", num+"mM2", num+" mm²", num+"MM²", num+"Mm²", num+"mm 2", num+"mm³",
+			num+"e0mm2", num+"E0mm2", "0"+num+"mm2", num+"0mm2")
+	}
+	labels = append(labels, "", " ", "AWG", "awg", "mm2", "0AWG", "00AWG", "000awg", "0000AWG", "00000AWG", "09AWG", "1/0 AWG",
+		"0/0AWG", "5/0AWG", "10/0AWG", "-1AWG", "+5AWG", "1e1AWG", "0x10AWG", "18ÅWG", "18AWG\x00", "\xffAWG", "18\xffAWG",
+		"1,5mm2", "İ18AWG", "18İAWG", "ı18awg", "K18AWG", "18\u212aAWG", "\u212a", "0X1P0mm2", "0x1p0mm2", "INFmm2", "infmm2",
+		"NaNmm2", "1.5mm\xb2", "1.5mm\xc2", "1.5 mm2 ", "\u00a018AWG\u00a0", "\u200918AWG", "18\u3000AWG", "mm²", "²")
+	for _, l := range labels {
+		got, gotErr := ParseGauge(l)
+		want, wantErr := parseGaugeByDefinition(l)
+		if got != want || fmt.Sprint(gotErr) != fmt.Sprint(wantErr) || (gotErr == nil) != (wantErr == nil) {
+			t.Errorf("ParseGauge(%q) = %+v, %v; first version: %+v, %v", l, got, gotErr, want, wantErr)
+		}
+		if checkErr := CheckGauge(l); fmt.Sprint(checkErr) != fmt.Sprint(wantErr) {
+			t.Errorf("CheckGauge(%q) = %v; ParseGauge's first version: %v", l, checkErr, wantErr)
+		}
+		if gotErr != nil && !errors.Is(gotErr, ErrUnknownGauge) {
+			t.Errorf("ParseGauge(%q): %v does not wrap ErrUnknownGauge", l, gotErr)
+		}
+	}
+	for n := largestAWG - 10; n <= smallestAWG+10; n++ {
+		if got, want := AWGLabel(n), awgLabelByDefinition(n); got != want {
+			t.Errorf("AWGLabel(%d) = %q, want %q", n, got, want)
+		}
+	}
+	for _, a := range append(metricSizesMM2(), 0.1, 3, 150, 1e-7, 2.25) {
+		if got, want := MetricGauge(a).Label, strconv.FormatFloat(a, 'f', -1, 64)+"mm2"; got != want {
+			t.Errorf("MetricGauge(%g).Label = %q, want %q", a, got, want)
+		}
+	}
+}
+
+// TestParseGaugeAllocatesNothing: validation parses every feed's gauge.
+func TestParseGaugeAllocatesNothing(t *testing.T) {
+	for _, l := range []string{"18AWG", "4/0awg", " 0.75 mm2 ", "1.5mm²"} {
+		if n := testing.AllocsPerRun(100, func() { _, _ = ParseGauge(l) }); n != 0 {
+			t.Errorf("ParseGauge(%q) allocates %v times", l, n)
+		}
+		if n := testing.AllocsPerRun(100, func() { _ = CheckGauge(l) }); n != 0 {
+			t.Errorf("CheckGauge(%q) allocates %v times", l, n)
+		}
+	}
 }
