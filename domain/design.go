@@ -481,14 +481,24 @@ func (d Design) Validate() error {
 	}
 	for i := range d.Nodes {
 		n := &d.Nodes[i]
-		ptr := nodePtr(i)
-		n.CheckValues(&p, ptr)
-		if n.ComponentID == nil {
-			n.CheckComplete(&p, ptr)
+		// A node is checked first without its pointer, which costs an
+		// allocation, and again with it only when it has a problem.
+		var quiet Problems
+		n.checkNode(&quiet, "")
+		if quiet.Len() > 0 {
+			n.checkNode(&p, nodePtr(i))
 		}
 	}
 	d.checkTree(&p)
 	return p.Err()
+}
+
+// checkNode is what Validate checks of one node.
+func (n *Node) checkNode(p *Problems, ptr string) {
+	n.CheckValues(p, ptr)
+	if n.ComponentID == nil {
+		n.CheckComplete(p, ptr)
+	}
 }
 
 func nodePtr(i int) string { return "/nodes/" + strconv.Itoa(i) }
@@ -845,7 +855,7 @@ func (f Feed) check(p *Problems, ptr string) {
 		w := f.Wire
 		if w.Gauge == "" {
 			p.Add(ptr+"/feed/wire/gauge", "is required, e.g. \"18AWG\" or \"0.75mm2\"")
-		} else if _, err := electric.ParseGauge(w.Gauge); err != nil {
+		} else if err := electric.CheckGauge(w.Gauge); err != nil {
 			p.Add(ptr+"/feed/wire/gauge", "%v", err)
 		}
 		if !(w.LengthM >= minLengthM && w.LengthM <= MaxWireLengthM) {
