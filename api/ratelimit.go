@@ -1,10 +1,12 @@
 package api
 
 import (
+	"fmt"
 	"math"
 	"net"
 	"net/http"
 	"net/netip"
+	"strings"
 	"sync"
 	"time"
 
@@ -100,10 +102,13 @@ func (l *clientLimiter) tracked() int {
 }
 
 // clientKey names the client behind a request by the address the
-// connection came from. Forwarding headers are ignored: anyone can write
-// them, and honouring them would let a client pick a fresh bucket per
-// request. IPv6 clients are keyed by their /64, the block one site gets.
-func clientKey(r *http.Request) string {
+// connection came from. IPv6 clients are keyed by their /64, the block one
+// site gets. X-Forwarded-For counts only when the connection comes from a
+// trusted proxy: anyone can write the header, and honouring it from
+// anyone would let a client pick a fresh bucket per request. Behind
+// trusted proxies, the client is the rightmost address in the header that
+// is not itself a trusted proxy.
+func clientKey(r *http.Request, trusted []netip.Prefix) string {
 	host, _, err := net.SplitHostPort(r.RemoteAddr)
 	if err != nil {
 		host = r.RemoteAddr
@@ -113,9 +118,65 @@ func clientKey(r *http.Request) string {
 		return host
 	}
 	addr = addr.Unmap()
+	if isTrusted(addr, trusted) {
+		addr = forwardedClient(r.Header.Values("X-Forwarded-For"), addr, trusted)
+	}
 	if addr.Is6() {
 		prefix, _ := addr.Prefix(64)
 		return prefix.String()
 	}
 	return addr.String()
+}
+
+// forwardedClient walks the X-Forwarded-For chain from the nearest hop
+// outwards and returns the first address no trusted proxy owns; a chain
+// that is malformed there, or all trusted, leaves the nearest known hop.
+func forwardedClient(headers []string, peer netip.Addr, trusted []netip.Prefix) netip.Addr {
+	client := peer
+	for i := len(headers) - 1; i >= 0; i-- {
+		hops := strings.Split(headers[i], ",")
+		for j := len(hops) - 1; j >= 0; j-- {
+			hop, err := netip.ParseAddr(strings.TrimSpace(hops[j]))
+			if err != nil {
+				return client
+			}
+			client = hop.Unmap()
+			if !isTrusted(client, trusted) {
+				return client
+			}
+		}
+	}
+	return client
+}
+
+func isTrusted(addr netip.Addr, trusted []netip.Prefix) bool {
+	for _, p := range trusted {
+		if p.Contains(addr) {
+			return true
+		}
+	}
+	return false
+}
+
+// ParseTrustedProxies reads a comma-separated list of addresses and CIDR
+// blocks, e.g. "127.0.0.1, 10.0.0.0/8".
+func ParseTrustedProxies(list string) ([]netip.Prefix, error) {
+	var out []netip.Prefix
+	for _, item := range strings.Split(list, ",") {
+		item = strings.TrimSpace(item)
+		if item == "" {
+			continue
+		}
+		if p, err := netip.ParsePrefix(item); err == nil {
+			out = append(out, p.Masked())
+			continue
+		}
+		a, err := netip.ParseAddr(item)
+		if err != nil {
+			return nil, fmt.Errorf("trusted proxy %q is neither an address nor a CIDR block", item)
+		}
+		a = a.Unmap()
+		out = append(out, netip.PrefixFrom(a, a.BitLen()))
+	}
+	return out, nil
 }

@@ -75,7 +75,7 @@ func (s *server) review(ctx context.Context, document []byte, v int) (review.Rep
 // be revoked, and scripts reviewing a folder of designs hold one.
 func (s *server) reviewDocument(c echo.Context) error {
 	if _, ok := c.Get(userKey).(domain.User); !ok {
-		if ok, wait := s.reviewLimiter.allow("addr:"+clientKey(c.Request()), time.Now()); !ok {
+		if ok, wait := s.reviewLimiter.allow("addr:"+clientKey(c.Request(), s.cfg.TrustedProxies), time.Now()); !ok {
 			return &problemError{kind: "rate-limited", retry: wait,
 				detail: fmt.Sprintf("too many reviews from this client; try again in %d s", wait)}
 		}

@@ -141,6 +141,23 @@ func TestAnonymousReviewRateLimit(t *testing.T) {
 	h.expect(h.callFrom("[2001:db8::3]:1000", http.MethodPost, "/v1/reviews", "", doc), http.StatusTooManyRequests, nil)
 }
 
+// Behind a trusted reverse proxy every request arrives from the proxy; the
+// limit follows the client the proxy names instead.
+func TestAnonymousReviewRateLimitBehindAProxy(t *testing.T) {
+	proxies, err := ParseTrustedProxies("10.0.0.2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	h := newDesignHarness(t, Config{ReviewsPerMinute: 1, ReviewBurst: 1, TrustedProxies: proxies})
+	doc := []byte(benchLampDesign)
+	h.expect(h.callFrom("10.0.0.2:1000", http.MethodPost, "/v1/reviews", "", doc, "X-Forwarded-For", "198.51.100.7"), http.StatusOK, nil)
+	h.expect(h.callFrom("10.0.0.2:1001", http.MethodPost, "/v1/reviews", "", doc, "X-Forwarded-For", "198.51.100.7"), http.StatusTooManyRequests, nil)
+	h.expect(h.callFrom("10.0.0.2:1002", http.MethodPost, "/v1/reviews", "", doc, "X-Forwarded-For", "198.51.100.8"), http.StatusOK, nil)
+	// A client cannot escape its bucket by writing the header itself: the
+	// proxy appends the address it saw, and that is the one counted.
+	h.expect(h.callFrom("10.0.0.2:1003", http.MethodPost, "/v1/reviews", "", doc, "X-Forwarded-For", "203.0.113.50, 198.51.100.7"), http.StatusTooManyRequests, nil)
+}
+
 func checkValue(t *testing.T, rep review.Report, check, node string) float64 {
 	t.Helper()
 	for _, c := range rep.Checks {

@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"log/slog"
 	"net/http"
+	"net/netip"
 	"time"
 
 	"github.com/labstack/echo/v4"
@@ -39,6 +40,9 @@ type Config struct {
 	// zero means 60 a minute in bursts of 20.
 	ReviewsPerMinute float64
 	ReviewBurst      int
+	// TrustedProxies are the reverse proxies whose X-Forwarded-For names
+	// the client for the rate limit; none by default.
+	TrustedProxies []netip.Prefix
 }
 
 // server holds the dependencies the handlers share.

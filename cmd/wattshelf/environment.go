@@ -16,7 +16,9 @@ const defaultDatabaseURL = "postgres://postgres@localhost:5432/wattshelf?sslmode
 type environment struct {
 	databaseURL string
 	publicURL   string
-	logLevel    slog.Level
+	// trustedProxies: WATTSHELF_TRUSTED_PROXIES, parsed by serve.
+	trustedProxies string
+	logLevel       slog.Level
 	// gcTuned: the operator set GOGC or GOMEMLIMIT, and serve leaves the
 	// collector as they said.
 	gcTuned bool
@@ -24,9 +26,10 @@ type environment struct {
 
 func newEnvironment(getenv func(string) string) environment {
 	env := environment{
-		databaseURL: getenv("DATABASE_URL"),
-		publicURL:   strings.TrimRight(getenv("WATTSHELF_PUBLIC_URL"), "/"),
-		gcTuned:     getenv("GOGC") != "" || getenv("GOMEMLIMIT") != "",
+		databaseURL:    getenv("DATABASE_URL"),
+		publicURL:      strings.TrimRight(getenv("WATTSHELF_PUBLIC_URL"), "/"),
+		trustedProxies: getenv("WATTSHELF_TRUSTED_PROXIES"),
+		gcTuned:        getenv("GOGC") != "" || getenv("GOMEMLIMIT") != "",
 	}
 	if env.databaseURL == "" {
 		env.databaseURL = defaultDatabaseURL

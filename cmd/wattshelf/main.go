@@ -56,6 +56,9 @@ Environment:
   DATABASE_URL          PostgreSQL URL (default ` + defaultDatabaseURL + `)
   WATTSHELF_PUBLIC_URL  address printed into QR codes and links (default: the request's own)
   WATTSHELF_LOG_LEVEL   debug, info, warn or error (default info)
+  WATTSHELF_TRUSTED_PROXIES
+                        reverse proxies whose X-Forwarded-For names the client
+                        (addresses or CIDR blocks, comma-separated; default none)
 `
 
 // run is the whole program, callable from tests: args exclude the program

@@ -99,6 +99,19 @@ func TestUsageErrors(t *testing.T) {
 	}
 }
 
+func TestServeRefusesBadTrustedProxies(t *testing.T) {
+	getenv := func(key string) string {
+		if key == "WATTSHELF_TRUSTED_PROXIES" {
+			return "127.0.0.1, proxy.lan"
+		}
+		return cliEnv("postgres://postgres@127.0.0.1:1/none?sslmode=disable&connect_timeout=1")(key)
+	}
+	_, _, err := runCLI(context.Background(), getenv, "serve")
+	if code := exitCode(err); code != 2 || !strings.Contains(err.Error(), `"proxy.lan"`) {
+		t.Errorf("serve with a bad proxy list: exit %d, %v; want 2 naming the bad entry", code, err)
+	}
+}
+
 func TestHelp(t *testing.T) {
 	for _, arg := range []string{"help", "-h", "--help"} {
 		stdout, _, err := runCLI(context.Background(), cliEnv(""), arg)

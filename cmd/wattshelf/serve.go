@@ -42,6 +42,10 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 		return &exitError{code: 2}
 	}
 	logger := env.logger(stderr)
+	proxies, err := api.ParseTrustedProxies(env.trustedProxies)
+	if err != nil {
+		return &exitError{code: 2, msg: "WATTSHELF_TRUSTED_PROXIES: " + err.Error()}
+	}
 	if !env.gcTuned {
 		debug.SetGCPercent(serveGCPercent)
 		debug.SetMemoryLimit(serveMemoryLimit)
@@ -73,6 +77,7 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	}
 	handler, err := api.New(api.Config{
 		Store: st, Tokens: tokens, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
+		TrustedProxies: proxies,
 	})
 	if err != nil {
 		return err
