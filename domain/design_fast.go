@@ -14,7 +14,12 @@ import (
 // strict path decodes the document again to describe every problem.
 // FuzzDecodeDesign holds the two paths to the same answers.
 func decodeDesignFast(data []byte) (Design, bool) {
-	f := fastDecoder{data: data}
+	// A node takes some 150 to 300 bytes written compactly, more indented:
+	// the length sizes the node list and the blocks its parts are handed
+	// out from. It only sizes them (a list grows past it), and it keeps
+	// what they take in proportion to the document.
+	hint := min(max(len(data)/bytesPerNode, 1), MaxDesignNodes+1)
+	f := fastDecoder{data: data, hint: hint}
 	var d Design
 	f.space()
 	if f.peek() != '{' || !f.design(&d) {
@@ -24,15 +29,46 @@ func decodeDesignFast(data []byte) (Design, bool) {
 	return d, f.pos == len(f.data)
 }
 
+// bytesPerNode is about the fewest bytes a node of a real design takes.
+const bytesPerNode = 160
+
 type fastDecoder struct {
-	data   []byte
-	pos    int
-	floats []float64 // backing store for the *float64 fields, filled in chunks
+	data []byte
+	pos  int
+	hint int // about how many nodes the document holds
+	// text is data as a string, made at the first string value: every
+	// plain string of the document is a slice of it, one allocation for
+	// all of them.
+	text string
+
+	// The parts a design points to are handed out from shared blocks, an
+	// allocation per block rather than per part.
+	floats blocks[float64]
+	ints   blocks[int]
+	ids    blocks[int64]
+	feeds  blocks[Feed]
+	wires  blocks[Wire]
+	fuses  blocks[Fuse]
+	conns  []Connector // every feed's connectors, each feed's a capped slice of it
 }
 
-// floatChunk is how many optional numbers share one allocation: a node
-// carries up to a dozen.
-const floatChunk = 512
+// blocks hands out zeroed elements of shared blocks. A full block is left
+// to the pointers into it and a new one started.
+type blocks[T any] struct{ block []T }
+
+func (b *blocks[T]) next(size int) *T {
+	if len(b.block) == cap(b.block) {
+		b.block = make([]T, 0, size)
+	}
+	b.block = b.block[:len(b.block)+1]
+	return &b.block[len(b.block)-1]
+}
+
+// blockSize is how many parts a block holds: about perNode for each node
+// the document seems to hold, within [1, most].
+func (f *fastDecoder) blockSize(perNode, most int) int {
+	return min(max(perNode*f.hint, 1), most)
+}
 
 func (f *fastDecoder) peek() byte {
 	if f.pos < len(f.data) {
@@ -191,7 +227,10 @@ func (f *fastDecoder) str(dst *string) bool {
 		return false
 	}
 	if plain {
-		*dst = string(raw)
+		if f.text == "" {
+			f.text = string(f.data)
+		}
+		*dst = f.text[start:end]
 		return true
 	}
 	s, ok := unescape(raw)
@@ -302,9 +341,48 @@ func (f *fastDecoder) float(dst *float64) bool {
 	if !ok {
 		return false
 	}
+	if v, ok := shortDecimal(text); ok {
+		*dst = v
+		return true
+	}
 	v, err := strconv.ParseFloat(string(text), 64)
 	*dst = v
 	return err == nil
+}
+
+// shortDecimal reads a JSON number of at most 15 digits and no exponent,
+// the way nearly every value of a design is written, as m / 10^k: both
+// are exact in a float64 and one division rounds correctly, so it gives
+// what ParseFloat gives (strconv takes the same shortcut, after reading
+// the text in a more general way).
+func shortDecimal(text []byte) (float64, bool) {
+	negative := len(text) > 0 && text[0] == '-'
+	if negative {
+		text = text[1:]
+	}
+	m, div, digits, fraction := uint64(0), uint64(1), 0, false
+	for _, c := range text {
+		switch {
+		case '0' <= c && c <= '9':
+			m = m*10 + uint64(c-'0')
+			digits++
+			if fraction {
+				div *= 10
+			}
+		case c == '.' && !fraction:
+			fraction = true
+		default:
+			return 0, false
+		}
+	}
+	if digits == 0 || digits > 15 {
+		return 0, false
+	}
+	v := float64(m) / float64(div)
+	if negative {
+		v = -v
+	}
+	return v, true
 }
 
 func (f *fastDecoder) optFloat(dst **float64) bool {
@@ -315,11 +393,9 @@ func (f *fastDecoder) optFloat(dst **float64) bool {
 	if !f.float(&v) {
 		return false
 	}
-	if len(f.floats) == cap(f.floats) {
-		f.floats = make([]float64, 0, floatChunk)
-	}
-	f.floats = append(f.floats, v)
-	*dst = &f.floats[len(f.floats)-1]
+	p := f.floats.next(f.blockSize(12, 512)) // a node carries up to a dozen
+	*p = v
+	*dst = p
 	return true
 }
 
@@ -354,7 +430,9 @@ func (f *fastDecoder) optInt(dst **int) bool {
 	if !f.integer(&v) {
 		return false
 	}
-	*dst = &v
+	p := f.ints.next(f.blockSize(2, 256))
+	*p = v
+	*dst = p
 	return true
 }
 
@@ -366,7 +444,9 @@ func (f *fastDecoder) optInt64(dst **int64) bool {
 	if !ok {
 		return false
 	}
-	*dst = &v
+	p := f.ids.next(f.blockSize(1, 256))
+	*p = v
+	*dst = p
 	return true
 }
 
@@ -391,7 +471,7 @@ func (f *fastDecoder) design(d *Design) bool {
 			if f.peek() == 'n' {
 				return f.null()
 			}
-			d.Nodes = make([]Node, 0, 16)
+			d.Nodes = make([]Node, 0, f.hint)
 			return f.elements(func() bool {
 				d.Nodes = append(d.Nodes, Node{})
 				return f.peek() == 'n' && f.null() || f.node(&d.Nodes[len(d.Nodes)-1])
@@ -420,7 +500,7 @@ func (f *fastDecoder) node(n *Node) bool {
 			if f.peek() == 'n' {
 				return f.null()
 			}
-			n.Feed = &Feed{}
+			n.Feed = f.feeds.next(f.blockSize(1, 256))
 			return f.feed(n.Feed)
 		case "chemistry":
 			return once(&seen, 5) && f.str(&n.Chemistry)
@@ -502,7 +582,7 @@ func (f *fastDecoder) feed(fd *Feed) bool {
 			if f.peek() == 'n' {
 				return f.null()
 			}
-			fd.Wire = &Wire{}
+			fd.Wire = f.wires.next(f.blockSize(1, 256))
 			return f.wire(fd.Wire)
 		case "fuse":
 			if !once(&seen, 2) {
@@ -511,7 +591,7 @@ func (f *fastDecoder) feed(fd *Feed) bool {
 			if f.peek() == 'n' {
 				return f.null()
 			}
-			fd.Fuse = &Fuse{}
+			fd.Fuse = f.fuses.next(f.blockSize(1, 64))
 			return f.fuse(fd.Fuse)
 		case "connectors":
 			if !once(&seen, 3) {
@@ -520,11 +600,25 @@ func (f *fastDecoder) feed(fd *Feed) bool {
 			if f.peek() == 'n' {
 				return f.null()
 			}
-			fd.Connectors = []Connector{}
-			return f.elements(func() bool {
-				fd.Connectors = append(fd.Connectors, Connector{})
-				return f.peek() == 'n' && f.null() || f.connector(&fd.Connectors[len(fd.Connectors)-1])
+			// A feed's connectors are parsed one after the other, so they
+			// lie together at the end of f.conns. When the block is full,
+			// the feed's so far move to a new one; earlier feeds keep theirs.
+			start := len(f.conns)
+			ok := f.elements(func() bool {
+				if len(f.conns) == cap(f.conns) {
+					run := f.conns[start:]
+					f.conns = append(make([]Connector, 0, max(2*len(run), f.blockSize(1, 64))), run...)
+					start = 0
+				}
+				f.conns = append(f.conns, Connector{})
+				return f.peek() == 'n' && f.null() || f.connector(&f.conns[len(f.conns)-1])
 			})
+			if end := len(f.conns); end > start {
+				fd.Connectors = f.conns[start:end:end]
+			} else {
+				fd.Connectors = []Connector{}
+			}
+			return ok
 		}
 		return false
 	})

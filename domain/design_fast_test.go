@@ -3,6 +3,8 @@ package domain
 import (
 	"bytes"
 	"io/fs"
+	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -220,4 +222,105 @@ func FuzzDecodeDesign(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
 		sameAsStrict(t, data)
 	})
+}
+
+// TestFastPathSharedBlocks covers the blocks the fast path hands parts out
+// from: designs whose feeds, fuses, wires and connectors outnumber the
+// nodes the document seems to hold (so blocks fill up, some in the middle
+// of a feed's connectors), each decoded as the strict path decodes it,
+// and no feed's connectors overlapping another's.
+func TestFastPathSharedBlocks(t *testing.T) {
+	for _, nodes := range []int{2, 3, 10, 65, 300} {
+		for _, perFeed := range []int{0, 1, 3, 7, 70} {
+			var b strings.Builder
+			b.WriteString(`{"format": 1, "name": "blocks", "nodes": [{"id": "pack", "type": "supply", "output_v": 12, "max_a": 5}`)
+			for i := 1; i < nodes; i++ {
+				b.WriteString(`, {"id": "l` + strconv.Itoa(i) + `", "type": "load", "current_a": 0.1, "series": 2, "feed": {"from": "pack",` +
+					` "wire": {"gauge": "20AWG", "length_m": 0.5, "bundled": 2}, "fuse": {"rating_a": 1, "voltage_rating_v": 32}, "connectors": [`)
+				for k := range (i * perFeed) % 11 {
+					if k > 0 {
+						b.WriteString(", ")
+					}
+					if k%4 == 3 {
+						b.WriteString("null")
+						continue
+					}
+					b.WriteString(`{"family": "f` + strconv.Itoa(i) + `", "rating_a": ` + strconv.Itoa(k+1) + `}`)
+				}
+				b.WriteString(`]}}`)
+			}
+			b.WriteString(`]}`)
+			data := []byte(b.String())
+			if _, ok := decodeDesignFast(data); !ok {
+				t.Fatalf("%d nodes, %d connectors a feed: the fast path gave up", nodes, perFeed)
+			}
+			sameAsStrict(t, data)
+			d, _ := DecodeDesign(data)
+			for i := range d.Nodes {
+				if fd := d.Nodes[i].Feed; fd != nil {
+					// Growing one feed's list must not write into another's.
+					fd.Connectors = append(fd.Connectors, Connector{Family: "added"})
+				}
+			}
+			for i := range d.Nodes {
+				fd := d.Nodes[i].Feed
+				if fd == nil {
+					continue
+				}
+				for k, c := range fd.Connectors[:len(fd.Connectors)-1] {
+					if c.Family != "" && c.Family != "f"+strconv.Itoa(i) {
+						t.Fatalf("%d nodes: connector %d of node %d is %q, another feed's", nodes, k, i, c.Family)
+					}
+				}
+			}
+		}
+	}
+}
+
+// TestShortDecimalMatchesParseFloat holds the fast path's reading of
+// short numbers to strconv's, bit for bit, on random decimals of every
+// length it takes and on the edges of what it takes.
+func TestShortDecimalMatchesParseFloat(t *testing.T) {
+	same := func(text string) {
+		t.Helper()
+		want, err := strconv.ParseFloat(text, 64)
+		got, ok := shortDecimal([]byte(text))
+		if !ok {
+			return // left to strconv
+		}
+		if err != nil || math.Float64bits(got) != math.Float64bits(want) {
+			t.Fatalf("shortDecimal(%q) = %v (%#x), ParseFloat %v (%#x), %v", text, got, math.Float64bits(got), want,
+				math.Float64bits(want), err)
+		}
+	}
+	rng := rand.New(rand.NewPCG(5, 6))
+	taken := 0
+	for range 300_000 {
+		whole := strconv.FormatUint(rng.Uint64N(uint64(math.Pow10(1+rng.IntN(9)))), 10)
+		text := whole
+		if rng.IntN(4) > 0 {
+			frac := strconv.FormatUint(rng.Uint64()%1_000_000_000_000_000, 10)
+			text += "." + frac[:1+rng.IntN(len(frac))]
+		}
+		if rng.IntN(3) == 0 {
+			text = "-" + text
+		}
+		if _, ok := shortDecimal([]byte(text)); ok {
+			taken++
+		}
+		same(text)
+	}
+	if taken < 100_000 {
+		t.Errorf("only %d of 300000 short decimals took the shortcut", taken)
+	}
+	for _, text := range []string{"0", "-0", "0.0", "-0.0", "1", "0.1", "0.3", "0.7", "2.5", "1.005", "999999999999999",
+		"99999999999999.9", "0.000000000000001", "9007199254740993", "123456789012345", "1234567890123456", "0.1234567890123456",
+		"1e3", "1E-3", "1.5e2", ".", "-", ""} {
+		same(text)
+	}
+	for _, text := range []string{"1234567890123456", "1e3", "-", "", "."} {
+		if _, ok := shortDecimal([]byte(text)); ok {
+			t.Errorf("shortDecimal took %q, which it should leave to strconv", text)
+		}
+	}
 }
