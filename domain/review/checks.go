@@ -237,15 +237,14 @@ func val(x float64) piece { return piece{number: x, isNum: true} }
 // use it: a 5,000-node design writes tens of thousands of them, fmt boxes
 // every argument, and a string apiece would be an allocation apiece.
 func (r *reviewer) say(parts ...piece) string {
-	b := r.text
 	for _, p := range parts {
 		if p.isNum {
-			b = appendNum(b, p.number)
+			var digits [32]byte
+			r.text.Write(appendNum(digits[:0], p.number))
 		} else {
-			b = append(b, p.text...)
+			r.text.WriteString(p.text)
 		}
 	}
-	r.text = b
 	return ""
 }
 
@@ -268,13 +267,13 @@ func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, msg func
 		}
 	}
 	c := conds[pick]
-	start := len(r.text)
+	start := r.text.Len()
 	if own := msg(c, passed); own != "" {
-		r.text = append(r.text, own...)
+		r.text.WriteString(own)
 	}
 	r.add(Check{Check: check, Node: nodeID, Pointer: ptr, Status: status, Value: c.value, Limit: c.limit,
 		Unit: c.unit, Basis: basis})
-	r.spans[len(r.checks)-1] = textSpan{int32(start), int32(len(r.text))}
+	r.spans[len(r.checks)-1] = textSpan{int32(start), int32(r.text.Len())}
 	r.buf = conds[:0]
 }
 
@@ -282,10 +281,11 @@ func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, msg func
 // means the check was added with its message.
 type textSpan struct{ start, end int32 }
 
-// finishMessages turns the review's text into one string and gives each
-// emitted check its part of it: one allocation for every message.
+// finishMessages gives each emitted check its part of the review's text,
+// which a strings.Builder turns into a string without copying it: one
+// allocation for every message.
 func (r *reviewer) finishMessages() {
-	all := string(r.text)
+	all := r.text.String()
 	for i, sp := range r.spans {
 		if sp.start >= 0 {
 			r.checks[i].Message = all[sp.start:sp.end]

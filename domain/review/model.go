@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"strconv"
+	"strings"
 
 	"wattshelf/domain"
 	"wattshelf/domain/electric"
@@ -42,8 +43,9 @@ type node struct {
 	mains     bool
 	mainsPart bool // its component came out of a mains-powered appliance
 
-	// battery
-	pack          electric.Pack
+	// battery; only a battery has a pack, and a node without one is
+	// smaller by it
+	pack          *electric.Pack
 	maxDischargeA float64
 
 	// supply, regulator
@@ -289,7 +291,7 @@ func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {
 		chem.NominalV = or(dn.CellNominalV, chem.NominalV)
 		chem.CutoffV = or(dn.CellCutoffV, chem.CutoffV)
 		chem.InternalOhm = or(dn.CellInternalOhm, chem.InternalOhm)
-		n.pack = electric.Pack{Chem: chem, Series: *dn.Series, Parallel: *dn.Parallel, CellCapacityAh: *dn.CellCapacityMAh / 1000}
+		n.pack = &electric.Pack{Chem: chem, Series: *dn.Series, Parallel: *dn.Parallel, CellCapacityAh: *dn.CellCapacityMAh / 1000}
 		// The node's cell values override the stored ones; together they
 		// must still describe a cell (cutoff below nominal, and so on).
 		addJoined(p, n.ptr, n.pack.Validate())
@@ -383,18 +385,22 @@ func (rc *ratingCache) ampacity(t electric.ConductorTable, g electric.Gauge, ins
 // feed its wire's ("/nodes/N/feed/wire", of which the node's and the
 // feed's are prefixes): all of them slices of one string.
 func nodePointers(doc domain.Design) []string {
-	var b []byte
+	// Written into a strings.Builder with room for the longest pointers a
+	// design can have, which becomes the string without a copy.
+	var b strings.Builder
+	b.Grow(len(doc.Nodes) * len("/nodes/0000/feed/wire"))
+	ptrs := make([]string, len(doc.Nodes))
 	ends := make([]int, len(doc.Nodes))
+	var digits [20]byte
 	for i, dn := range doc.Nodes {
-		b = append(b, "/nodes/"...)
-		b = strconv.AppendInt(b, int64(i), 10)
+		b.WriteString("/nodes/")
+		b.Write(strconv.AppendInt(digits[:0], int64(i), 10))
 		if dn.Feed != nil {
-			b = append(b, "/feed/wire"...)
+			b.WriteString("/feed/wire")
 		}
-		ends[i] = len(b)
+		ends[i] = b.Len()
 	}
-	all, start := string(b), 0
-	ptrs := make([]string, len(ends))
+	all, start := b.String(), 0
 	for i, end := range ends {
 		ptrs[i], start = all[start:end], end
 	}

@@ -6,6 +6,7 @@ import (
 	"math"
 	"slices"
 	"strconv"
+	"strings"
 
 	"wattshelf/domain"
 	"wattshelf/domain/electric"
@@ -19,8 +20,8 @@ type reviewer struct {
 	checks  []Check
 	spans   []textSpan // of each check's message in text
 	nums    numbers
-	buf     []cond // conditions of the check being built, reused
-	text    []byte // every message said so far, end to end
+	buf     []cond          // conditions of the check being built, reused
+	text    strings.Builder // every message said so far, end to end
 }
 
 // Rules is a limits set that passed Validate, with what every review
@@ -90,8 +91,8 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	t.solve()
 	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: &ru.basis,
 		// A node gets about four checks: its own, and its feed's.
-		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8),
-		text: make([]byte, 0, 320*len(nodes)+256)}
+		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
+	r.text.Grow(320*len(nodes) + 256)
 	rep := Report{
 		LimitsVersion: ru.version,
 		EngineVersion: EngineVersion,
@@ -102,15 +103,16 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	}
 	r.scope()
 
-	need := r.brownouts()
+	needs, slot := r.brownouts()
 	protAmp, protID := r.protectedConductors()
 	for i := range t.nodes {
 		n := &t.nodes[i]
 		switch n.kind {
 		case kindBattery:
-			run := r.runtime(n, need[i])
+			nd := &needs[slot[i]]
+			run := r.runtime(n, nd)
 			rep.Runtime = append(rep.Runtime, run)
-			r.sourceCurrent(n, need[i].criticalV, need[i].criticalID)
+			r.sourceCurrent(n, nd.criticalV, nd.criticalID)
 			if run.Hours != nil {
 				r.sourceRuntime(n, *run.Hours, doc.TargetRuntimeH, run.LimitedBy)
 			}
@@ -195,24 +197,46 @@ type loadNeed struct {
 }
 
 // brownouts reads each load's min_v back through its path to its battery.
-func (r *reviewer) brownouts() []need {
+// A battery's need is needs[slot[i]] for battery i; other nodes have slot
+// −1. Each battery's loads are a capped slice of one array, counted first.
+func (r *reviewer) brownouts() (needs []need, slot []int32) {
 	nodes := r.t.nodes
-	out := make([]need, len(nodes))
-	for i := range out {
-		out[i].brownoutV, out[i].criticalV = math.Inf(-1), math.Inf(-1)
+	slot = make([]int32, len(nodes))
+	batteries := 0
+	for i := range nodes {
+		slot[i] = -1
+		if nodes[i].kind == kindBattery {
+			slot[i] = int32(batteries)
+			batteries++
+		}
+	}
+	needs = make([]need, batteries)
+	asks := func(n *node) bool {
+		return (n.kind == kindMotor || n.kind == kindLoad) && n.hasMinV && n.minV > 0 && slot[n.root] >= 0
+	}
+	count := make([]int, batteries)
+	total := 0
+	for i := range nodes {
+		if n := &nodes[i]; asks(n) {
+			count[slot[n.root]]++
+			total++
+		}
+	}
+	all := make([]loadNeed, total)
+	for k := range needs {
+		nd := &needs[k]
+		nd.brownoutV, nd.criticalV = math.Inf(-1), math.Inf(-1)
+		nd.loads, all = all[:0:count[k]], all[count[k]:]
 	}
 	for i := range nodes {
 		n := &nodes[i]
-		if (n.kind != kindMotor && n.kind != kindLoad) || !n.hasMinV || n.minV <= 0 {
+		if !asks(n) {
 			continue
 		}
 		v := n.path.packVFor(n.minV)
-		nd := &out[n.root]
-		src := &nodes[n.root]
-		if src.kind == kindBattery {
-			nd.loads = append(nd.loads, loadNeed{n.id, v})
-		}
-		if src.kind == kindBattery && v > src.pack.FullV() {
+		nd := &needs[slot[n.root]]
+		nd.loads = append(nd.loads, loadNeed{n.id, v})
+		if v > nodes[n.root].pack.FullV() {
 			nd.never = append(nd.never, n.id)
 			continue
 		}
@@ -223,10 +247,10 @@ func (r *reviewer) brownouts() []need {
 			nd.criticalV, nd.criticalID = v, n.id
 		}
 	}
-	return out
+	return needs, slot
 }
 
-func (r *reviewer) runtime(n *node, nd need) RuntimeResult {
+func (r *reviewer) runtime(n *node, nd *need) RuntimeResult {
 	p := n.pack
 	share := 0.0
 	var limitedBy string
@@ -242,7 +266,7 @@ func (r *reviewer) runtime(n *node, nd need) RuntimeResult {
 		limitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
 	}
 	res := RuntimeResult{Source: n.id, UsableShare: clean(share), LimitedBy: limitedBy,
-		Pack: packFacts(p), Brownouts: brownoutList(p, nd.loads, &r.nums)}
+		Pack: packFacts(*p), Brownouts: brownoutList(*p, nd.loads, &r.nums)}
 	// A vanishing average current gives hours too large to print; the
 	// runtime is then simply not a concern and is left out.
 	if h := p.RuntimeH(n.avg, share); n.avg > 0 && !math.IsInf(h, 0) && !math.IsNaN(h) {
@@ -267,9 +291,9 @@ func packFacts(p electric.Pack) PackFacts {
 
 // brownoutList says, for each load that asks the pack for a voltage, when
 // it browns out: the first to go (the highest voltage) first, loads that
-// ask the same in design order.
+// ask the same in design order. It sorts loads in place.
 func brownoutList(p electric.Pack, loads []loadNeed, nums *numbers) []Brownout {
-	sorted := slices.Clone(loads)
+	sorted := loads
 	slices.SortStableFunc(sorted, func(a, b loadNeed) int { return cmp.Compare(b.packV, a.packV) })
 	out := make([]Brownout, len(sorted))
 	for k, l := range sorted {
