@@ -187,10 +187,14 @@ func roundSure(scaled float64) (uint64, bool) {
 
 // appendFixed writes n × 10^−decimals with that many decimals, or with the
 // trailing zeros of the fraction dropped when trim is set. The digits are
-// written from the right into a small array and appended at once: this
-// runs for nearly every number of a review and of its report.
+// written from the right, two at a time, into a small array appended at
+// once: this runs for nearly every number of a review and of its report.
 func appendFixed(b []byte, negative bool, n uint64, decimals int, trim bool) []byte {
 	if trim {
+		for decimals >= 4 && n%10000 == 0 {
+			n /= 10000
+			decimals -= 4
+		}
 		for decimals > 0 && n%10 == 0 {
 			n /= 10
 			decimals--
@@ -199,7 +203,14 @@ func appendFixed(b []byte, negative bool, n uint64, decimals int, trim bool) []b
 	var digits [48]byte // 20 digits, up to 19 leading zeros of a fraction, '.', '-'
 	i := len(digits)
 	if decimals > 0 {
-		for range decimals {
+		d := decimals
+		for ; d >= 2; d -= 2 {
+			q := n / 100
+			i -= 2
+			copy(digits[i:i+2], twoDigits[2*(n-100*q):])
+			n = q
+		}
+		if d == 1 {
 			i--
 			digits[i] = byte('0' + n%10)
 			n /= 10
@@ -207,13 +218,18 @@ func appendFixed(b []byte, negative bool, n uint64, decimals int, trim bool) []b
 		i--
 		digits[i] = '.'
 	}
-	for {
+	for n >= 100 {
+		q := n / 100
+		i -= 2
+		copy(digits[i:i+2], twoDigits[2*(n-100*q):])
+		n = q
+	}
+	if n >= 10 {
+		i -= 2
+		copy(digits[i:i+2], twoDigits[2*n:])
+	} else {
 		i--
-		digits[i] = byte('0' + n%10)
-		n /= 10
-		if n == 0 {
-			break
-		}
+		digits[i] = byte('0' + n)
 	}
 	if negative {
 		i--
@@ -221,6 +237,9 @@ func appendFixed(b []byte, negative bool, n uint64, decimals int, trim bool) []b
 	}
 	return append(b, digits[i:]...)
 }
+
+// twoDigits is "00" to "99", end to end.
+const twoDigits = "00010203040506070809101112131415161718192021222324252627282930313233343536373839404142434445464748495051525354555657585960616263646566676869707172737475767778798081828384858687888990919293949596979899"
 
 // piece is a part of a sentence: text, or a number printed as num does.
 type piece struct {
