@@ -256,14 +256,18 @@ func val(x float64) piece { return piece{number: x, isNum: true} }
 // use it: a 5,000-node design writes tens of thousands of them, fmt boxes
 // every argument, and a string apiece would be an allocation apiece.
 func (r *reviewer) say(parts ...piece) string {
+	// Built on the stack (a longer sentence moves to the heap) and
+	// written to the text in one piece.
+	var sentence [256]byte
+	b := sentence[:0]
 	for _, p := range parts {
 		if p.isNum {
-			var digits [32]byte
-			r.text.Write(appendNum(digits[:0], p.number))
+			b = appendNum(b, p.number)
 		} else {
-			r.text.WriteString(p.text)
+			b = append(b, p.text...)
 		}
 	}
+	r.text.Write(b)
 	return ""
 }
 
