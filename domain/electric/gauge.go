@@ -128,11 +128,17 @@ func awgIndex(num string) (int, bool) {
 	if num != "" && strings.Trim(num, "0") == "" && len(num) <= 4 {
 		return 1 - len(num), true // "0" is 1/0, "00" is 2/0 …
 	}
-	if num == "" || len(num) > 2 || num[0] == '0' || strings.Trim(num, "0123456789") != "" {
+	if num == "" || len(num) > 2 || num[0] == '0' {
 		return 0, false
 	}
-	k, err := strconv.Atoi(num)
-	return k, err == nil
+	k := 0
+	for i := range len(num) {
+		if num[i] < '0' || num[i] > '9' {
+			return 0, false
+		}
+		k = 10*k + int(num[i]-'0')
+	}
+	return k, true
 }
 
 // AWGGauge builds the gauge for a formula index without range checks;

@@ -198,7 +198,7 @@ func parseGaugeByDefinition(label string) (Gauge, error) {
 	s := strings.ToLower(strings.TrimSpace(label))
 	number := func(unit string) string { return strings.TrimSpace(strings.TrimSuffix(s, unit)) }
 	awg := func(num string) (Gauge, error) {
-		n, ok := awgIndex(num)
+		n, ok := awgIndexByDefinition(num)
 		if !ok {
 			return Gauge{}, fmt.Errorf("%w: %q is not an AWG number; write 30AWG to 1AWG, or 1/0AWG to 4/0AWG", ErrUnknownGauge, label)
 		}
@@ -231,6 +231,23 @@ func parseGaugeByDefinition(label string) (Gauge, error) {
 		return metric(number("mm²"))
 	}
 	return Gauge{}, fmt.Errorf("%w: %q has no unit; write \"NNAWG\" (30AWG to 4/0AWG) or a metric size like \"1.5mm2\"", ErrUnknownGauge, label)
+}
+
+func awgIndexByDefinition(num string) (int, bool) {
+	if top, ok := strings.CutSuffix(num, "/0"); ok {
+		if len(top) != 1 || top[0] < '1' || top[0] > '4' {
+			return 0, false
+		}
+		return 1 - int(top[0]-'0'), true
+	}
+	if num != "" && strings.Trim(num, "0") == "" && len(num) <= 4 {
+		return 1 - len(num), true
+	}
+	if num == "" || len(num) > 2 || num[0] == '0' || strings.Trim(num, "0123456789") != "" {
+		return 0, false
+	}
+	k, err := strconv.Atoi(num)
+	return k, err == nil
 }
 
 func awgLabelByDefinition(n int) string {
@@ -274,6 +291,22 @@ func TestParseGaugeMatchesItsDefinition(t *testing.T) {
 			t.Errorf("ParseGauge(%q): %v does not wrap ErrUnknownGauge", l, gotErr)
 		}
 	}
+	// Every number part of up to four characters made of digits, the
+	// bytes either side of them ("/" and ":"), signs, a space and a letter.
+	var parts func(prefix string, left int)
+	parts = func(prefix string, left int) {
+		gotN, gotOK := awgIndex(prefix)
+		wantN, wantOK := awgIndexByDefinition(prefix)
+		if gotN != wantN || gotOK != wantOK {
+			t.Errorf("awgIndex(%q) = %d, %t; first version %d, %t", prefix, gotN, gotOK, wantN, wantOK)
+		}
+		if left > 0 {
+			for _, c := range "0123456789/:x-+ " {
+				parts(prefix+string(c), left-1)
+			}
+		}
+	}
+	parts("", 4)
 	for n := largestAWG - 10; n <= smallestAWG+10; n++ {
 		if got, want := AWGLabel(n), awgLabelByDefinition(n); got != want {
 			t.Errorf("AWGLabel(%d) = %q, want %q", n, got, want)
