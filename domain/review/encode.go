@@ -14,16 +14,19 @@ import (
 // together, so a field added to a report type must be added here too.
 // Like Marshal it refuses NaN and ±Inf.
 func (rep *Report) AppendJSON(b []byte) ([]byte, error) {
-	e := reportEncoder{b: b}
-	e.report(rep)
+	var e reportEncoder
+	out := e.report(b, rep)
 	if e.bad {
 		return b, fmt.Errorf("encode report: a number is NaN or infinite")
 	}
-	return e.b, nil
+	return out, nil
 }
 
+// reportEncoder is what AppendJSON remembers while it writes. The output
+// itself is passed along and returned, not kept here: a slice stored
+// through a pointer costs a write barrier while the collector runs, and a
+// report is thousands of appends.
 type reportEncoder struct {
-	b   []byte
 	bad bool // a number JSON cannot hold was met
 	// Every check carries the basis of its kind: a few sentences, each
 	// written many times. Once escaped, a basis is copied from where it was
@@ -39,257 +42,270 @@ type written struct {
 }
 
 // repeated writes s, a string the report holds many times over.
-func (e *reportEncoder) repeated(s string) {
+func (e *reportEncoder) repeated(b []byte, s string) []byte {
 	for _, w := range e.bases[:e.nBases] {
 		if w.s == s {
-			e.b = append(e.b, e.b[w.start:w.end]...)
-			return
+			return append(b, b[w.start:w.end]...)
 		}
 	}
-	start := len(e.b)
-	e.str(s)
+	start := len(b)
+	b = e.str(b, s)
 	if e.nBases < len(e.bases) {
-		e.bases[e.nBases] = written{s, start, len(e.b)}
+		e.bases[e.nBases] = written{s, start, len(b)}
 		e.nBases++
 	}
+	return b
 }
 
-func (e *reportEncoder) report(rep *Report) {
-	e.b = append(e.b, `{"status":`...)
-	e.str(string(rep.Status))
-	e.b = append(e.b, `,"limits_version":`...)
-	e.b = strconv.AppendInt(e.b, int64(rep.LimitsVersion), 10)
-	e.b = append(e.b, `,"engine_version":`...)
-	e.str(rep.EngineVersion)
+func (e *reportEncoder) report(b []byte, rep *Report) []byte {
+	b = append(b, `{"status":`...)
+	b = e.str(b, string(rep.Status))
+	b = append(b, `,"limits_version":`...)
+	b = strconv.AppendInt(b, int64(rep.LimitsVersion), 10)
+	b = append(b, `,"engine_version":`...)
+	b = e.str(b, rep.EngineVersion)
 	c := rep.Counts
-	e.b = append(e.b, `,"counts":{"pass":`...)
-	e.b = strconv.AppendInt(e.b, int64(c.Pass), 10)
-	e.b = append(e.b, `,"warn":`...)
-	e.b = strconv.AppendInt(e.b, int64(c.Warn), 10)
-	e.b = append(e.b, `,"fail":`...)
-	e.b = strconv.AppendInt(e.b, int64(c.Fail), 10)
-	e.b = append(e.b, `,"out_of_scope":`...)
-	e.b = strconv.AppendInt(e.b, int64(c.OutOfScope), 10)
+	b = append(b, `,"counts":{"pass":`...)
+	b = strconv.AppendInt(b, int64(c.Pass), 10)
+	b = append(b, `,"warn":`...)
+	b = strconv.AppendInt(b, int64(c.Warn), 10)
+	b = append(b, `,"fail":`...)
+	b = strconv.AppendInt(b, int64(c.Fail), 10)
+	b = append(b, `,"out_of_scope":`...)
+	b = strconv.AppendInt(b, int64(c.OutOfScope), 10)
 
-	e.b = append(e.b, `},"checks":`...)
-	if e.null(rep.Checks == nil) {
-		e.b = append(e.b, '[')
+	b = append(b, `},"checks":`...)
+	if rep.Checks == nil {
+		b = append(b, "null"...)
+	} else {
+		b = append(b, '[')
 		for i := range rep.Checks {
-			e.comma(i)
-			e.check(&rep.Checks[i])
+			b = comma(b, i)
+			b = e.check(b, &rep.Checks[i])
 		}
-		e.b = append(e.b, ']')
+		b = append(b, ']')
 	}
-	e.b = append(e.b, `,"nodes":`...)
-	if e.null(rep.Nodes == nil) {
-		e.b = append(e.b, '[')
+	b = append(b, `,"nodes":`...)
+	if rep.Nodes == nil {
+		b = append(b, "null"...)
+	} else {
+		b = append(b, '[')
 		for i := range rep.Nodes {
-			e.comma(i)
-			e.node(&rep.Nodes[i])
+			b = comma(b, i)
+			b = e.node(b, &rep.Nodes[i])
 		}
-		e.b = append(e.b, ']')
+		b = append(b, ']')
 	}
-	e.b = append(e.b, `,"feeds":`...)
-	if e.null(rep.Feeds == nil) {
-		e.b = append(e.b, '[')
+	b = append(b, `,"feeds":`...)
+	if rep.Feeds == nil {
+		b = append(b, "null"...)
+	} else {
+		b = append(b, '[')
 		for i := range rep.Feeds {
-			e.comma(i)
-			e.feed(&rep.Feeds[i])
+			b = comma(b, i)
+			b = e.feed(b, &rep.Feeds[i])
 		}
-		e.b = append(e.b, ']')
+		b = append(b, ']')
 	}
-	e.b = append(e.b, `,"runtime":`...)
-	if e.null(rep.Runtime == nil) {
-		e.b = append(e.b, '[')
+	b = append(b, `,"runtime":`...)
+	if rep.Runtime == nil {
+		b = append(b, "null"...)
+	} else {
+		b = append(b, '[')
 		for i := range rep.Runtime {
-			e.comma(i)
-			e.runtime(&rep.Runtime[i])
+			b = comma(b, i)
+			b = e.runtime(b, &rep.Runtime[i])
 		}
-		e.b = append(e.b, ']')
+		b = append(b, ']')
 	}
-	e.b = append(e.b, `,"cautions":`...)
-	if e.null(rep.Cautions == nil) {
-		e.b = append(e.b, '[')
+	b = append(b, `,"cautions":`...)
+	if rep.Cautions == nil {
+		b = append(b, "null"...)
+	} else {
+		b = append(b, '[')
 		for i, s := range rep.Cautions {
-			e.comma(i)
-			e.str(s)
+			b = comma(b, i)
+			b = e.str(b, s)
 		}
-		e.b = append(e.b, ']')
+		b = append(b, ']')
 	}
-	e.b = append(e.b, '}')
+	b = append(b, '}')
+	return b
 }
 
-func (e *reportEncoder) check(c *Check) {
-	e.b = append(e.b, `{"check":`...)
-	e.str(c.Check)
-	e.b = append(e.b, `,"node":`...)
-	e.str(c.Node)
-	e.b = append(e.b, `,"pointer":`...)
-	e.str(c.Pointer)
-	e.b = append(e.b, `,"status":`...)
-	e.str(string(c.Status))
-	e.b = append(e.b, `,"value":`...)
-	e.num(c.Value)
-	e.b = append(e.b, `,"limit":`...)
-	e.num(c.Limit)
-	e.b = append(e.b, `,"unit":`...)
-	e.str(c.Unit)
-	e.b = append(e.b, `,"message":`...)
-	e.str(c.Message)
-	e.b = append(e.b, `,"basis":`...)
-	e.repeated(c.Basis)
-	e.b = append(e.b, '}')
+func (e *reportEncoder) check(b []byte, c *Check) []byte {
+	b = append(b, `{"check":`...)
+	b = e.str(b, c.Check)
+	b = append(b, `,"node":`...)
+	b = e.str(b, c.Node)
+	b = append(b, `,"pointer":`...)
+	b = e.str(b, c.Pointer)
+	b = append(b, `,"status":`...)
+	b = e.str(b, string(c.Status))
+	b = append(b, `,"value":`...)
+	b = e.num(b, c.Value)
+	b = append(b, `,"limit":`...)
+	b = e.num(b, c.Limit)
+	b = append(b, `,"unit":`...)
+	b = e.str(b, c.Unit)
+	b = append(b, `,"message":`...)
+	b = e.str(b, c.Message)
+	b = append(b, `,"basis":`...)
+	b = e.repeated(b, c.Basis)
+	b = append(b, '}')
+	return b
 }
 
-func (e *reportEncoder) node(n *NodeResult) {
-	e.b = append(e.b, `{"id":`...)
-	e.str(n.ID)
-	e.b = append(e.b, `,"type":`...)
-	e.str(n.Type)
+func (e *reportEncoder) node(b []byte, n *NodeResult) []byte {
+	b = append(b, `{"id":`...)
+	b = e.str(b, n.ID)
+	b = append(b, `,"type":`...)
+	b = e.str(b, n.Type)
 	if n.Parent != "" {
-		e.b = append(e.b, `,"parent":`...)
-		e.str(n.Parent)
+		b = append(b, `,"parent":`...)
+		b = e.str(b, n.Parent)
 	}
-	e.b = append(e.b, `,"v_low":`...)
-	e.num(n.VLow)
-	e.b = append(e.b, `,"v_nominal":`...)
-	e.num(n.VNominal)
-	e.b = append(e.b, `,"v_high":`...)
-	e.num(n.VHigh)
-	e.b = append(e.b, `,"run_a":`...)
-	e.num(n.RunA)
-	e.b = append(e.b, `,"peak_a":`...)
-	e.num(n.PeakA)
-	e.b = append(e.b, `,"avg_a":`...)
-	e.num(n.AvgA)
-	e.optNum(`,"out_v_low":`, n.OutVLow)
-	e.optNum(`,"out_v_nominal":`, n.OutVNominal)
-	e.optNum(`,"out_v_high":`, n.OutVHigh)
-	e.optNum(`,"dissipation_w":`, n.DissipationW)
-	e.optNum(`,"junction_c":`, n.JunctionC)
+	b = append(b, `,"v_low":`...)
+	b = e.num(b, n.VLow)
+	b = append(b, `,"v_nominal":`...)
+	b = e.num(b, n.VNominal)
+	b = append(b, `,"v_high":`...)
+	b = e.num(b, n.VHigh)
+	b = append(b, `,"run_a":`...)
+	b = e.num(b, n.RunA)
+	b = append(b, `,"peak_a":`...)
+	b = e.num(b, n.PeakA)
+	b = append(b, `,"avg_a":`...)
+	b = e.num(b, n.AvgA)
+	b = e.optNum(b, `,"out_v_low":`, n.OutVLow)
+	b = e.optNum(b, `,"out_v_nominal":`, n.OutVNominal)
+	b = e.optNum(b, `,"out_v_high":`, n.OutVHigh)
+	b = e.optNum(b, `,"dissipation_w":`, n.DissipationW)
+	b = e.optNum(b, `,"junction_c":`, n.JunctionC)
 	if n.Collapsed {
-		e.b = append(e.b, `,"collapsed":true`...)
+		b = append(b, `,"collapsed":true`...)
 	}
-	e.b = append(e.b, '}')
+	b = append(b, '}')
+	return b
 }
 
-func (e *reportEncoder) feed(f *FeedResult) {
-	e.b = append(e.b, `{"node":`...)
-	e.str(f.Node)
-	e.b = append(e.b, `,"from":`...)
-	e.str(f.From)
-	e.b = append(e.b, `,"gauge":`...)
-	e.str(f.Gauge)
-	e.b = append(e.b, `,"length_m":`...)
-	e.num(f.LengthM)
-	e.b = append(e.b, `,"resistance_ohm":`...)
-	e.num(f.ResistanceOhm)
-	e.b = append(e.b, `,"run_a":`...)
-	e.num(f.RunA)
-	e.b = append(e.b, `,"peak_a":`...)
-	e.num(f.PeakA)
-	e.b = append(e.b, `,"drop_v":`...)
-	e.num(f.DropV)
-	e.b = append(e.b, `,"drop_pct":`...)
-	e.num(f.DropPct)
-	e.b = append(e.b, `,"ampacity_a":`...)
-	e.num(f.AmpacityA)
-	e.optNum(`,"fuse_a":`, f.FuseA)
-	e.b = append(e.b, '}')
+func (e *reportEncoder) feed(b []byte, f *FeedResult) []byte {
+	b = append(b, `{"node":`...)
+	b = e.str(b, f.Node)
+	b = append(b, `,"from":`...)
+	b = e.str(b, f.From)
+	b = append(b, `,"gauge":`...)
+	b = e.str(b, f.Gauge)
+	b = append(b, `,"length_m":`...)
+	b = e.num(b, f.LengthM)
+	b = append(b, `,"resistance_ohm":`...)
+	b = e.num(b, f.ResistanceOhm)
+	b = append(b, `,"run_a":`...)
+	b = e.num(b, f.RunA)
+	b = append(b, `,"peak_a":`...)
+	b = e.num(b, f.PeakA)
+	b = append(b, `,"drop_v":`...)
+	b = e.num(b, f.DropV)
+	b = append(b, `,"drop_pct":`...)
+	b = e.num(b, f.DropPct)
+	b = append(b, `,"ampacity_a":`...)
+	b = e.num(b, f.AmpacityA)
+	b = e.optNum(b, `,"fuse_a":`, f.FuseA)
+	b = append(b, '}')
+	return b
 }
 
-func (e *reportEncoder) runtime(r *RuntimeResult) {
-	e.b = append(e.b, `{"source":`...)
-	e.str(r.Source)
-	e.b = append(e.b, `,"hours":`...)
-	if e.null(r.Hours == nil) {
-		e.num(*r.Hours)
+func (e *reportEncoder) runtime(b []byte, r *RuntimeResult) []byte {
+	b = append(b, `{"source":`...)
+	b = e.str(b, r.Source)
+	b = append(b, `,"hours":`...)
+	if r.Hours == nil {
+		b = append(b, "null"...)
+	} else {
+		b = e.num(b, *r.Hours)
 	}
-	e.b = append(e.b, `,"usable_share":`...)
-	e.num(r.UsableShare)
-	e.b = append(e.b, `,"limited_by":`...)
-	e.str(r.LimitedBy)
+	b = append(b, `,"usable_share":`...)
+	b = e.num(b, r.UsableShare)
+	b = append(b, `,"limited_by":`...)
+	b = e.str(b, r.LimitedBy)
 
 	p := &r.Pack
-	e.b = append(e.b, `,"pack":{"chemistry":`...)
-	e.str(p.Chemistry)
-	e.b = append(e.b, `,"series":`...)
-	e.b = strconv.AppendInt(e.b, int64(p.Series), 10)
-	e.b = append(e.b, `,"parallel":`...)
-	e.b = strconv.AppendInt(e.b, int64(p.Parallel), 10)
-	e.b = append(e.b, `,"capacity_ah":`...)
-	e.num(p.CapacityAh)
-	e.b = append(e.b, `,"full_v":`...)
-	e.num(p.FullV)
-	e.b = append(e.b, `,"nominal_v":`...)
-	e.num(p.NominalV)
-	e.b = append(e.b, `,"cutoff_v":`...)
-	e.num(p.CutoffV)
-	e.b = append(e.b, `,"full_soc":`...)
-	e.num(p.FullSOC)
-	e.b = append(e.b, `,"curve":`...)
-	if e.null(p.Curve == nil) {
-		e.b = append(e.b, '[')
+	b = append(b, `,"pack":{"chemistry":`...)
+	b = e.str(b, p.Chemistry)
+	b = append(b, `,"series":`...)
+	b = strconv.AppendInt(b, int64(p.Series), 10)
+	b = append(b, `,"parallel":`...)
+	b = strconv.AppendInt(b, int64(p.Parallel), 10)
+	b = append(b, `,"capacity_ah":`...)
+	b = e.num(b, p.CapacityAh)
+	b = append(b, `,"full_v":`...)
+	b = e.num(b, p.FullV)
+	b = append(b, `,"nominal_v":`...)
+	b = e.num(b, p.NominalV)
+	b = append(b, `,"cutoff_v":`...)
+	b = e.num(b, p.CutoffV)
+	b = append(b, `,"full_soc":`...)
+	b = e.num(b, p.FullSOC)
+	b = append(b, `,"curve":`...)
+	if p.Curve == nil {
+		b = append(b, "null"...)
+	} else {
+		b = append(b, '[')
 		for i, pt := range p.Curve {
-			e.comma(i)
-			e.b = append(e.b, `{"soc":`...)
-			e.num(pt.SOC)
-			e.b = append(e.b, `,"pack_v":`...)
-			e.num(pt.PackV)
-			e.b = append(e.b, '}')
+			b = comma(b, i)
+			b = append(b, `{"soc":`...)
+			b = e.num(b, pt.SOC)
+			b = append(b, `,"pack_v":`...)
+			b = e.num(b, pt.PackV)
+			b = append(b, '}')
 		}
-		e.b = append(e.b, ']')
+		b = append(b, ']')
 	}
-	e.b = append(e.b, `},"brownouts":`...)
-	if e.null(r.Brownouts == nil) {
-		e.b = append(e.b, '[')
+	b = append(b, `},"brownouts":`...)
+	if r.Brownouts == nil {
+		b = append(b, "null"...)
+	} else {
+		b = append(b, '[')
 		for i := range r.Brownouts {
 			bo := &r.Brownouts[i]
-			e.comma(i)
-			e.b = append(e.b, `{"node":`...)
-			e.str(bo.Node)
-			e.b = append(e.b, `,"outcome":`...)
-			e.str(bo.Outcome)
-			e.optNum(`,"pack_v":`, bo.PackV)
-			e.optNum(`,"soc":`, bo.SOC)
-			e.b = append(e.b, '}')
+			b = comma(b, i)
+			b = append(b, `{"node":`...)
+			b = e.str(b, bo.Node)
+			b = append(b, `,"outcome":`...)
+			b = e.str(b, bo.Outcome)
+			b = e.optNum(b, `,"pack_v":`, bo.PackV)
+			b = e.optNum(b, `,"soc":`, bo.SOC)
+			b = append(b, '}')
 		}
-		e.b = append(e.b, ']')
+		b = append(b, ']')
 	}
-	e.b = append(e.b, '}')
+	b = append(b, '}')
+	return b
 }
 
-// null writes null when isNil holds, and reports whether the caller
-// should write the value instead.
-func (e *reportEncoder) null(isNil bool) bool {
-	if isNil {
-		e.b = append(e.b, "null"...)
-	}
-	return !isNil
-}
-
-func (e *reportEncoder) comma(i int) {
+func comma(b []byte, i int) []byte {
 	if i > 0 {
-		e.b = append(e.b, ',')
+		b = append(b, ',')
 	}
+	return b
 }
 
 // optNum writes key and *x unless x is nil: an omitempty pointer.
-func (e *reportEncoder) optNum(key string, x *float64) {
+func (e *reportEncoder) optNum(b []byte, key string, x *float64) []byte {
 	if x != nil {
-		e.b = append(e.b, key...)
-		e.num(*x)
+		b = append(b, key...)
+		b = e.num(b, *x)
 	}
+	return b
 }
 
 // num writes a float64 as encoding/json does: the shortest decimal that
 // reads back the same, in exponent form below 1e-6 and from 1e21, with
 // the exponent unpadded.
-func (e *reportEncoder) num(x float64) {
+func (e *reportEncoder) num(b []byte, x float64) []byte {
 	if math.IsNaN(x) || math.IsInf(x, 0) {
 		e.bad = true
-		e.b = append(e.b, '0')
-		return
+		return append(b, '0')
 	}
 	abs := math.Abs(x)
 	// A number clean left at eight significant digits, k × 10^−q, reads
@@ -301,19 +317,18 @@ func (e *reportEncoder) num(x float64) {
 		q := 7 - decimalExponent(abs)
 		scale := powerOfTen(q)
 		if k := math.Round(abs * scale); k/scale == abs {
-			e.b = appendFixed(e.b, x < 0, uint64(k), q, true)
-			return
+			return appendFixed(b, x < 0, uint64(k), q, true)
 		}
 	}
 	if abs != 0 && (abs < 1e-6 || abs >= 1e21) {
-		e.b = strconv.AppendFloat(e.b, x, 'e', -1, 64)
-		if n := len(e.b); n >= 4 && e.b[n-4] == 'e' && e.b[n-3] == '-' && e.b[n-2] == '0' {
-			e.b[n-2] = e.b[n-1]
-			e.b = e.b[:n-1]
+		b = strconv.AppendFloat(b, x, 'e', -1, 64)
+		if n := len(b); n >= 4 && b[n-4] == 'e' && b[n-3] == '-' && b[n-2] == '0' {
+			b[n-2] = b[n-1]
+			b = b[:n-1]
 		}
-		return
+		return b
 	}
-	e.b = strconv.AppendFloat(e.b, x, 'f', -1, 64)
+	return strconv.AppendFloat(b, x, 'f', -1, 64)
 }
 
 // str writes a JSON string as encoding/json does with HTML escaping on:
@@ -321,8 +336,8 @@ func (e *reportEncoder) num(x float64) {
 // invalid UTF-8 as U+FFFD. Plain ASCII goes eight bytes at a time, then a
 // byte at a time through plainBytes to the end of the word; only what is
 // left is looked at as a rune.
-func (e *reportEncoder) str(s string) {
-	b := append(e.b, '"')
+func (e *reportEncoder) str(b []byte, s string) []byte {
+	b = append(b, '"')
 	start := 0
 	for i := 0; ; {
 		i = skipPlain(s, i)
@@ -360,7 +375,7 @@ func (e *reportEncoder) str(s string) {
 		start = i
 	}
 	b = append(b, s[start:]...)
-	e.b = append(b, '"')
+	return append(b, '"')
 }
 
 // plainBytes marks with '1' each byte str copies as it is: printable ASCII

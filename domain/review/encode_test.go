@@ -198,9 +198,9 @@ func TestStringEscapingMatchesEncodingJSON(t *testing.T) {
 					t.Fatal(err)
 				}
 				var e reportEncoder
-				e.str(s)
-				if !bytes.Equal(e.b, want) {
-					t.Fatalf("%q: got %s, want %s", s, e.b, want)
+				got := e.str(nil, s)
+				if !bytes.Equal(got, want) {
+					t.Fatalf("%q: got %s, want %s", s, got, want)
 				}
 			}
 		}
@@ -239,9 +239,9 @@ func TestPlainBytesMatchEncodingJSON(t *testing.T) {
 					t.Fatal(err)
 				}
 				var e reportEncoder
-				e.str(s)
-				if !bytes.Equal(e.b, want) {
-					t.Fatalf("%q: got %s, want %s", s, e.b, want)
+				got := e.str(nil, s)
+				if !bytes.Equal(got, want) {
+					t.Fatalf("%q: got %s, want %s", s, got, want)
 				}
 			}
 		}
@@ -305,9 +305,9 @@ func TestNumMatchesEncodingJSON(t *testing.T) {
 			t.Fatal(err)
 		}
 		var e reportEncoder
-		e.num(x)
-		if !bytes.Equal(e.b, want) {
-			t.Fatalf("num(%v) = %s, want %s", x, e.b, want)
+		got := e.num(nil, x)
+		if !bytes.Equal(got, want) {
+			t.Fatalf("num(%v) = %s, want %s", x, got, want)
 		}
 	}
 	rng := rand.New(rand.NewPCG(9, 10))
