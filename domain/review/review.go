@@ -7,6 +7,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 
 	"wattshelf/domain"
 	"wattshelf/domain/electric"
@@ -32,6 +33,7 @@ type Rules struct {
 	limits  Limits
 	version int
 	basis   bases
+	spare   sync.Pool // of *workspace
 }
 
 // Prepare validates a limits set stored as version and readies it for
@@ -83,7 +85,9 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	if doc.AmbientC != nil {
 		ambient = *doc.AmbientC
 	}
-	nodes, err := build(doc, limits, components, ambient)
+	ws := ru.workspace(len(doc.Nodes))
+	defer ru.release(ws)
+	nodes, err := build(ws, doc, limits, components, ambient)
 	if err != nil {
 		return Report{}, err
 	}
