@@ -297,7 +297,6 @@ func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, msg func
 	r.add(Check{Check: check, Node: nodeID, Pointer: ptr, Status: status, Value: c.value, Limit: c.limit,
 		Unit: c.unit, Basis: basis})
 	r.spans[len(r.checks)-1] = textSpan{int32(start), int32(r.text.Len())}
-	r.buf = conds[:0]
 }
 
 // textSpan is where a check's message lies in the review's text; start −1
@@ -340,7 +339,8 @@ func (r *reviewer) brownoutText(n *node, v float64) string {
 }
 
 func (r *reviewer) voltageRange(n *node) {
-	conds := r.buf[:0]
+	var room [6]cond // a check has at most five conditions: they stay on the stack
+	conds := room[:0]
 	if n.hasMaxV {
 		conds = append(conds, above("high", Fail, n.vHigh, n.maxV, "V"))
 	}
@@ -379,7 +379,8 @@ func (r *reviewer) voltageRange(n *node) {
 }
 
 func (r *reviewer) regulatorHeadroom(n *node) {
-	conds := r.buf[:0]
+	var room [6]cond // a check has at most five conditions: they stay on the stack
+	conds := room[:0]
 	if n.maxInputV > 0 {
 		conds = append(conds, above("overvoltage", Fail, n.vHigh, n.maxInputV, "V"))
 	}
@@ -437,8 +438,9 @@ func (r *reviewer) regulatorHeadroom(n *node) {
 }
 
 func (r *reviewer) regulatorCurrent(n *node) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	u := r.limits.utilisation()
-	conds := append(r.buf[:0],
+	conds := append(room[:0],
 		above("peak", Fail, n.outPeak, n.maxOutA, "A"),
 		above("run", Warn, n.outRun, u*n.maxOutA, "A"))
 	r.emit(CheckRegulatorCurrent, n.id, n.ptr, r.basis.rating, conds, func(c cond, passed bool) string {
@@ -462,9 +464,10 @@ func (r *reviewer) junction(n *node) (powerW, tjC float64) {
 }
 
 func (r *reviewer) regulatorThermal(n *node) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	powerW, tj := r.junction(n)
 	margin := r.limits.Policy.ThermalMarginC.Value
-	conds := append(r.buf[:0],
+	conds := append(room[:0],
 		atLeast("limit", Fail, tj, n.tjMaxC, "°C"),
 		atLeast("margin", Warn, tj, n.tjMaxC-margin, "°C"))
 	r.emit(CheckRegulatorThermal, n.id, n.ptr, r.basis.thermal, conds, func(c cond, passed bool) string {
@@ -482,8 +485,9 @@ func (r *reviewer) regulatorThermal(n *node) {
 }
 
 func (r *reviewer) driverChecks(n *node) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	u := r.limits.utilisation()
-	conds := append(r.buf[:0],
+	conds := append(room[:0],
 		above("over", Fail, n.vHigh, n.maxInputV, "V"),
 		above("near", Warn, n.vHigh, u*n.maxInputV, "V"))
 	r.emit(CheckDriverVoltage, n.id, n.ptr, r.basis.rating, conds, func(c cond, passed bool) string {
@@ -496,7 +500,7 @@ func (r *reviewer) driverChecks(n *node) {
 		return fmt.Sprintf("%s's input reaches %s V, over %s of its max_input_v of %s V: motor spikes can push it over.",
 			n.id, num(n.vHigh), pct(u), num(n.maxInputV))
 	})
-	conds = append(r.buf[:0], above("run", Fail, n.outRun, n.continuousA, "A"))
+	conds = append(room[:0], above("run", Fail, n.outRun, n.continuousA, "A"))
 	if n.peakRatingA > 0 {
 		conds = append(conds, above("peak", Fail, n.outPeak, n.peakRatingA, "A"))
 	}
@@ -524,11 +528,12 @@ func (r *reviewer) driverChecks(n *node) {
 }
 
 func (r *reviewer) sourceCurrent(n *node, criticalNeed float64, criticalID string) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	rating, ratingName := n.maxA, "max_a"
 	if n.kind == kindBattery {
 		rating, ratingName = n.maxDischargeA, "max_discharge_a"
 	}
-	conds := append(r.buf[:0],
+	conds := append(room[:0],
 		above("run", Fail, n.run, rating, "A"),
 		above("peak", Warn, n.peak, rating, "A"))
 	var sag float64
@@ -555,11 +560,12 @@ func (r *reviewer) sourceCurrent(n *node, criticalNeed float64, criticalID strin
 // sourceRuntime compares a battery's runtime with the design's target; a
 // design without one still gets the runtime stated, against a limit of 0.
 func (r *reviewer) sourceRuntime(n *node, hours float64, targetH *float64, limitedBy string) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	target := 0.0
 	if targetH != nil {
 		target = *targetH
 	}
-	conds := append(r.buf[:0], below("short", Warn, hours, target, "h"))
+	conds := append(room[:0], below("short", Warn, hours, target, "h"))
 	r.emit(CheckSourceRuntime, n.id, n.ptr, r.basis.runtime, conds, func(c cond, passed bool) string {
 		if targetH == nil {
 			return fmt.Sprintf("%s lasts about %s h at %s A average (limited by %s); the design sets no target_runtime_h.", n.id,
@@ -575,9 +581,10 @@ func (r *reviewer) sourceRuntime(n *node, hours float64, targetH *float64, limit
 }
 
 func (r *reviewer) wireAmpacity(n *node, ptr string) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	f := n.feed
 	u := r.limits.utilisation()
-	conds := append(r.buf[:0],
+	conds := append(room[:0],
 		above("over", Fail, n.run, f.ampacity, "A"),
 		above("near", Warn, n.run, u*f.ampacity, "A"))
 	r.emit(CheckWireAmpacity, n.id, ptr, r.basis.ampacity, conds, func(c cond, passed bool) string {
@@ -617,10 +624,11 @@ func (r *reviewer) dropPct(n *node) (dropV, share float64) {
 }
 
 func (r *reviewer) wireDrop(n *node, ptr string) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	dropV, share := r.dropPct(n)
 	lim := r.limits.VoltageDrop
 	base := r.dropBase(n)
-	conds := append(r.buf[:0], above("over", Fail, share, lim.NonCriticalPct.Value, "%"))
+	conds := append(room[:0], above("over", Fail, share, lim.NonCriticalPct.Value, "%"))
 	if n.critical {
 		conds = append(conds, above("critical", Warn, share, lim.CriticalPct.Value, "%"))
 	}
@@ -639,6 +647,7 @@ func (r *reviewer) wireDrop(n *node, ptr string) {
 }
 
 func (r *reviewer) fuseMissing(n *node, ptr string) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	src := &r.t.nodes[n.parent]
 	deliver, what := src.maxA, "its max_a"
 	if src.kind == kindBattery {
@@ -646,7 +655,7 @@ func (r *reviewer) fuseMissing(n *node, ptr string) {
 	}
 	f := n.feed
 	fused := f.fuse != nil
-	conds := append(r.buf[:0],
+	conds := append(room[:0],
 		flagged("burns", Fail, !fused && deliver > f.ampacity, deliver, f.ampacity, "A"),
 		flagged("advised", Warn, !fused, deliver, f.ampacity, "A"))
 	r.emit(CheckFuseMissing, n.id, ptr, r.basis.fuseMissing, conds, func(c cond, passed bool) string {
@@ -664,11 +673,12 @@ func (r *reviewer) fuseMissing(n *node, ptr string) {
 }
 
 func (r *reviewer) fuseRating(n *node, ptr string, protectedAmp float64, protectedID string) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	fu := n.feed.fuse
 	l := r.limits.Fuses
 	maxRating := l.MaxAmpacityMultiple.Value * protectedAmp
 	minRating := l.ContinuousLoadFactor.Value * n.run
-	conds := append(r.buf[:0], above("too big", Fail, fu.ratingA, maxRating, "A"))
+	conds := append(room[:0], above("too big", Fail, fu.ratingA, maxRating, "A"))
 	if fu.voltageV > 0 {
 		conds = append(conds, below("voltage", Fail, fu.voltageV, n.vHigh, "V"))
 	}
@@ -726,6 +736,7 @@ func (r *reviewer) fuseRating(n *node, ptr string, protectedAmp float64, protect
 }
 
 func (r *reviewer) fusePlacement(n *node, ptr string) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	fu := n.feed.fuse
 	l := r.limits.Fuses
 	limit := l.MaxDistanceM.Value
@@ -737,7 +748,7 @@ func (r *reviewer) fusePlacement(n *node, ptr string) {
 	if !fu.hasDist {
 		c = flagged("unknown", Warn, true, 0, limit, "m")
 	}
-	r.emit(CheckFusePlacement, n.id, ptr, r.basis.fusePlacement, append(r.buf[:0], c), func(c cond, passed bool) string {
+	r.emit(CheckFusePlacement, n.id, ptr, r.basis.fusePlacement, append(room[:0], c), func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The fuse on the feed to "), txt(n.id), txt(" sits "), val(fu.distanceM), txt(" m from "), txt(src),
@@ -752,8 +763,9 @@ func (r *reviewer) fusePlacement(n *node, ptr string) {
 }
 
 func (r *reviewer) connectorRating(n *node, ptr string, k int, c connector) {
+	var room [6]cond // a check has at most five conditions: they stay on the stack
 	u := r.limits.utilisation()
-	conds := append(r.buf[:0], above("current", Fail, n.run, c.ratingA, "A"))
+	conds := append(room[:0], above("current", Fail, n.run, c.ratingA, "A"))
 	if c.ratingV > 0 {
 		conds = append(conds, above("voltage", Fail, n.vHigh, c.ratingV, "V"))
 	}

@@ -21,7 +21,6 @@ type reviewer struct {
 	checks  []Check
 	spans   []textSpan // of each check's message in text
 	nums    numbers
-	buf     []cond          // conditions of the check being built, reused
 	text    strings.Builder // every message said so far, end to end
 }
 
