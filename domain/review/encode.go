@@ -33,6 +33,17 @@ type reportEncoder struct {
 	// first written.
 	bases  [16]written
 	nBases int
+	// A report holds the same numbers many times over (a 30-node one
+	// writes 679 numbers, 115 of them different): the last number written
+	// in each slot of a small table keyed by its bits is copied from where
+	// it was written instead of formatted again.
+	numbers [64]writtenNumber
+}
+
+// writtenNumber is a number and where its encoding lies in the output.
+type writtenNumber struct {
+	bits       uint64
+	start, end int32
 }
 
 // written is a string and where its encoding lies in the output.
@@ -307,6 +318,21 @@ func (e *reportEncoder) num(b []byte, x float64) []byte {
 		e.bad = true
 		return append(b, '0')
 	}
+	bits := math.Float64bits(x)
+	w := &e.numbers[(bits*0x9e3779b97f4a7c15)>>58]
+	if w.end > w.start && w.bits == bits {
+		return append(b, b[w.start:w.end]...)
+	}
+	start := len(b)
+	b = formatNumber(b, x)
+	if len(b) <= math.MaxInt32 {
+		*w = writtenNumber{bits, int32(start), int32(len(b))}
+	}
+	return b
+}
+
+// formatNumber writes a finite float64 as encoding/json does.
+func formatNumber(b []byte, x float64) []byte {
 	abs := math.Abs(x)
 	// A number clean left at eight significant digits, k × 10^−q, reads
 	// back from exactly those digits (q ≤ 22 makes 10^q exact, so clean's

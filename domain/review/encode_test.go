@@ -329,3 +329,39 @@ func TestNumMatchesEncodingJSON(t *testing.T) {
 		same(x)
 	}
 }
+
+// TestRepeatedNumbersMatchEncodingJSON writes long runs of numbers with
+// one encoder, which copies a number it has written before from the
+// output: values repeat, share table slots with others, and differ only
+// in sign (0 and −0 among them), and the run must be what encoding/json
+// writes for the same slice.
+func TestRepeatedNumbersMatchEncodingJSON(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 14))
+	pool := []float64{0, math.Copysign(0, -1), 1, -1, 0.1, 1e-7, 1e21, 5e-324, 12.345678}
+	for range 200 {
+		pool = append(pool, clean(math.Pow(10, -8+16*rng.Float64())))
+	}
+	for round := range 50 {
+		values := make([]float64, 2000)
+		for i := range values {
+			values[i] = pool[rng.IntN(len(pool))]
+			if rng.IntN(5) == 0 {
+				values[i] = -values[i]
+			}
+		}
+		want, err := json.Marshal(values)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var e reportEncoder
+		got := []byte("[")
+		for i, x := range values {
+			got = comma(got, i)
+			got = e.num(got, x)
+		}
+		got = append(got, ']')
+		if !bytes.Equal(got, want) {
+			t.Fatalf("round %d: a run of numbers differs from encoding/json's", round)
+		}
+	}
+}
