@@ -262,7 +262,7 @@ func (r *reviewer) say(parts ...piece) string {
 	b := sentence[:0]
 	for _, p := range parts {
 		if p.isNum {
-			b = appendNum(b, p.number)
+			b = r.said.appendNum(b, p.number)
 		} else {
 			b = append(b, p.text...)
 		}

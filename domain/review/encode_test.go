@@ -365,3 +365,27 @@ func TestRepeatedNumbersMatchEncodingJSON(t *testing.T) {
 		}
 	}
 }
+
+// TestSaidNumbersMatchAppendNum says long runs of repeated, colliding and
+// signed values through one saidNumbers, which copies what it wrote for a
+// value before, and compares them with appendNum's.
+func TestSaidNumbersMatchAppendNum(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15, 16))
+	pool := []float64{0, math.Copysign(0, -1), 1, -1, 9.995, 0.00012345, 1e15, 1e300, 5e-324}
+	for range 300 {
+		pool = append(pool, math.Pow(10, -7+20*rng.Float64()))
+	}
+	var said saidNumbers
+	var got, want []byte
+	for range 100_000 {
+		x := pool[rng.IntN(len(pool))]
+		if rng.IntN(4) == 0 {
+			x = -x
+		}
+		got = said.appendNum(append(got, ' '), x)
+		want = appendNum(append(want, ' '), x)
+	}
+	if !bytes.Equal(got, want) {
+		t.Fatal("numbers said through saidNumbers differ from appendNum's")
+	}
+}

@@ -3,6 +3,7 @@ package review
 import (
 	"errors"
 	"fmt"
+	"math"
 	"strconv"
 	"strings"
 
@@ -288,6 +289,33 @@ type workspace struct {
 	feeds []feed
 	index map[string]int
 	rc    ratingCache
+	said  saidNumbers
+}
+
+// saidNumbers remembers how appendNum wrote recent numbers, a slot per
+// value's bits: a review's sentences say the same few numbers over and
+// over. What a slot holds depends on nothing but the value, so it stays
+// right from one review to the next and is not cleared.
+type saidNumbers [64]struct {
+	bits uint64
+	n    uint8 // 0: empty
+	text [23]byte
+}
+
+// appendNum is appendNum, copying what it wrote for the same value before.
+func (s *saidNumbers) appendNum(b []byte, x float64) []byte {
+	bits := math.Float64bits(x)
+	slot := &s[(bits*0x9e3779b97f4a7c15)>>58]
+	if slot.n > 0 && slot.bits == bits {
+		return append(b, slot.text[:slot.n]...)
+	}
+	start := len(b)
+	b = appendNum(b, x)
+	if n := len(b) - start; n <= len(slot.text) {
+		slot.bits, slot.n = bits, uint8(n)
+		copy(slot.text[:], b[start:])
+	}
+	return b
 }
 
 // maxSpareNodes bounds the workspaces Rules keeps: one sized for a huge

@@ -22,6 +22,7 @@ type reviewer struct {
 	spans   []textSpan // of each check's message in text
 	nums    numbers
 	text    strings.Builder // every message said so far, end to end
+	said    *saidNumbers    // how numbers were written before
 }
 
 // Rules is a limits set that passed Validate, with what every review
@@ -92,7 +93,7 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	}
 	t := newTree(nodes)
 	t.solve()
-	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: &ru.basis,
+	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: &ru.basis, said: &ws.said,
 		// A node gets about four checks: its own, and its feed's.
 		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
 	r.text.Grow(320*len(nodes) + 256)
