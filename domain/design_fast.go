@@ -1,6 +1,7 @@
 package domain
 
 import (
+	"bytes"
 	"strconv"
 	"unicode/utf8"
 )
@@ -14,12 +15,13 @@ import (
 // strict path decodes the document again to describe every problem.
 // FuzzDecodeDesign holds the two paths to the same answers.
 func decodeDesignFast(data []byte) (Design, bool) {
-	// A node takes some 150 to 300 bytes written compactly, more indented:
-	// the length sizes the node list and the blocks its parts are handed
-	// out from. It only sizes them (a list grows past it), and it keeps
-	// what they take in proportion to the document.
-	hint := min(max(len(data)/bytesPerNode, 1), MaxDesignNodes+1)
-	f := fastDecoder{data: data, hint: hint}
+	// Every node has a "type": counting `ype"` (a rare byte first, so the
+	// count is quick) sizes the node list and the blocks its parts are
+	// handed out from. It only sizes them (a list grows past it), and no
+	// node is shorter than minNodeBytes, which keeps what they take in
+	// proportion to the document whatever it says.
+	hint := min(bytes.Count(data, []byte(`ype"`)), len(data)/minNodeBytes, MaxDesignNodes+1)
+	f := fastDecoder{data: data, hint: max(hint, 1)}
 	var d Design
 	f.space()
 	if f.peek() != '{' || !f.design(&d) {
@@ -29,8 +31,8 @@ func decodeDesignFast(data []byte) (Design, bool) {
 	return d, f.pos == len(f.data)
 }
 
-// bytesPerNode is about the fewest bytes a node of a real design takes.
-const bytesPerNode = 160
+// minNodeBytes is about the fewest bytes a node takes: {"id":"a","type":"load"}.
+const minNodeBytes = 24
 
 type fastDecoder struct {
 	data []byte
