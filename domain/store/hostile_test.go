@@ -9,10 +9,10 @@ import (
 	"wattshelf/domain/store/storetest"
 )
 
-// TestAddReviewRefusesAReportThatIsNotJSON relies on the report column's
-// json type, not on a scan in Go: a broken report is refused and leaves
-// neither a review nor its audit entry behind.
-func TestAddReviewRefusesAReportThatIsNotJSON(t *testing.T) {
+// TestAddReviewRefusesAReportThatIsNotAnObject: an empty, cut-off or
+// non-object report is refused and leaves neither a review nor its audit
+// entry behind.
+func TestAddReviewRefusesAReportThatIsNotAnObject(t *testing.T) {
 	ctx := context.Background()
 	s, dbURL := storetest.NewStore(t)
 	if _, err := s.EnsureDefaultLimits(ctx, []byte(`{}`), "test"); err != nil {
@@ -23,7 +23,7 @@ func TestAddReviewRefusesAReportThatIsNotJSON(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, report := range []string{`{"status": "pass"`, `not json`, ``} {
+	for _, report := range []string{`{"status": "pass"`, `not json`, ``, ` `, `{`, `[{"status": "pass"}]`} {
 		_, err := s.AddReview(ctx, ada, store.NewReview{DesignID: d.ID, Document: []byte(`{}`), Status: "pass",
 			LimitsVersion: 1, Report: []byte(report)})
 		if err == nil {

@@ -1,6 +1,7 @@
 package store
 
 import (
+	"bytes"
 	"context"
 	"crypto/rand"
 	"crypto/sha256"
@@ -90,9 +91,12 @@ func scanReview(row pgx.Row, extra ...any) (StoredReview, error) {
 // It is one statement, so one round trip: lock the design, insert the
 // review if actor may change the design, and write the audit row with it.
 // A single statement commits or fails whole, like the transaction it
-// replaces. The report column's json type refuses a report that is not
-// JSON, so there is no scan of it here, and nothing of it comes back.
+// replaces. The report is kept as the bytes the engine's encoder wrote
+// (migration 0009), and nothing of it comes back.
 func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) (StoredReview, error) {
+	if !wholeObject(in.Report) {
+		return StoredReview{}, fmt.Errorf("store review of design %d: the report is not a whole JSON object", in.DesignID)
+	}
 	shareID, err := newShareID()
 	if err != nil {
 		return StoredReview{}, err
@@ -102,9 +106,10 @@ func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) 
 	var owner string
 	var id *int64
 	var createdAt *time.Time
-	// Locking the design keeps it from being deleted under the insert.
+	// The key-share lock keeps the design from being deleted under the
+	// insert without making reviews of one design wait for each other.
 	err = s.pool.QueryRow(ctx, `WITH d AS (
-			SELECT id, name, owner FROM designs WHERE id = $1 FOR UPDATE
+			SELECT id, name, owner FROM designs WHERE id = $1 FOR KEY SHARE
 		), r AS (
 			INSERT INTO reviews (design_id, share_id, status, limits_version, document_sha256, document, report, created_by)
 			SELECT d.id, $2, $3, $4, $5, $6, $7, $8 FROM d WHERE $9 OR d.owner = $8
@@ -130,6 +135,15 @@ func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) 
 	}
 	r.ID, r.CreatedAt = *id, *createdAt
 	return r, nil
+}
+
+// wholeObject is a cheap guard against an empty or cut-off report: it
+// must open and close as an object. Parsing tens of kilobytes again would
+// cost more than the rest of storing it; the encoder that writes reports
+// is tested against encoding/json.
+func wholeObject(b []byte) bool {
+	b = bytes.TrimSpace(b)
+	return len(b) >= 2 && b[0] == '{' && b[len(b)-1] == '}'
 }
 
 // ReviewsOfDesign returns up to limit reviews of a design, newest first,
