@@ -475,7 +475,13 @@ func (f *fastDecoder) design(d *Design) bool {
 			}
 			d.Nodes = make([]Node, 0, f.hint)
 			return f.elements(func() bool {
-				d.Nodes = append(d.Nodes, Node{})
+				// Room past the length is zero, in a new array as in a
+				// grown one: taking it writes nothing.
+				if len(d.Nodes) < cap(d.Nodes) {
+					d.Nodes = d.Nodes[:len(d.Nodes)+1]
+				} else {
+					d.Nodes = append(d.Nodes, Node{})
+				}
 				return f.peek() == 'n' && f.null() || f.node(&d.Nodes[len(d.Nodes)-1])
 			})
 		}
