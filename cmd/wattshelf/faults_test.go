@@ -499,7 +499,7 @@ func TestSIGKILLMidWrites(t *testing.T) {
 		{"reviews without one create entry", `SELECT count(*) FROM reviews r WHERE (SELECT count(*) FROM audit a
 			WHERE a.action = 'review.create' AND a.detail->>'review' = r.id::text) <> 1`},
 		{"reviews whose report disagrees with the row", `SELECT count(*) FROM reviews
-			WHERE report->>'status' IS DISTINCT FROM status OR (report->>'limits_version')::int IS DISTINCT FROM limits_version`},
+			WHERE report::json->>'status' IS DISTINCT FROM status OR (report::json->>'limits_version')::int IS DISTINCT FROM limits_version`},
 		{"limits versions without one audit entry", `SELECT count(*) FROM limits l WHERE (SELECT count(*) FROM audit a
 			WHERE a.action IN ('limits.put', 'limits.seed') AND a.subject_id = l.version::text) <> 1`},
 		{"gaps in the limits versions", `SELECT max(version) - count(*) FROM limits`},
