@@ -26,12 +26,12 @@ type Store struct {
 }
 
 // DefaultMaxConns is the pool's size unless the URL sets pool_max_conns.
-// pgxpool's own default, one per core and at least 4, suits queries that
-// keep a core busy; a write here spends most of its time waiting for its
-// commit to reach the disk, and only writes in flight together share one
-// flush. With 4, writers queued for a connection for tens of milliseconds
-// under the load harness while the cores sat partly idle (issue 6).
-const DefaultMaxConns = 16
+// With pgxpool's own default (one per core, at least 4), stored reviews
+// under the load harness waited about 30 ms on average for a connection
+// while the cores were not fully busy. With 16, more backends competed for
+// the cores and the latency tail grew; 8 gave the shortest p99 in the
+// harness's runs on the 2-core build machine (issue 6).
+const DefaultMaxConns = 8
 
 // Open connects a pool to databaseURL and checks that it answers.
 func Open(ctx context.Context, databaseURL string) (*Store, error) {
