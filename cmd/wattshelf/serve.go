@@ -66,7 +66,7 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	go func() {
 		defer close(listened)
 		_ = tokens.Listen(listenCtx, time.Second, func(err error) {
-			logger.Warn("token cache off until the database answers again", "err", err)
+			logger.Warn("token cache off: its listening connection is gone; every token goes to the database until it is back", "err", err)
 		})
 	}()
 	defer func() { stopListening(); <-listened }()
