@@ -216,6 +216,9 @@ type loadRoute struct {
 	name  string
 	floor string // "HTTP" or "DB": the floor this route is compared with
 	do    func(ctx context.Context, c *loadClient, n int) (int, error)
+	// partOf names the route a mixed phase's request n of client c
+	// went to, so its latencies can be told apart; nil elsewhere.
+	partOf func(c *loadClient, n int) string
 }
 
 // phaseResult is what one route measured.
@@ -228,6 +231,14 @@ type phaseResult struct {
 	other      int // answers that are neither the expected success nor 5xx
 	transport  int // requests that got no answer
 	firstError string
+	parts      []partResult // a mixed phase's latencies by route
+}
+
+// partResult is what one route measured inside the mixed phase.
+type partResult struct {
+	name     string
+	requests int
+	p50, p99 time.Duration
 }
 
 func (r phaseResult) throughput() float64 {
@@ -471,9 +482,12 @@ func selectRoutes(routes []loadRoute, only string) []loadRoute {
 
 // mixedRoute sends every route in turn, each client starting at its own.
 func mixedRoute(routes []loadRoute) loadRoute {
-	return loadRoute{name: "mixed, all of the above", do: func(ctx context.Context, c *loadClient, n int) (int, error) {
-		return routes[(c.id+n)%len(routes)].do(ctx, c, n)
-	}}
+	return loadRoute{name: "mixed, all of the above",
+		do: func(ctx context.Context, c *loadClient, n int) (int, error) {
+			return routes[(c.id+n)%len(routes)].do(ctx, c, n)
+		},
+		partOf: func(c *loadClient, n int) string { return routes[(c.id+n)%len(routes)].name },
+	}
 }
 
 // runPhase runs one route with every client until the request budget or
@@ -487,6 +501,7 @@ func runPhase(ctx context.Context, cfg loadConfig, clients []*loadClient, route 
 		wg      sync.WaitGroup
 		res     = phaseResult{route: route}
 		timings []time.Duration
+		byPart  = map[string][]time.Duration{}
 	)
 	budget.Store(int64(cfg.requests))
 	// Reads and inline reviews answer 200, creates 201.
@@ -497,6 +512,7 @@ func runPhase(ctx context.Context, cfg loadConfig, clients []*loadClient, route 
 		go func() {
 			defer wg.Done()
 			local := make([]time.Duration, 0, cfg.requests/len(clients)+1)
+			localParts := map[string][]time.Duration{}
 			var fiveXX, other, transport int
 			var firstErr string
 			for n := 0; budget.Add(-1) >= 0 && ctx.Err() == nil; n++ {
@@ -507,6 +523,10 @@ func runPhase(ctx context.Context, cfg loadConfig, clients []*loadClient, route 
 					break // the phase's time ran out mid-request: not a failure
 				}
 				local = append(local, took)
+				if route.partOf != nil {
+					part := route.partOf(c, n)
+					localParts[part] = append(localParts[part], took)
+				}
 				switch {
 				case err != nil && status == 0:
 					transport++
@@ -521,6 +541,9 @@ func runPhase(ctx context.Context, cfg loadConfig, clients []*loadClient, route 
 			}
 			mu.Lock()
 			timings = append(timings, local...)
+			for part, d := range localParts {
+				byPart[part] = append(byPart[part], d...)
+			}
 			res.fiveXX += fiveXX
 			res.other += other
 			res.transport += transport
@@ -535,6 +558,12 @@ func runPhase(ctx context.Context, cfg loadConfig, clients []*loadClient, route 
 	res.requests = len(timings)
 	slices.Sort(timings)
 	res.p50, res.p99 = percentile(timings, 0.50), percentile(timings, 0.99)
+	for part, d := range byPart {
+		slices.Sort(d)
+		res.parts = append(res.parts, partResult{name: part, requests: len(d),
+			p50: percentile(d, 0.50), p99: percentile(d, 0.99)})
+	}
+	slices.SortFunc(res.parts, func(a, b partResult) int { return strings.Compare(a.name, b.name) })
 	return res
 }
 
@@ -726,6 +755,11 @@ func (r *loadReport) print(w io.Writer, cfg loadConfig) {
 		}
 		fmt.Fprintf(tw, "%s\t%d\t%.0f\t%.2f\t%.2f\t%d\t%d\t%s\t%s\t%s\t\n", p.route.name, p.requests, p.throughput(),
 			ms(p.p50), ms(p.p99), p.fiveXX, p.other+p.transport, floorName, ratio, target)
+		// Within the mixed phase the routes share the time, so each
+		// shows its latencies, not a throughput of its own.
+		for _, part := range p.parts {
+			fmt.Fprintf(tw, "in mixed: %s\t%d\t\t%.2f\t%.2f\t\t\t\t\t\t\n", part.name, part.requests, ms(part.p50), ms(part.p99))
+		}
 	}
 	tw.Flush()
 	fmt.Fprintln(w)

@@ -235,9 +235,27 @@ func TestLoadRunsEveryRouteAgainstAServer(t *testing.T) {
 	if report.acked < 40 || report.lost != 0 {
 		t.Errorf("%d acknowledged creates, %d lost (%s)", report.acked, report.lost, report.lostDetail)
 	}
+	// The mixed phase accounts for each of its requests under the route
+	// it went to: 40 requests over 6 routes.
+	mixed := report.phases[len(report.phases)-1]
+	if len(mixed.parts) != 6 {
+		t.Fatalf("mixed phase split into %d routes, want 6: %+v", len(mixed.parts), mixed.parts)
+	}
+	total := 0
+	for _, part := range mixed.parts {
+		total += part.requests
+		if part.requests == 0 || part.p50 <= 0 || part.p99 < part.p50 {
+			t.Errorf("mixed part %s: %d requests, p50 %v, p99 %v", part.name, part.requests, part.p50, part.p99)
+		}
+	}
+	if total != mixed.requests {
+		t.Errorf("mixed parts hold %d requests, the phase %d", total, mixed.requests)
+	}
 	var out bytes.Buffer
 	report.print(&out, cfg)
-	if !strings.Contains(out.String(), "lost writes: 0 of ") || !strings.Contains(out.String(), "POST /v1/designs/{id}/reviews") {
-		t.Errorf("printed report:\n%s", out.String())
+	for _, want := range []string{"lost writes: 0 of ", "POST /v1/designs/{id}/reviews", "in mixed: POST /v1/reviews (30 nodes)"} {
+		if !strings.Contains(out.String(), want) {
+			t.Errorf("printed report lacks %q:\n%s", want, out.String())
+		}
 	}
 }
