@@ -106,12 +106,6 @@ func EnsureDatabase(ctx context.Context, databaseURL string) error {
 	return nil
 }
 
-// isUniqueViolation reports a unique constraint failure.
-func isUniqueViolation(err error) bool {
-	var pgErr *pgconn.PgError
-	return errors.As(err, &pgErr) && pgErr.Code == "23505"
-}
-
 // notFound turns pgx's no-rows into the domain's not-found.
 func notFound(err error, what string) error {
 	if errors.Is(err, pgx.ErrNoRows) {
