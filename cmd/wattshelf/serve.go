@@ -134,6 +134,17 @@ func registerTokenCacheMetrics(reg prometheus.Registerer, tokens *store.TokenCac
 			return fmt.Errorf("register %s: %w", m.name, err)
 		}
 	}
+	listening := prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: "wattshelf_token_cache_listening",
+		Help: "1 while the server listens for token changes and so may remember checked tokens, else 0."},
+		func() float64 {
+			if tokens.Listening() {
+				return 1
+			}
+			return 0
+		})
+	if err := reg.Register(listening); err != nil {
+		return fmt.Errorf("register wattshelf_token_cache_listening: %w", err)
+	}
 	return nil
 }
 

@@ -135,6 +135,28 @@ func TestServeStartsAnswersAndStops(t *testing.T) {
 	if code, body := s.get(t, "/v1/components", token); code != http.StatusOK {
 		t.Errorf("component list with a fresh token: %d %s", code, body)
 	}
+	// Once the server listens for token changes, a token checked once is
+	// remembered.
+	for deadline := time.Now().Add(5 * time.Second); ; time.Sleep(5 * time.Millisecond) {
+		if _, body := s.get(t, "/metrics", ""); strings.Contains(string(body), "wattshelf_token_cache_listening 1") {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatal("the server did not start listening for token changes within 5 s")
+		}
+	}
+	for range 2 {
+		if code, body := s.get(t, "/v1/components", token); code != http.StatusOK {
+			t.Errorf("component list with a fresh token: %d %s", code, body)
+		}
+	}
+	// The use before the server listened may or may not have been
+	// remembered; the second of these two was.
+	if _, body := s.get(t, "/metrics", ""); !strings.Contains(string(body), "wattshelf_token_checks_remembered_total ") ||
+		strings.Contains(string(body), "wattshelf_token_checks_remembered_total 0\n") {
+		t.Errorf("after two uses of a checked token, metrics count no remembered check:\n%s",
+			grepLines(string(body), "wattshelf_token"))
+	}
 	if _, _, err := runCLI(ctx, getenv, "token", "revoke", "ada"); err != nil {
 		t.Fatal(err)
 	}
@@ -308,4 +330,15 @@ func TestServeFinishesInFlightRequests(t *testing.T) {
 	if err := s.shutdown(t); err != nil {
 		t.Errorf("run returned %v, want nil", err)
 	}
+}
+
+// grepLines keeps the lines of text that contain substr.
+func grepLines(text, substr string) string {
+	var keep []string
+	for line := range strings.Lines(text) {
+		if strings.Contains(line, substr) {
+			keep = append(keep, line)
+		}
+	}
+	return strings.Join(keep, "")
 }
