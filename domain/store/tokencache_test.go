@@ -151,10 +151,13 @@ func TestTokenCacheForgetsAfterItsTTL(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	cache := listeningCache(t, st, 50*time.Millisecond)
+	// A second is long enough that the first two checks fall inside it
+	// even on a slow, busy test machine.
+	const ttl = time.Second
+	cache := listeningCache(t, st, ttl)
 	authenticateOK(t, cache, secret, "di")
 	authenticateOK(t, cache, secret, "di")
-	time.Sleep(60 * time.Millisecond)
+	time.Sleep(ttl + 50*time.Millisecond)
 	authenticateOK(t, cache, secret, "di")
 	if hits, misses := cache.Stats(); hits != 1 || misses != 2 {
 		t.Errorf("%d remembered, %d asked; want 1 and 2 (the third check is past the TTL)", hits, misses)
