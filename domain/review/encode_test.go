@@ -190,18 +190,25 @@ func TestStringEscapingMatchesEncodingJSON(t *testing.T) {
 	specials := []string{"\x00", "\x1f", "\t", "\n", `"`, `\`, "<", ">", "&", "\x7f", "é", "–", "\u2028", "\u2029",
 		"😀", "\xff", "\xe2\x80", "\xe2\x80\xa8"[:2], "~", " "}
 	for _, sp := range specials {
-		for pre := 0; pre <= 17; pre++ {
-			for _, post := range []int{0, 1, 7, 8, 9} {
-				s := strings.Repeat("a", pre) + sp + strings.Repeat("b", post)
-				want, err := json.Marshal(s)
-				if err != nil {
-					t.Fatal(err)
-				}
-				var e reportEncoder
-				got := e.str(nil, s)
-				if !bytes.Equal(got, want) {
-					t.Fatalf("%q: got %s, want %s", s, got, want)
-				}
+		strMatchesMarshalAround(t, sp)
+	}
+}
+
+// strMatchesMarshalAround writes piece with str at every place in and
+// around an eight-byte word and compares it with encoding/json.
+func strMatchesMarshalAround(t *testing.T, piece string) {
+	t.Helper()
+	for pre := range 18 {
+		for _, post := range []int{0, 1, 7, 8, 9} {
+			s := strings.Repeat("a", pre) + piece + strings.Repeat("b", post)
+			want, err := json.Marshal(s)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var e reportEncoder
+			got := e.str(nil, s)
+			if !bytes.Equal(got, want) {
+				t.Fatalf("%q: got %s, want %s", s, got, want)
 			}
 		}
 	}
@@ -231,20 +238,7 @@ func TestPlainBytesMatchEncodingJSON(t *testing.T) {
 				t.Errorf("byte %#02x at %d of the second word: skipPlain stops at %d, want %d", c, at, stop, wantStop)
 			}
 		}
-		for pre := range 18 {
-			for _, post := range []int{0, 1, 7, 8, 9} {
-				s := strings.Repeat("a", pre) + one + strings.Repeat("b", post)
-				want, err := json.Marshal(s)
-				if err != nil {
-					t.Fatal(err)
-				}
-				var e reportEncoder
-				got := e.str(nil, s)
-				if !bytes.Equal(got, want) {
-					t.Fatalf("%q: got %s, want %s", s, got, want)
-				}
-			}
-		}
+		strMatchesMarshalAround(t, one)
 	}
 }
 
