@@ -59,7 +59,7 @@ func NewTokenCache(s *Store, ttl time.Duration) *TokenCache {
 // Authenticate finds the user behind a live token, from memory when it
 // can.
 func (c *TokenCache) Authenticate(ctx context.Context, secret string) (domain.User, error) {
-	key := sha256.Sum256([]byte(secret))
+	key := sha256.Sum256([]byte(secret)) // the digest the store keeps
 	now := time.Now()
 	c.mu.Lock()
 	if c.listening {
@@ -73,7 +73,7 @@ func (c *TokenCache) Authenticate(ctx context.Context, secret string) (domain.Us
 	c.mu.Unlock()
 	c.misses.Add(1)
 
-	u, err := c.store.Authenticate(ctx, secret)
+	u, err := c.store.authenticateDigest(ctx, key[:])
 	if err != nil {
 		return u, err
 	}
@@ -120,9 +120,20 @@ func (c *TokenCache) Listening() bool {
 func (c *TokenCache) setListening(on bool) {
 	c.mu.Lock()
 	c.listening = on
+	c.forgetLocked()
+	c.mu.Unlock()
+}
+
+// forget drops every remembered token, as any notification asks.
+func (c *TokenCache) forget() {
+	c.mu.Lock()
+	c.forgetLocked()
+	c.mu.Unlock()
+}
+
+func (c *TokenCache) forgetLocked() {
 	c.generation++
 	clear(c.entries)
-	c.mu.Unlock()
 }
 
 // Listen holds LISTEN on the token-change channel until ctx ends, taking
@@ -170,7 +181,7 @@ func (c *TokenCache) listenOnce(ctx context.Context) error {
 		case err == nil:
 			// Any change may concern any remembered token; they are
 			// few and cheap to check again.
-			c.setListening(true)
+			c.forget()
 		case ctx.Err() != nil:
 			return ctx.Err()
 		case errors.Is(err, context.DeadlineExceeded) || pgconn.Timeout(err):

@@ -66,7 +66,11 @@ func (s *Store) CreateToken(ctx context.Context, actor, name string, role domain
 
 // Authenticate finds the live token matching secret and marks it used.
 func (s *Store) Authenticate(ctx context.Context, secret string) (domain.User, error) {
-	want := digestToken(secret)
+	return s.authenticateDigest(ctx, digestToken(secret))
+}
+
+// authenticateDigest is Authenticate for a secret already digested.
+func (s *Store) authenticateDigest(ctx context.Context, want []byte) (domain.User, error) {
 	var (
 		u       domain.User
 		tokenID int64
