@@ -117,33 +117,28 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 }
 
 // registerTokenCacheMetrics exports how often a token was checked from
-// memory and how often the database was asked.
+// memory and how often the database was asked, and whether the cache is
+// listening.
 func registerTokenCacheMetrics(reg prometheus.Registerer, tokens *store.TokenCache) error {
-	for _, m := range []struct {
-		name, help string
-		value      func() uint64
-	}{
-		{"wattshelf_token_checks_remembered_total", "Bearer tokens accepted from the server's memory of recent checks.",
-			func() uint64 { h, _ := tokens.Stats(); return h }},
-		{"wattshelf_token_checks_database_total", "Bearer tokens checked against the database.",
-			func() uint64 { _, m := tokens.Stats(); return m }},
+	for _, c := range []prometheus.Collector{
+		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_token_checks_remembered_total",
+			Help: "Bearer tokens accepted from the server's memory of recent checks."},
+			func() float64 { hits, _ := tokens.Stats(); return float64(hits) }),
+		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_token_checks_database_total",
+			Help: "Bearer tokens checked against the database."},
+			func() float64 { _, misses := tokens.Stats(); return float64(misses) }),
+		prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: "wattshelf_token_cache_listening",
+			Help: "1 while the server listens for token changes and so may remember checked tokens, else 0."},
+			func() float64 {
+				if tokens.Listening() {
+					return 1
+				}
+				return 0
+			}),
 	} {
-		value := m.value
-		if err := reg.Register(prometheus.NewCounterFunc(prometheus.CounterOpts{Name: m.name, Help: m.help},
-			func() float64 { return float64(value()) })); err != nil {
-			return fmt.Errorf("register %s: %w", m.name, err)
+		if err := reg.Register(c); err != nil {
+			return fmt.Errorf("register token cache metrics: %w", err)
 		}
-	}
-	listening := prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: "wattshelf_token_cache_listening",
-		Help: "1 while the server listens for token changes and so may remember checked tokens, else 0."},
-		func() float64 {
-			if tokens.Listening() {
-				return 1
-			}
-			return 0
-		})
-	if err := reg.Register(listening); err != nil {
-		return fmt.Errorf("register wattshelf_token_cache_listening: %w", err)
 	}
 	return nil
 }
