@@ -482,11 +482,12 @@ func selectRoutes(routes []loadRoute, only string) []loadRoute {
 
 // mixedRoute sends every route in turn, each client starting at its own.
 func mixedRoute(routes []loadRoute) loadRoute {
+	pick := func(c *loadClient, n int) loadRoute { return routes[(c.id+n)%len(routes)] }
 	return loadRoute{name: "mixed, all of the above",
 		do: func(ctx context.Context, c *loadClient, n int) (int, error) {
-			return routes[(c.id+n)%len(routes)].do(ctx, c, n)
+			return pick(c, n).do(ctx, c, n)
 		},
-		partOf: func(c *loadClient, n int) string { return routes[(c.id+n)%len(routes)].name },
+		partOf: func(c *loadClient, n int) string { return pick(c, n).name },
 	}
 }
 
