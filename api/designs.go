@@ -124,14 +124,23 @@ func (s *server) visibleDesign(c echo.Context) (store.StoredDesign, error) {
 	if err != nil {
 		return store.StoredDesign{}, err
 	}
+	return s.usableDesign(c, id)
+}
+
+// usableDesign reads design id if the caller may use it.
+func (s *server) usableDesign(c echo.Context, id int64) (store.StoredDesign, error) {
 	d, err := s.store.Design(c.Request().Context(), id)
 	if err != nil {
 		return d, err
 	}
 	if !currentUser(c).MayChange(d.Owner) {
-		return d, newProblem("forbidden", "design %d belongs to another member; only its owner or staff may use it", id)
+		return d, designOfAnother(id)
 	}
 	return d, nil
+}
+
+func designOfAnother(id int64) error {
+	return newProblem("forbidden", "design %d belongs to another member; only its owner or staff may use it", id)
 }
 
 func (s *server) getDesign(c echo.Context) error {
@@ -203,6 +212,7 @@ func (s *server) saveDesign(c echo.Context, id, version int64, name string, docu
 	if err != nil {
 		return err
 	}
+	s.designs.forget(id) // not needed to stay correct, but the next review would find it stale
 	return jsonWithETag(c, http.StatusOK, d.Version, d)
 }
 
@@ -218,5 +228,6 @@ func (s *server) deleteDesign(c echo.Context) error {
 	if err := s.store.DeleteDesign(c.Request().Context(), currentUser(c), id, version); err != nil {
 		return err
 	}
+	s.designs.forget(id)
 	return c.NoContent(http.StatusNoContent)
 }

@@ -26,12 +26,13 @@ type designHarness struct {
 	t      *testing.T
 	router *echo.Echo
 	store  *store.Store
+	dbURL  string
 	tokens map[string]string
 }
 
 func newDesignHarness(t *testing.T, cfg Config) *designHarness {
 	t.Helper()
-	st, _ := storetest.NewStore(t)
+	st, dbURL := storetest.NewStore(t)
 	cfg.Store = st
 	cfg.Logger = slog.New(slog.NewTextHandler(io.Discard, nil))
 	cfg.Registry = prometheus.NewRegistry()
@@ -39,7 +40,7 @@ func newDesignHarness(t *testing.T, cfg Config) *designHarness {
 	if err != nil {
 		t.Fatal(err)
 	}
-	h := &designHarness{t: t, router: router, store: st, tokens: map[string]string{}}
+	h := &designHarness{t: t, router: router, store: st, dbURL: dbURL, tokens: map[string]string{}}
 	for name, role := range map[string]domain.Role{"ada": domain.RoleMember, "bo": domain.RoleMember, "rowan": domain.RoleStaff} {
 		secret, err := st.CreateToken(context.Background(), "test", name, role)
 		if err != nil {

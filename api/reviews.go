@@ -104,30 +104,42 @@ func (s *server) reviewDocument(c echo.Context) error {
 
 // reviewStoredDesign reviews a stored design and keeps the report and the
 // document it read, with a share id that opens them without a login.
+//
+// It reviews the copy of the design it remembers, if any; the store keeps
+// the review only if the design is still at that copy's version, and
+// otherwise the design is read again and reviewed again.
 func (s *server) reviewStoredDesign(c echo.Context) error {
 	v, err := limitsVersionParam(c)
 	if err != nil {
 		return err
 	}
-	d, err := s.visibleDesign(c)
-	if err != nil {
-		return err
-	}
-	ctx := c.Request().Context()
-	report, err := s.review(ctx, d.Document, v)
+	id, err := pathID(c, "id")
 	if err != nil {
 		return err
 	}
 	buf := s.buffers.get()
 	defer s.buffers.put(buf)
-	if *buf, err = report.AppendJSON(*buf); err != nil {
-		return fmt.Errorf("encode report of design %d: %w", d.ID, err)
-	}
-	r, err := s.store.AddReview(ctx, currentUser(c), store.NewReview{
-		DesignID: d.ID, Document: d.Document, Status: string(report.Status),
-		LimitsVersion: report.LimitsVersion, Report: *buf,
-	})
-	if err != nil {
+	var r store.StoredReview
+	for attempt := 1; ; attempt++ {
+		d, remembered := s.designs.get(id)
+		if !remembered {
+			if d, err = s.usableDesign(c, id); err != nil {
+				return err
+			}
+			s.designs.put(d)
+		}
+		if r, err = s.storeReview(c, d, v, buf); err == nil {
+			break
+		}
+		if errors.Is(err, domain.ErrPreconditionFailed) || errors.Is(err, domain.ErrNotFound) {
+			s.designs.forget(id)
+			if attempt < storedReviewAttempts {
+				continue
+			}
+			if errors.Is(err, domain.ErrPreconditionFailed) {
+				return fmt.Errorf("design %d kept changing while it was reviewed: %w", id, domain.ErrConflict)
+			}
+		}
 		return err
 	}
 	view := s.reviewView(r)
@@ -138,6 +150,31 @@ func (s *server) reviewStoredDesign(c echo.Context) error {
 	}
 	c.Response().Header().Set("Location", view.ReportURL)
 	return writeJSON(c, http.StatusCreated, append(*out, '\n'))
+}
+
+// storedReviewAttempts bounds how often a stored review is tried again
+// after the design it reviewed turned out to have changed or gone.
+const storedReviewAttempts = 3
+
+// storeReview reviews d and stores the review, its report encoded into
+// buf; the returned review's Report is *buf.
+func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion int, buf *[]byte) (store.StoredReview, error) {
+	user := currentUser(c)
+	if !user.MayChange(d.Owner) {
+		return store.StoredReview{}, designOfAnother(d.ID)
+	}
+	ctx := c.Request().Context()
+	report, err := s.review(ctx, d.Document, limitsVersion)
+	if err != nil {
+		return store.StoredReview{}, err
+	}
+	if *buf, err = report.AppendJSON((*buf)[:0]); err != nil {
+		return store.StoredReview{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
+	}
+	return s.store.AddReview(ctx, user, store.NewReview{
+		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(report.Status),
+		LimitsVersion: report.LimitsVersion, Report: *buf,
+	})
 }
 
 // appendStoredReview writes a stored review as encoding/json would, but

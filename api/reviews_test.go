@@ -1,14 +1,19 @@
 package api
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
+	"io"
+	"log/slog"
 	"math"
 	"net/http"
 	"regexp"
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/prometheus/client_golang/prometheus"
 
 	"wattshelf/domain/review"
 	"wattshelf/domain/store"
@@ -213,4 +218,45 @@ func TestSharedReportShowsTheReviewedDocument(t *testing.T) {
 			t.Errorf("report %s does not label the fuse with its speed", c.shareID)
 		}
 	}
+}
+
+// TestStoredReviewFollowsAnotherReplica reviews a design on one router
+// (which then remembers it), changes it through a second router on the
+// same database, and reviews it on the first again: the stored review must
+// be of the changed document, and of nothing once the design is deleted.
+func TestStoredReviewFollowsAnotherReplica(t *testing.T) {
+	h := newDesignHarness(t, Config{})
+	other, err := store.Open(context.Background(), h.dbURL)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(other.Close)
+	replica := &designHarness{t: t, store: other, tokens: h.tokens}
+	if replica.router, err = New(Config{Store: other, Logger: slog.New(slog.NewTextHandler(io.Discard, nil)),
+		Registry: prometheus.NewRegistry()}); err != nil {
+		t.Fatal(err)
+	}
+	var d store.StoredDesign
+	h.expect(h.call(http.MethodPost, "/v1/designs", "ada", []byte(benchLampDesign)), http.StatusCreated, &d)
+	reviews := fmt.Sprintf("/v1/designs/%d/reviews", d.ID)
+	var first, after StoredReviewView
+	h.expect(h.call(http.MethodPost, reviews, "ada", nil), http.StatusCreated, &first)
+	if first.Status != "pass" || first.DocumentSHA256 != store.DocumentDigest([]byte(benchLampDesign)) {
+		t.Fatalf("first review: status %s, digest %s; want pass of the bench lamp", first.Status, first.DocumentSHA256)
+	}
+
+	replica.expect(replica.call(http.MethodPut, fmt.Sprintf("/v1/designs/%d", d.ID), "ada", []byte(overvoltDesign),
+		"If-Match", "*"), http.StatusOK, nil)
+	h.expect(h.call(http.MethodPost, reviews, "ada", nil), http.StatusCreated, &after)
+	// overvoltDesign puts 14 V on a 5.5 V part: a fail (DESIGN section 7).
+	if after.Status != "fail" || after.DocumentSHA256 != store.DocumentDigest([]byte(overvoltDesign)) {
+		t.Fatalf("review after the edit on the other router: status %s, digest %s; want fail of the new document",
+			after.Status, after.DocumentSHA256)
+	}
+	// Staff may review any design; bo may not, remembered or not.
+	h.expect(h.call(http.MethodPost, reviews, "bo", nil), http.StatusForbidden, nil)
+	h.expect(h.call(http.MethodPost, reviews, "rowan", nil), http.StatusCreated, nil)
+
+	replica.expect(replica.call(http.MethodDelete, fmt.Sprintf("/v1/designs/%d", d.ID), "ada", nil), http.StatusNoContent, nil)
+	h.expect(h.call(http.MethodPost, reviews, "ada", nil), http.StatusNotFound, nil)
 }

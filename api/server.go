@@ -53,6 +53,7 @@ type server struct {
 	schemaVersion uint
 	limits        *limitsCache
 	shelf         *shelfCache
+	designs       *designCache
 	buffers       bufferPool
 	reviewLimiter *clientLimiter
 }
@@ -66,7 +67,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	if err != nil {
 		return nil, err
 	}
-	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache()}
+	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache(), designs: newDesignCache()}
 
 	metrics, err := newHTTPMetrics(cfg.Registry)
 	if err != nil {

@@ -44,7 +44,11 @@ type SharedReview struct {
 // NewReview is what the caller computed: the report of one document
 // under one limits version.
 type NewReview struct {
-	DesignID      int64
+	DesignID int64
+	// DesignVersion is the version of the design Document was read at;
+	// the review is stored only if the design is still at it (0 skips
+	// that check).
+	DesignVersion int64
 	Document      []byte
 	Status        string
 	LimitsVersion int
@@ -89,7 +93,10 @@ func scanReview(row pgx.Row, extra ...any) (StoredReview, error) {
 // returned review's Report is in.Report itself, not a copy.
 //
 // It is one statement, so one round trip: lock the design, insert the
-// review if actor may change the design, and write the audit row with it.
+// review if actor may change the design and it is still at
+// in.DesignVersion, and write the audit row with it. A design that has
+// moved on since is refused with domain.ErrPreconditionFailed, so a caller
+// that reviewed a remembered copy can read it again and retry.
 // A single statement commits or fails whole, like the transaction it
 // replaces. The report is kept as the bytes the engine's encoder wrote
 // (migration 0009), and nothing of it comes back.
@@ -104,34 +111,41 @@ func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) 
 	r := StoredReview{DesignID: in.DesignID, ShareID: shareID, Status: in.Status, LimitsVersion: in.LimitsVersion,
 		DocumentSHA256: DocumentDigest(in.Document), Report: in.Report, CreatedBy: actor.Name}
 	var owner string
+	var version int64
 	var id *int64
 	var createdAt *time.Time
 	// The key-share lock keeps the design from being deleted under the
 	// insert without making reviews of one design wait for each other.
 	err = s.pool.QueryRow(ctx, `WITH d AS (
-			SELECT id, name, owner FROM designs WHERE id = $1 FOR KEY SHARE
+			SELECT id, name, owner, version FROM designs WHERE id = $1 FOR KEY SHARE
 		), r AS (
 			INSERT INTO reviews (design_id, share_id, status, limits_version, document_sha256, document, report, created_by)
-			SELECT d.id, $2, $3, $4, $5, $6, $7, $8 FROM d WHERE $9 OR d.owner = $8
+			SELECT d.id, $2, $3, $4, $5, $6, $7, $8 FROM d
+			WHERE ($9 OR d.owner = $8) AND ($10 = 0 OR d.version = $10)
 			RETURNING id, created_at
 		), a AS (
 			INSERT INTO audit (actor, action, subject_type, subject_id, detail)
 			SELECT $8, 'review.create', 'design', $1::text,
 				jsonb_build_object('review', r.id, 'status', $3::text, 'limits_version', $4::integer) FROM r
 		)
-		SELECT d.name, d.owner, r.id, r.created_at FROM d LEFT JOIN r ON true`,
+		SELECT d.name, d.owner, d.version, r.id, r.created_at FROM d LEFT JOIN r ON true`,
 		in.DesignID, shareID, in.Status, in.LimitsVersion, r.DocumentSHA256, string(in.Document), in.Report, actor.Name,
-		actor.Role == domain.RoleStaff).Scan(&r.DesignName, &owner, &id, &createdAt)
+		actor.Role == domain.RoleStaff, in.DesignVersion).Scan(&r.DesignName, &owner, &version, &id, &createdAt)
 	if errors.Is(err, pgx.ErrNoRows) {
 		return StoredReview{}, fmt.Errorf("design %d: %w", in.DesignID, domain.ErrNotFound)
 	}
 	if err != nil {
 		return StoredReview{}, fmt.Errorf("store review of design %d: %w", in.DesignID, err)
 	}
-	if id == nil {
+	switch {
+	case id != nil:
+	case !actor.MayChange(owner):
 		// The insert's condition is domain.User.MayChange: staff, or the
-		// owner. Only an actor it refuses inserts nothing.
+		// owner.
 		return StoredReview{}, fmt.Errorf("design %d belongs to %s: %w", in.DesignID, owner, domain.ErrForbidden)
+	default:
+		return StoredReview{}, fmt.Errorf("design %d is at version %d, not %d: %w",
+			in.DesignID, version, in.DesignVersion, domain.ErrPreconditionFailed)
 	}
 	r.ID, r.CreatedAt = *id, *createdAt
 	return r, nil

@@ -49,11 +49,26 @@ func TestReviews(t *testing.T) {
 		t.Fatal("a review naming a limits version that does not exist was stored")
 	}
 
+	// A review of a copy read at another version is refused, so the
+	// caller can read the design again.
+	stale := in
+	stale.DesignVersion = d.Version + 1
+	if _, err := st.AddReview(ctx, ada, stale); !errors.Is(err, domain.ErrPreconditionFailed) {
+		t.Fatalf("review of version %d while the design is at %d: %v, want precondition failed", stale.DesignVersion, d.Version, err)
+	}
+	if _, err := st.AddReview(ctx, bo, stale); !errors.Is(err, domain.ErrForbidden) {
+		t.Fatalf("review of another member's design at a stale version: %v, want forbidden", err)
+	}
+
 	shareIDs := map[string]bool{}
 	urlSafe := regexp.MustCompile(`^[A-Za-z0-9_-]{24}$`) // 18 random bytes in base64url
 	var last store.StoredReview
 	for i, actor := range []domain.User{ada, staff, ada} {
-		r, err := st.AddReview(ctx, actor, in)
+		sent := in
+		if i == 0 {
+			sent.DesignVersion = d.Version // the current version passes the check that 0 skips
+		}
+		r, err := st.AddReview(ctx, actor, sent)
 		if err != nil {
 			t.Fatalf("review %d: %v", i, err)
 		}
