@@ -28,7 +28,8 @@ const loadUsage = `usage: wattshelf load --url URL [--token TOKEN] [--clients 32
 Drives traffic at a wattshelf server on this machine (loopback only) and
 prints throughput and latency per route beside the HTTP floor (GET /healthz)
 and the database floor (GET /readyz). Each route runs alone with every client
-for at most --requests requests or --duration, then all routes run mixed.
+for at most --requests requests or --duration (a request started in time is
+waited for and counted), then all routes run mixed.
 The token (or WATTSHELF_TOKEN) must be a member's or staff's: the run writes
 components, designs and stored reviews, all named "load ...".`
 
