@@ -134,13 +134,9 @@ func (s *server) usableDesign(c echo.Context, id int64) (store.StoredDesign, err
 		return d, err
 	}
 	if !currentUser(c).MayChange(d.Owner) {
-		return d, designOfAnother(id)
+		return d, newProblem("forbidden", "design %d belongs to another member; only its owner or staff may use it", id)
 	}
 	return d, nil
-}
-
-func designOfAnother(id int64) error {
-	return newProblem("forbidden", "design %d belongs to another member; only its owner or staff may use it", id)
 }
 
 func (s *server) getDesign(c echo.Context) error {

@@ -122,7 +122,8 @@ func (s *server) reviewStoredDesign(c echo.Context) error {
 	var r store.StoredReview
 	for attempt := 1; ; attempt++ {
 		d, remembered := s.designs.get(id)
-		if !remembered {
+		// A copy that says no is read again: only the database refuses.
+		if !remembered || !currentUser(c).MayChange(d.Owner) {
 			if d, err = s.usableDesign(c, id); err != nil {
 				return err
 			}
@@ -159,10 +160,6 @@ const storedReviewAttempts = 3
 // storeReview reviews d and stores the review, its report encoded into
 // buf; the returned review's Report is *buf.
 func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion int, buf *[]byte) (store.StoredReview, error) {
-	user := currentUser(c)
-	if !user.MayChange(d.Owner) {
-		return store.StoredReview{}, designOfAnother(d.ID)
-	}
 	ctx := c.Request().Context()
 	report, err := s.review(ctx, d.Document, limitsVersion)
 	if err != nil {
@@ -171,7 +168,7 @@ func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion
 	if *buf, err = report.AppendJSON((*buf)[:0]); err != nil {
 		return store.StoredReview{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
 	}
-	return s.store.AddReview(ctx, user, store.NewReview{
+	return s.store.AddReview(ctx, currentUser(c), store.NewReview{
 		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(report.Status),
 		LimitsVersion: report.LimitsVersion, Report: *buf,
 	})
