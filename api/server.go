@@ -31,6 +31,9 @@ type Config struct {
 	// Tokens checks bearer tokens; nil means asking Store every time.
 	// serve passes a store.TokenCache.
 	Tokens authenticator
+	// Reviews stores reviews; nil means Store, one statement each. serve
+	// passes a store.ReviewBatcher.
+	Reviews reviewStorer
 	// Registry receives the HTTP and pool metrics and is served at /metrics.
 	Registry *prometheus.Registry
 	// PublicBaseURL is the address printed into QR codes and links, e.g.
@@ -54,6 +57,7 @@ type server struct {
 	limits        *limitsCache
 	shelf         *shelfCache
 	designs       *designCache
+	reviews       reviewStorer
 	buffers       bufferPool
 	reviewLimiter *clientLimiter
 }
@@ -98,6 +102,10 @@ func New(cfg Config) (*echo.Echo, error) {
 	tokens := cfg.Tokens
 	if tokens == nil {
 		tokens = cfg.Store
+	}
+	s.reviews = cfg.Reviews
+	if s.reviews == nil {
+		s.reviews = cfg.Store
 	}
 	e.Use(identify(tokens))
 
