@@ -286,6 +286,12 @@ func optionalIfMatchVersion(c echo.Context) (int64, error) {
 	return ifMatchVersion(c)
 }
 
+// writes stores the writes that a store.Writer can batch.
+type writes interface {
+	AddReview(ctx context.Context, actor domain.User, in store.NewReview) (store.StoredReview, error)
+	CreateComponent(ctx context.Context, actor domain.User, in domain.ComponentInput) (domain.Component, error)
+}
+
 func (s *server) createComponent(c echo.Context) error {
 	var in domain.ComponentInput
 	if err := bindStrict(c, &in); err != nil {
@@ -295,7 +301,7 @@ func (s *server) createComponent(c echo.Context) error {
 	if err := in.Validate(); err != nil {
 		return err
 	}
-	comp, err := s.store.CreateComponent(c.Request().Context(), currentUser(c), in)
+	comp, err := s.writes.CreateComponent(c.Request().Context(), currentUser(c), in)
 	if err != nil {
 		return err
 	}

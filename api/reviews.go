@@ -153,11 +153,6 @@ func (s *server) reviewStoredDesign(c echo.Context) error {
 	return writeJSON(c, http.StatusCreated, append(*out, '\n'))
 }
 
-// reviewStorer stores a computed review.
-type reviewStorer interface {
-	AddReview(ctx context.Context, actor domain.User, in store.NewReview) (store.StoredReview, error)
-}
-
 // storedReviewAttempts bounds how often a stored review is tried again
 // after the design it reviewed turned out to have changed or gone.
 const storedReviewAttempts = 3
@@ -173,7 +168,7 @@ func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion
 	if *buf, err = report.AppendJSON((*buf)[:0]); err != nil {
 		return store.StoredReview{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
 	}
-	return s.reviews.AddReview(ctx, currentUser(c), store.NewReview{
+	return s.writes.AddReview(ctx, currentUser(c), store.NewReview{
 		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(report.Status),
 		LimitsVersion: report.LimitsVersion, Report: *buf,
 	})

@@ -31,9 +31,9 @@ type Config struct {
 	// Tokens checks bearer tokens; nil means asking Store every time.
 	// serve passes a store.TokenCache.
 	Tokens authenticator
-	// Reviews stores reviews; nil means Store, one statement each. serve
-	// passes a store.ReviewBatcher.
-	Reviews reviewStorer
+	// Writes stores reviews and creates components; nil means Store, one
+	// statement each. serve passes a store.Writer.
+	Writes writes
 	// Registry receives the HTTP and pool metrics and is served at /metrics.
 	Registry *prometheus.Registry
 	// PublicBaseURL is the address printed into QR codes and links, e.g.
@@ -57,7 +57,7 @@ type server struct {
 	limits        *limitsCache
 	shelf         *shelfCache
 	designs       *designCache
-	reviews       reviewStorer
+	writes        writes
 	buffers       bufferPool
 	reviewLimiter *clientLimiter
 }
@@ -103,9 +103,9 @@ func New(cfg Config) (*echo.Echo, error) {
 	if tokens == nil {
 		tokens = cfg.Store
 	}
-	s.reviews = cfg.Reviews
-	if s.reviews == nil {
-		s.reviews = cfg.Store
+	s.writes = cfg.Writes
+	if s.writes == nil {
+		s.writes = cfg.Store
 	}
 	e.Use(identify(tokens))
 

@@ -73,18 +73,18 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 
 	// The writers outlive the signal: requests still being answered during
 	// the shutdown need them, so they stop only when serve returns.
-	reviews := store.NewReviewBatcher(st, reviewWriters, reviewBatchMax)
+	writer := store.NewWriter(st, batchWriters, batchMax)
 	writeCtx, stopWriting := context.WithCancel(context.WithoutCancel(ctx))
 	written := make(chan struct{})
-	go func() { defer close(written); reviews.Run(writeCtx) }()
+	go func() { defer close(written); writer.Run(writeCtx) }()
 	defer func() { stopWriting(); <-written }()
 
 	registry := prometheus.NewRegistry()
-	if err := registerServeMetrics(registry, tokens, reviews); err != nil {
+	if err := registerServeMetrics(registry, tokens, writer); err != nil {
 		return err
 	}
 	handler, err := api.New(api.Config{
-		Store: st, Tokens: tokens, Reviews: reviews, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
+		Store: st, Tokens: tokens, Writes: writer, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
 		TrustedProxies: proxies,
 	})
 	if err != nil {
@@ -124,26 +124,26 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	return nil
 }
 
-// Stored reviews are written by this many statements at once, each
-// carrying up to reviewBatchMax reviews, on connections of their own. On
-// the 2-core build machine two writers of up to 8 stored more reviews a
-// second, with a shorter tail, than three or four writers did.
+// Stored reviews and new components are written by this many statements
+// at once, each carrying up to batchMax of one kind. On the 2-core build
+// machine two writers of up to 8 stored more reviews a second, with a
+// shorter tail, than three or four did.
 const (
-	reviewWriters  = 2
-	reviewBatchMax = 8
+	batchWriters = 2
+	batchMax     = 8
 )
 
 // registerServeMetrics exports how often a token was checked from memory
 // and how often the database was asked, whether the token cache is
-// listening, and how many statements stored how many reviews.
-func registerServeMetrics(reg prometheus.Registerer, tokens *store.TokenCache, reviews *store.ReviewBatcher) error {
+// listening, and how many statements carried how many batched writes.
+func registerServeMetrics(reg prometheus.Registerer, tokens *store.TokenCache, writer *store.Writer) error {
 	for _, c := range []prometheus.Collector{
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_review_writes_total",
-			Help: "Statements that stored reviews; several reviews that arrive together share one."},
-			func() float64 { batches, _ := reviews.Stats(); return float64(batches) }),
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_reviews_written_total",
-			Help: "Reviews handed to those statements."},
-			func() float64 { _, n := reviews.Stats(); return float64(n) }),
+		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_batched_write_statements_total",
+			Help: "Statements that stored reviews or created components; writes that arrive together share one."},
+			func() float64 { statements, _ := writer.Stats(); return float64(statements) }),
+		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_batched_writes_total",
+			Help: "Reviews and components handed to those statements."},
+			func() float64 { _, writes := writer.Stats(); return float64(writes) }),
 		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_token_checks_remembered_total",
 			Help: "Bearer tokens accepted from the server's memory of recent checks."},
 			func() float64 { hits, _ := tokens.Stats(); return float64(hits) }),

@@ -39,30 +39,91 @@ func scanComponent(row pgx.Row) (domain.Component, error) {
 	return c, nil
 }
 
-// CreateComponent stores a new component owned by actor.
+// CreateComponent stores a new component owned by actor, with its audit
+// row, in one statement (see createComponents).
 func (s *Store) CreateComponent(ctx context.Context, actor domain.User, in domain.ComponentInput) (domain.Component, error) {
+	c, err := newComponentToStore(actor, in)
+	if err != nil {
+		return domain.Component{}, err
+	}
+	created, err := createComponents(ctx, s.pool, []componentToStore{c})
+	if err != nil {
+		return domain.Component{}, err
+	}
+	return created[0].value, created[0].err
+}
+
+// componentToStore is one new component on its way into the database.
+type componentToStore struct {
+	actor      domain.User
+	in         domain.ComponentInput
+	electrical string // in.Electrical as JSON
+}
+
+func newComponentToStore(actor domain.User, in domain.ComponentInput) (componentToStore, error) {
 	electrical, err := json.Marshal(in.Electrical)
 	if err != nil {
-		return domain.Component{}, fmt.Errorf("encode electrical fields: %w", err)
+		return componentToStore{}, fmt.Errorf("encode electrical fields: %w", err)
 	}
-	// One statement, so one round trip: the insert and its audit row
-	// commit or fail together, as a transaction of the two would.
-	c, err := scanComponent(s.pool.QueryRow(ctx, `WITH c AS (
+	return componentToStore{actor: actor, in: in, electrical: string(electrical)}, nil
+}
+
+// createComponents inserts components and their audit rows with one
+// statement, so one round trip and one commit however many there are, and
+// returns them in the order given. The error is for the statement as a
+// whole: then nothing was stored.
+func createComponents(ctx context.Context, db querier, batch []componentToStore) ([]outcome[domain.Component], error) {
+	n := len(batch)
+	var (
+		names, kinds, descriptions, origins = make([]string, n), make([]string, n), make([]string, n), make([]string, n)
+		bins, conditions, sources, notes    = make([]string, n), make([]string, n), make([]string, n), make([]string, n)
+		electrical, owners                  = make([]string, n), make([]string, n)
+		mains                               = make([]bool, n)
+		quantities                          = make([]int32, n)
+	)
+	for i, c := range batch {
+		in := c.in
+		names[i], kinds[i], descriptions[i], origins[i] = in.Name, in.Kind, in.Description, in.Origin
+		bins[i], conditions[i], sources[i], notes[i] = in.Bin, in.Condition, in.SpecSource, in.Notes
+		electrical[i], owners[i], mains[i], quantities[i] = c.electrical, c.actor.Name, in.MainsOrigin, int32(in.Quantity)
+	}
+	// Identities are drawn in the order the rows are inserted, which the
+	// ORDER BY fixes, so sorting what comes back by id restores the order
+	// given; the names are compared below all the same.
+	rows, err := db.Query(ctx, `WITH i AS (
+			SELECT * FROM unnest($1::text[], $2::text[], $3::text[], $4::text[], $5::boolean[], $6::text[],
+				$7::integer[], $8::text[], $9::text[], $10::text[], $11::jsonb[], $12::text[]) WITH ORDINALITY
+			AS i(name, kind, description, origin, mains_origin, bin, quantity, condition, spec_source, notes, electrical, owner, n)
+		), c AS (
 			INSERT INTO components
 			(name, kind, description, origin, mains_origin, bin, quantity, condition, spec_source, notes, electrical, owner)
-			VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12)
+			SELECT name, kind, description, origin, mains_origin, bin, quantity, condition, spec_source, notes, electrical, owner
+			FROM i ORDER BY n
 			RETURNING `+componentColumns+`
 		), a AS (
 			INSERT INTO audit (actor, action, subject_type, subject_id, detail)
-			SELECT $12, 'component.create', 'component', c.id::text, jsonb_build_object('name', c.name) FROM c
+			SELECT c.owner, 'component.create', 'component', c.id::text, jsonb_build_object('name', c.name) FROM c
 		)
-		SELECT `+componentColumns+` FROM c`,
-		in.Name, in.Kind, in.Description, in.Origin, in.MainsOrigin, in.Bin, in.Quantity,
-		in.Condition, in.SpecSource, in.Notes, electrical, actor.Name))
+		SELECT `+componentColumns+` FROM c ORDER BY id`,
+		names, kinds, descriptions, origins, mains, bins, quantities, conditions, sources, notes, electrical, owners)
 	if err != nil {
-		return domain.Component{}, fmt.Errorf("insert component: %w", err)
+		return nil, fmt.Errorf("insert %d components: %w", n, err)
 	}
-	return c, nil
+	created, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (domain.Component, error) { return scanComponent(r) })
+	if err != nil {
+		return nil, fmt.Errorf("insert %d components: %w", n, err)
+	}
+	if len(created) != n {
+		return nil, fmt.Errorf("insert %d components: %d came back", n, len(created))
+	}
+	results := make([]outcome[domain.Component], n)
+	for i, c := range created {
+		if c.Name != names[i] || c.Owner != owners[i] {
+			return nil, fmt.Errorf("insert %d components: row %d came back as %q of %s", n, i, c.Name, c.Owner)
+		}
+		results[i] = outcome[domain.Component]{value: c}
+	}
+	return results, nil
 }
 
 // Component returns one component.

@@ -105,7 +105,7 @@ func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) 
 	if err != nil {
 		return StoredReview{}, err
 	}
-	return results[0].review, results[0].err
+	return results[0].value, results[0].err
 }
 
 // querier is a pool or one connection of it.
@@ -118,12 +118,6 @@ type reviewToStore struct {
 	actor  domain.User
 	in     NewReview
 	review StoredReview // what is known before the insert
-}
-
-// reviewStored is what became of one reviewToStore.
-type reviewStored struct {
-	review StoredReview
-	err    error
 }
 
 func newReviewToStore(actor domain.User, in NewReview) (reviewToStore, error) {
@@ -147,7 +141,7 @@ func newReviewToStore(actor domain.User, in NewReview) (reviewToStore, error) {
 // keeps them from being deleted under the insert without making reviews
 // of one design wait for each other. The error is for the statement as a
 // whole: then nothing was stored.
-func addReviews(ctx context.Context, db querier, batch []reviewToStore) ([]reviewStored, error) {
+func addReviews(ctx context.Context, db querier, batch []reviewToStore) ([]outcome[StoredReview], error) {
 	n := len(batch)
 	var (
 		designIDs, versions         = make([]int64, n), make([]int64, n)
@@ -189,7 +183,7 @@ func addReviews(ctx context.Context, db querier, batch []reviewToStore) ([]revie
 	if err != nil {
 		return nil, fmt.Errorf("store %d reviews: %w", n, err)
 	}
-	results := make([]reviewStored, 0, n)
+	results := make([]outcome[StoredReview], 0, n)
 	var (
 		name, owner *string
 		version, id *int64
@@ -215,19 +209,19 @@ func addReviews(ctx context.Context, db querier, batch []reviewToStore) ([]revie
 // outcome reads what the statement said of r: the design's name, owner and
 // version (nil when there is no such design), and the review's id and time
 // (nil when it was not inserted).
-func (r reviewToStore) outcome(name, owner *string, version, id *int64, createdAt *time.Time) reviewStored {
+func (r reviewToStore) outcome(name, owner *string, version, id *int64, createdAt *time.Time) outcome[StoredReview] {
 	in := r.in
 	switch {
 	case name == nil:
-		return reviewStored{err: fmt.Errorf("design %d: %w", in.DesignID, domain.ErrNotFound)}
+		return outcome[StoredReview]{err: fmt.Errorf("design %d: %w", in.DesignID, domain.ErrNotFound)}
 	case id != nil:
 		stored := r.review
 		stored.DesignName, stored.ID, stored.CreatedAt = *name, *id, *createdAt
-		return reviewStored{review: stored}
+		return outcome[StoredReview]{value: stored}
 	case !r.actor.MayChange(*owner):
-		return reviewStored{err: fmt.Errorf("design %d belongs to %s: %w", in.DesignID, *owner, domain.ErrForbidden)}
+		return outcome[StoredReview]{err: fmt.Errorf("design %d belongs to %s: %w", in.DesignID, *owner, domain.ErrForbidden)}
 	default:
-		return reviewStored{err: fmt.Errorf("design %d is at version %d, not %d: %w",
+		return outcome[StoredReview]{err: fmt.Errorf("design %d is at version %d, not %d: %w",
 			in.DesignID, *version, in.DesignVersion, domain.ErrPreconditionFailed)}
 	}
 }

@@ -30,9 +30,8 @@ type Store struct {
 // under the load harness waited about 30 ms on average for a connection
 // while the cores were not fully busy. With 16, more backends competed for
 // the cores and the latency tail grew; 8 gave the shortest p99 in the
-// harness's runs on the 2-core build machine (issue 6). serve's review
-// writers keep two more for themselves (ReviewBatcher).
-const DefaultMaxConns = 10
+// harness's runs on the 2-core build machine (issue 6).
+const DefaultMaxConns = 8
 
 // Open connects a pool to databaseURL and checks that it answers.
 func Open(ctx context.Context, databaseURL string) (*Store, error) {

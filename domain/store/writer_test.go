@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strconv"
 	"sync"
 	"testing"
 
@@ -145,7 +146,7 @@ func TestReviewBatchWithAnUnstorableReview(t *testing.T) {
 	for i, c := range cases {
 		actors[i], ins[i] = c.who, c.in
 	}
-	got, errs, err := store.WriteBatch(ctx, store.NewReviewBatcher(st, 1, len(cases)), actors, ins)
+	got, errs, err := store.WriteReviewBatch(ctx, store.NewWriter(st, 1, len(cases)), actors, ins)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -166,34 +167,113 @@ func checkOutcomes(t *testing.T, st *store.Store, cases []reviewCase, got []stor
 	}
 }
 
-// TestReviewBatcher sends reviews from many goroutines at once; however
+// TestWriterReviews sends reviews from many goroutines at once; however
 // the writer groups them, each must get its own outcome. After the
-// batcher stops, AddReview still stores.
-func TestReviewBatcher(t *testing.T) {
+// writer stops, AddReview still stores.
+func TestWriterReviews(t *testing.T) {
 	ctx := context.Background()
 	st, _ := storetest.NewStore(t)
 	cases := withUnstorable(batchCases(t, st))
 
-	batcher := store.NewReviewBatcher(st, 1, 4)
+	writer := store.NewWriter(st, 1, 4)
 	runCtx, stop := context.WithCancel(ctx)
 	ran := make(chan struct{})
-	go func() { defer close(ran); batcher.Run(runCtx) }()
+	go func() { defer close(ran); writer.Run(runCtx) }()
 
 	got := make([]store.StoredReview, len(cases))
 	errs := make([]error, len(cases))
 	var wg sync.WaitGroup
 	for i, c := range cases {
-		wg.Go(func() { got[i], errs[i] = batcher.AddReview(ctx, c.who, c.in) })
+		wg.Go(func() { got[i], errs[i] = writer.AddReview(ctx, c.who, c.in) })
 	}
 	wg.Wait()
 	checkOutcomes(t, st, cases, got, errs)
-	if _, reviews := batcher.Stats(); reviews != uint64(len(cases)) {
-		t.Errorf("statements carried %d reviews, want each of the %d once", reviews, len(cases))
+	if _, writes := writer.Stats(); writes != uint64(len(cases)) {
+		t.Errorf("statements carried %d reviews, want each of the %d once", writes, len(cases))
 	}
 
 	stop()
 	<-ran
 	after := cases[0]
-	r, err := batcher.AddReview(ctx, after.who, after.in)
+	r, err := writer.AddReview(ctx, after.who, after.in)
 	checkStored(t, st, -1, after, r, err)
+}
+
+// shelfPart is a component input as a member would enter it.
+func shelfPart(name, kind, bin string, quantity int) domain.ComponentInput {
+	in := domain.ComponentInput{Name: name, Kind: kind, Bin: bin, Quantity: quantity, Condition: "good", SpecSource: "datasheet",
+		Description: "test part " + name, Notes: "kept off the shelf"}
+	in.Electrical.MaxV = ptr(12.0)
+	return in
+}
+
+// checkCreated fails unless got is in and stored as it, owned by owner.
+func checkCreated(t *testing.T, st *store.Store, owner string, in domain.ComponentInput, got domain.Component) {
+	t.Helper()
+	read, err := st.Component(context.Background(), got.ID)
+	if err != nil {
+		t.Fatalf("%s: read back: %v", in.Name, err)
+	}
+	if got.ComponentInput.Name != in.Name || read.Name != in.Name || read.Kind != in.Kind || read.Bin != in.Bin ||
+		read.Quantity != in.Quantity || read.Notes != in.Notes || read.Owner != owner || got.Owner != owner ||
+		read.Electrical.MaxV == nil || *read.Electrical.MaxV != *in.Electrical.MaxV || !read.CreatedAt.Equal(got.CreatedAt) {
+		t.Errorf("%s: answered %+v, stored %+v", in.Name, got, read)
+	}
+}
+
+// TestComponentsCreatedTogether holds the one statement that creates
+// several components to creating each alone: each comes back in the order
+// given, as sent, with its audit row.
+func TestComponentsCreatedTogether(t *testing.T) {
+	ctx := context.Background()
+	st, _ := storetest.NewStore(t)
+	ada := domain.User{Name: "ada", Role: domain.RoleMember}
+	ins := []domain.ComponentInput{shelfPart("Fan", "motor", "M1", 2), shelfPart("Fan", "motor", "M2", 0),
+		shelfPart("Buck board", "regulator", "R1", 5)}
+	got, err := store.CreateComponentsTogether(ctx, st, ada, ins)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, in := range ins {
+		checkCreated(t, st, ada.Name, in, got[i])
+		if i > 0 && got[i].ID <= got[i-1].ID {
+			t.Errorf("component %d has id %d after %d", i, got[i].ID, got[i-1].ID)
+		}
+		trail, err := st.AuditTrail(ctx, "component", strconv.FormatInt(got[i].ID, 10), 10)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(trail) != 1 || trail[0].Action != "component.create" || trail[0].Actor != ada.Name {
+			t.Errorf("component %d: audit trail %+v, want one component.create by ada", got[i].ID, trail)
+		}
+	}
+}
+
+// TestWriterComponents creates components from many goroutines at once:
+// each caller gets its own component, however the writer groups them.
+func TestWriterComponents(t *testing.T) {
+	ctx := context.Background()
+	st, _ := storetest.NewStore(t)
+	writer := store.NewWriter(st, 1, 4)
+	runCtx, stop := context.WithCancel(ctx)
+	ran := make(chan struct{})
+	go func() { defer close(ran); writer.Run(runCtx) }()
+	defer func() { stop(); <-ran }()
+
+	owners := []domain.User{{Name: "ada", Role: domain.RoleMember}, {Name: "bo", Role: domain.RoleMember}}
+	ins := make([]domain.ComponentInput, 10)
+	got := make([]domain.Component, len(ins))
+	errs := make([]error, len(ins))
+	var wg sync.WaitGroup
+	for i := range ins {
+		ins[i] = shelfPart(fmt.Sprintf("Part %d", i), "load", fmt.Sprintf("B%d", i%3), i)
+		wg.Go(func() { got[i], errs[i] = writer.CreateComponent(ctx, owners[i%2], ins[i]) })
+	}
+	wg.Wait()
+	for i, in := range ins {
+		if errs[i] != nil {
+			t.Fatalf("%s: %v", in.Name, errs[i])
+		}
+		checkCreated(t, st, owners[i%2].Name, in, got[i])
+	}
 }
