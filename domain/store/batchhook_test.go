@@ -40,7 +40,7 @@ func WriteReviewBatch(ctx context.Context, w *Writer, actors []domain.User, ins 
 		}
 		batch[i] = queued[reviewToStore, StoredReview]{item: r, done: make(chan outcome[StoredReview], 1)}
 	}
-	_ = writeBatch(ctx, w.store.pool, w, batch, addReviews) // each caller is told its own outcome
+	writeBatch(ctx, w.store.pool, w, batch, addReviews)
 	reviews, errs := make([]StoredReview, len(batch)), make([]error, len(batch))
 	for i, q := range batch {
 		res := <-q.done

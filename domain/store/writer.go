@@ -115,23 +115,23 @@ const batchWriteLimit = 5 * time.Second
 
 func (w *Writer) write(ctx context.Context) {
 	for {
-		var batch func(context.Context) error
+		var batch func(context.Context)
 		select {
 		case <-ctx.Done():
 			return
 		case q := <-w.reviews:
-			batch = func(ctx context.Context) error {
-				return writeBatch(ctx, w.store.pool, w, gather(q, w.reviews, w.maxBatch), addReviews)
+			batch = func(ctx context.Context) {
+				writeBatch(ctx, w.store.pool, w, gather(q, w.reviews, w.maxBatch), addReviews)
 			}
 		case q := <-w.components:
-			batch = func(ctx context.Context) error {
-				return writeBatch(ctx, w.store.pool, w, gather(q, w.components, w.maxBatch), createComponents)
+			batch = func(ctx context.Context) {
+				writeBatch(ctx, w.store.pool, w, gather(q, w.components, w.maxBatch), createComponents)
 			}
 		}
 		// A taken write is written even when ctx has just ended: its
 		// caller is waiting for it.
 		writeCtx, cancel := context.WithTimeout(context.WithoutCancel(ctx), batchWriteLimit)
-		_ = batch(writeCtx) // every caller has been told the outcome
+		batch(writeCtx)
 		cancel()
 	}
 }
@@ -153,9 +153,9 @@ func gather[T, V any](first queued[T, V], queue chan queued[T, V], most int) []q
 // writeBatch writes batch with write, which stores every item or none,
 // and answers every caller in it. When the statement fails for a reason
 // other than the connection, each item is tried alone, so one bad write
-// cannot fail the others. It returns the statement's error.
+// cannot fail the others.
 func writeBatch[T, V any](ctx context.Context, db querier, w *Writer, batch []queued[T, V],
-	write func(context.Context, querier, []T) ([]outcome[V], error)) error {
+	write func(context.Context, querier, []T) ([]outcome[V], error)) {
 	items := make([]T, len(batch))
 	for i, q := range batch {
 		items[i] = q.item
@@ -165,13 +165,12 @@ func writeBatch[T, V any](ctx context.Context, db querier, w *Writer, batch []qu
 	w.writes.Add(uint64(len(batch)))
 	if err == nil || len(batch) == 1 || IsUnavailable(err) {
 		answer(batch, results, err)
-		return err
+		return
 	}
 	for i := range batch {
 		alone, aloneErr := write(ctx, db, items[i:i+1])
 		answer(batch[i:i+1], alone, aloneErr)
 	}
-	return err
 }
 
 // answer tells each caller in batch its outcome, or err for all.
