@@ -315,6 +315,8 @@ func TestKioskInBrowser(t *testing.T) {
 	}
 	code := chromedp.CSS(`li.card[data-id="` + ids[0] + `"] img.qr`)
 	b.do(t, chromedp.ScrollIntoView(code))
+	b.waitFor(t, "the card's code to load", `(() => { const img = document.querySelector('li.card[data-id="`+ids[0]+
+		`"] img.qr'); return img !== null && img.complete && img.naturalWidth > 0 })()`, 20*time.Second)
 	png := get(t, b, chromedp.Screenshot(code))
 	if got, want := decodeQR(t, png), s.srv.URL+"/shelf/"+ids[0]; got != want {
 		t.Errorf("the kiosk's code reads %q, want %q", got, want)
@@ -357,8 +359,16 @@ func TestKioskInBrowser(t *testing.T) {
 	// Unchanged cards must stay the same elements (nothing redrawn, so
 	// nothing flickers): mark one that a fresh copy would not carry.
 	get(t, b, chromedp.Evaluate[bool](`document.querySelector('li.card[data-id="`+ids[0]+`"]').keptElement = true`))
+	// A keyboard user's place survives the refresh too.
+	shownLink := `Array.from(document.querySelectorAll('#shelf-list li.card')).find(li => !li.hidden).querySelector('h3 a')`
+	if !get(t, b, chromedp.Evaluate[bool](`(() => { const a = `+shownLink+`; a.focus(); window.focusedLink = a; return document.activeElement === a })()`)) {
+		t.Fatal("could not focus a shown card's link")
+	}
 	s.call(t, http.MethodPost, "/v1/components", body, http.StatusCreated, nil)
 	b.waitFor(t, "the new component to appear", `(`+visibleNames+`).includes("Stand mixer speed switch")`, 20*time.Second)
+	if !get(t, b, chromedp.Evaluate[bool](`document.activeElement === window.focusedLink`)) {
+		t.Error("the refresh took the keyboard focus off the card's link")
+	}
 	if !get(t, b, chromedp.Evaluate[bool](`document.querySelector('li.card[data-id="`+ids[0]+`"]').keptElement === true`)) {
 		t.Error("the refresh replaced a card that had not changed")
 	}

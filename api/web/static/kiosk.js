@@ -103,6 +103,9 @@
     if (!list || !freshList) {
       return;
     }
+    // Taking a card out of the page, even to put it straight back, drops
+    // the keyboard focus; give it back to the element that held it.
+    var focused = list.contains(document.activeElement) ? document.activeElement : null;
     var old = new Map();
     list.querySelectorAll('li.card').forEach(function (card) {
       old.set(card.getAttribute('data-rev'), card);
@@ -115,6 +118,9 @@
       }
     });
     list.replaceChildren.apply(list, Array.prototype.slice.call(next.childNodes));
+    if (focused !== null && focused.isConnected) {
+      focused.focus();
+    }
   }
 
   function showState(text) {
