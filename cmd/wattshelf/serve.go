@@ -137,33 +137,37 @@ const (
 // and how often the database was asked, whether the token cache is
 // listening, and how many statements carried how many batched writes.
 func registerServeMetrics(reg prometheus.Registerer, tokens *store.TokenCache, writer *store.Writer) error {
-	for _, c := range []prometheus.Collector{
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_batched_write_statements_total",
-			Help: "Statements that stored reviews or created components; writes that arrive together share one."},
-			func() float64 { statements, _ := writer.Stats(); return float64(statements) }),
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_batched_writes_total",
-			Help: "Reviews and components handed to those statements."},
-			func() float64 { _, writes := writer.Stats(); return float64(writes) }),
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_token_checks_remembered_total",
-			Help: "Bearer tokens accepted from the server's memory of recent checks."},
-			func() float64 { hits, _ := tokens.Stats(); return float64(hits) }),
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: "wattshelf_token_checks_database_total",
-			Help: "Bearer tokens checked against the database."},
-			func() float64 { _, misses := tokens.Stats(); return float64(misses) }),
-		prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: "wattshelf_token_cache_listening",
-			Help: "1 while the server listens for token changes and so may remember checked tokens, else 0."},
-			func() float64 {
-				if tokens.Listening() {
-					return 1
-				}
-				return 0
-			}),
-	} {
+	collectors := append(
+		statsCounters(writer.Stats,
+			"wattshelf_batched_write_statements_total", "Statements that stored reviews or created components; writes that arrive together share one.",
+			"wattshelf_batched_writes_total", "Reviews and components handed to those statements."),
+		statsCounters(tokens.Stats,
+			"wattshelf_token_checks_remembered_total", "Bearer tokens accepted from the server's memory of recent checks.",
+			"wattshelf_token_checks_database_total", "Bearer tokens checked against the database.")...)
+	collectors = append(collectors, prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: "wattshelf_token_cache_listening",
+		Help: "1 while the server listens for token changes and so may remember checked tokens, else 0."},
+		func() float64 {
+			if tokens.Listening() {
+				return 1
+			}
+			return 0
+		}))
+	for _, c := range collectors {
 		if err := reg.Register(c); err != nil {
 			return fmt.Errorf("register serve metrics: %w", err)
 		}
 	}
 	return nil
+}
+
+// statsCounters exports the two counts a Stats method returns.
+func statsCounters(stats func() (uint64, uint64), first, firstHelp, second, secondHelp string) []prometheus.Collector {
+	return []prometheus.Collector{
+		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: first, Help: firstHelp},
+			func() float64 { n, _ := stats(); return float64(n) }),
+		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: second, Help: secondHelp},
+			func() float64 { _, n := stats(); return float64(n) }),
+	}
 }
 
 // newHTTPServer wraps handler with the timeouts that cut off slow or

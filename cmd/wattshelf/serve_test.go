@@ -157,6 +157,27 @@ func TestServeStartsAnswersAndStops(t *testing.T) {
 		t.Errorf("after two uses of a checked token, metrics count no remembered check:\n%s",
 			grepLines(string(body), "wattshelf_token"))
 	}
+	// A new component goes through serve's batching writer.
+	req, err := http.NewRequest(http.MethodPost, s.base+"/v1/components", strings.NewReader(
+		`{"name":"Spare fan","kind":"motor","bin":"M9","quantity":1,"condition":"working","spec_source":"measured"}`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	req.Header.Set("Authorization", "Bearer "+token)
+	req.Header.Set("Content-Type", "application/json")
+	resp, err := http.DefaultClient.Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	resp.Body.Close()
+	if resp.StatusCode != http.StatusCreated {
+		t.Errorf("create a component: %d", resp.StatusCode)
+	}
+	if _, body := s.get(t, "/metrics", ""); !strings.Contains(string(body), "wattshelf_batched_writes_total 1\n") ||
+		!strings.Contains(string(body), "wattshelf_batched_write_statements_total 1\n") {
+		t.Errorf("after one create, metrics do not count one batched write in one statement:\n%s",
+			grepLines(string(body), "wattshelf_batched"))
+	}
 	if _, _, err := runCLI(ctx, getenv, "token", "revoke", "ada"); err != nil {
 		t.Fatal(err)
 	}
