@@ -61,6 +61,9 @@ type componentToStore struct {
 }
 
 func newComponentToStore(actor domain.User, in domain.ComponentInput) (componentToStore, error) {
+	if in.Quantity != int(int32(in.Quantity)) {
+		return componentToStore{}, fmt.Errorf("quantity %d does not fit the column", in.Quantity)
+	}
 	electrical, err := json.Marshal(in.Electrical)
 	if err != nil {
 		return componentToStore{}, fmt.Errorf("encode electrical fields: %w", err)

@@ -124,6 +124,9 @@ func newReviewToStore(actor domain.User, in NewReview) (reviewToStore, error) {
 	if !wholeObject(in.Report) {
 		return reviewToStore{}, fmt.Errorf("store review of design %d: the report is not a whole JSON object", in.DesignID)
 	}
+	if in.LimitsVersion != int(int32(in.LimitsVersion)) {
+		return reviewToStore{}, fmt.Errorf("store review of design %d: limits version %d does not fit the column", in.DesignID, in.LimitsVersion)
+	}
 	shareID, err := newShareID()
 	if err != nil {
 		return reviewToStore{}, err
