@@ -69,12 +69,10 @@ func (e *reportEncoder) repeated(b []byte, s string) []byte {
 }
 
 func (e *reportEncoder) report(b []byte, rep *Report) []byte {
-	b = append(b, `{"status":`...)
-	b = e.str(b, string(rep.Status))
+	b = e.strField(b, `{"status":`, string(rep.Status))
 	b = append(b, `,"limits_version":`...)
 	b = strconv.AppendInt(b, int64(rep.LimitsVersion), 10)
-	b = append(b, `,"engine_version":`...)
-	b = e.str(b, rep.EngineVersion)
+	b = e.strField(b, `,"engine_version":`, rep.EngineVersion)
 	c := rep.Counts
 	b = append(b, `,"counts":{"pass":`...)
 	b = strconv.AppendInt(b, int64(c.Pass), 10)
@@ -145,22 +143,14 @@ func (e *reportEncoder) report(b []byte, rep *Report) []byte {
 }
 
 func (e *reportEncoder) check(b []byte, c *Check) []byte {
-	b = append(b, `{"check":`...)
-	b = e.str(b, c.Check)
-	b = append(b, `,"node":`...)
-	b = e.str(b, c.Node)
-	b = append(b, `,"pointer":`...)
-	b = e.str(b, c.Pointer)
-	b = append(b, `,"status":`...)
-	b = e.str(b, string(c.Status))
-	b = append(b, `,"value":`...)
-	b = e.num(b, c.Value)
-	b = append(b, `,"limit":`...)
-	b = e.num(b, c.Limit)
-	b = append(b, `,"unit":`...)
-	b = e.str(b, c.Unit)
-	b = append(b, `,"message":`...)
-	b = e.str(b, c.Message)
+	b = e.strField(b, `{"check":`, c.Check)
+	b = e.strField(b, `,"node":`, c.Node)
+	b = e.strField(b, `,"pointer":`, c.Pointer)
+	b = e.strField(b, `,"status":`, string(c.Status))
+	b = e.numField(b, `,"value":`, c.Value)
+	b = e.numField(b, `,"limit":`, c.Limit)
+	b = e.strField(b, `,"unit":`, c.Unit)
+	b = e.strField(b, `,"message":`, c.Message)
 	b = append(b, `,"basis":`...)
 	b = e.repeated(b, c.Basis)
 	b = append(b, '}')
@@ -168,26 +158,17 @@ func (e *reportEncoder) check(b []byte, c *Check) []byte {
 }
 
 func (e *reportEncoder) node(b []byte, n *NodeResult) []byte {
-	b = append(b, `{"id":`...)
-	b = e.str(b, n.ID)
-	b = append(b, `,"type":`...)
-	b = e.str(b, n.Type)
+	b = e.strField(b, `{"id":`, n.ID)
+	b = e.strField(b, `,"type":`, n.Type)
 	if n.Parent != "" {
-		b = append(b, `,"parent":`...)
-		b = e.str(b, n.Parent)
+		b = e.strField(b, `,"parent":`, n.Parent)
 	}
-	b = append(b, `,"v_low":`...)
-	b = e.num(b, n.VLow)
-	b = append(b, `,"v_nominal":`...)
-	b = e.num(b, n.VNominal)
-	b = append(b, `,"v_high":`...)
-	b = e.num(b, n.VHigh)
-	b = append(b, `,"run_a":`...)
-	b = e.num(b, n.RunA)
-	b = append(b, `,"peak_a":`...)
-	b = e.num(b, n.PeakA)
-	b = append(b, `,"avg_a":`...)
-	b = e.num(b, n.AvgA)
+	b = e.numField(b, `,"v_low":`, n.VLow)
+	b = e.numField(b, `,"v_nominal":`, n.VNominal)
+	b = e.numField(b, `,"v_high":`, n.VHigh)
+	b = e.numField(b, `,"run_a":`, n.RunA)
+	b = e.numField(b, `,"peak_a":`, n.PeakA)
+	b = e.numField(b, `,"avg_a":`, n.AvgA)
 	b = e.optNum(b, `,"out_v_low":`, n.OutVLow)
 	b = e.optNum(b, `,"out_v_nominal":`, n.OutVNominal)
 	b = e.optNum(b, `,"out_v_high":`, n.OutVHigh)
@@ -201,62 +182,43 @@ func (e *reportEncoder) node(b []byte, n *NodeResult) []byte {
 }
 
 func (e *reportEncoder) feed(b []byte, f *FeedResult) []byte {
-	b = append(b, `{"node":`...)
-	b = e.str(b, f.Node)
-	b = append(b, `,"from":`...)
-	b = e.str(b, f.From)
-	b = append(b, `,"gauge":`...)
-	b = e.str(b, f.Gauge)
-	b = append(b, `,"length_m":`...)
-	b = e.num(b, f.LengthM)
-	b = append(b, `,"resistance_ohm":`...)
-	b = e.num(b, f.ResistanceOhm)
-	b = append(b, `,"run_a":`...)
-	b = e.num(b, f.RunA)
-	b = append(b, `,"peak_a":`...)
-	b = e.num(b, f.PeakA)
-	b = append(b, `,"drop_v":`...)
-	b = e.num(b, f.DropV)
-	b = append(b, `,"drop_pct":`...)
-	b = e.num(b, f.DropPct)
-	b = append(b, `,"ampacity_a":`...)
-	b = e.num(b, f.AmpacityA)
+	b = e.strField(b, `{"node":`, f.Node)
+	b = e.strField(b, `,"from":`, f.From)
+	b = e.strField(b, `,"gauge":`, f.Gauge)
+	b = e.numField(b, `,"length_m":`, f.LengthM)
+	b = e.numField(b, `,"resistance_ohm":`, f.ResistanceOhm)
+	b = e.numField(b, `,"run_a":`, f.RunA)
+	b = e.numField(b, `,"peak_a":`, f.PeakA)
+	b = e.numField(b, `,"drop_v":`, f.DropV)
+	b = e.numField(b, `,"drop_pct":`, f.DropPct)
+	b = e.numField(b, `,"ampacity_a":`, f.AmpacityA)
 	b = e.optNum(b, `,"fuse_a":`, f.FuseA)
 	b = append(b, '}')
 	return b
 }
 
 func (e *reportEncoder) runtime(b []byte, r *RuntimeResult) []byte {
-	b = append(b, `{"source":`...)
-	b = e.str(b, r.Source)
+	b = e.strField(b, `{"source":`, r.Source)
 	b = append(b, `,"hours":`...)
 	if r.Hours == nil {
 		b = append(b, "null"...)
 	} else {
 		b = e.num(b, *r.Hours)
 	}
-	b = append(b, `,"usable_share":`...)
-	b = e.num(b, r.UsableShare)
-	b = append(b, `,"limited_by":`...)
-	b = e.str(b, r.LimitedBy)
+	b = e.numField(b, `,"usable_share":`, r.UsableShare)
+	b = e.strField(b, `,"limited_by":`, r.LimitedBy)
 
 	p := &r.Pack
-	b = append(b, `,"pack":{"chemistry":`...)
-	b = e.str(b, p.Chemistry)
+	b = e.strField(b, `,"pack":{"chemistry":`, p.Chemistry)
 	b = append(b, `,"series":`...)
 	b = strconv.AppendInt(b, int64(p.Series), 10)
 	b = append(b, `,"parallel":`...)
 	b = strconv.AppendInt(b, int64(p.Parallel), 10)
-	b = append(b, `,"capacity_ah":`...)
-	b = e.num(b, p.CapacityAh)
-	b = append(b, `,"full_v":`...)
-	b = e.num(b, p.FullV)
-	b = append(b, `,"nominal_v":`...)
-	b = e.num(b, p.NominalV)
-	b = append(b, `,"cutoff_v":`...)
-	b = e.num(b, p.CutoffV)
-	b = append(b, `,"full_soc":`...)
-	b = e.num(b, p.FullSOC)
+	b = e.numField(b, `,"capacity_ah":`, p.CapacityAh)
+	b = e.numField(b, `,"full_v":`, p.FullV)
+	b = e.numField(b, `,"nominal_v":`, p.NominalV)
+	b = e.numField(b, `,"cutoff_v":`, p.CutoffV)
+	b = e.numField(b, `,"full_soc":`, p.FullSOC)
 	b = append(b, `,"curve":`...)
 	if p.Curve == nil {
 		b = append(b, "null"...)
@@ -264,10 +226,8 @@ func (e *reportEncoder) runtime(b []byte, r *RuntimeResult) []byte {
 		b = append(b, '[')
 		for i, pt := range p.Curve {
 			b = comma(b, i)
-			b = append(b, `{"soc":`...)
-			b = e.num(b, pt.SOC)
-			b = append(b, `,"pack_v":`...)
-			b = e.num(b, pt.PackV)
+			b = e.numField(b, `{"soc":`, pt.SOC)
+			b = e.numField(b, `,"pack_v":`, pt.PackV)
 			b = append(b, '}')
 		}
 		b = append(b, ']')
@@ -280,10 +240,8 @@ func (e *reportEncoder) runtime(b []byte, r *RuntimeResult) []byte {
 		for i := range r.Brownouts {
 			bo := &r.Brownouts[i]
 			b = comma(b, i)
-			b = append(b, `{"node":`...)
-			b = e.str(b, bo.Node)
-			b = append(b, `,"outcome":`...)
-			b = e.str(b, bo.Outcome)
+			b = e.strField(b, `{"node":`, bo.Node)
+			b = e.strField(b, `,"outcome":`, bo.Outcome)
 			b = e.optNum(b, `,"pack_v":`, bo.PackV)
 			b = e.optNum(b, `,"soc":`, bo.SOC)
 			b = append(b, '}')
@@ -302,12 +260,21 @@ func comma(b []byte, i int) []byte {
 }
 
 // optNum writes key and *x unless x is nil: an omitempty pointer.
+// numField and strField write a key (with its leading comma or brace)
+// and its value.
+func (e *reportEncoder) numField(b []byte, key string, x float64) []byte {
+	return e.num(append(b, key...), x)
+}
+
+func (e *reportEncoder) strField(b []byte, key string, s string) []byte {
+	return e.str(append(b, key...), s)
+}
+
 func (e *reportEncoder) optNum(b []byte, key string, x *float64) []byte {
-	if x != nil {
-		b = append(b, key...)
-		b = e.num(b, *x)
+	if x == nil {
+		return b
 	}
-	return b
+	return e.numField(b, key, *x)
 }
 
 // num writes a float64 as encoding/json does: the shortest decimal that
