@@ -46,11 +46,7 @@ func (s *Store) CreateComponent(ctx context.Context, actor domain.User, in domai
 	if err != nil {
 		return domain.Component{}, err
 	}
-	created, err := createComponents(ctx, s.pool, []componentToStore{c})
-	if err != nil {
-		return domain.Component{}, err
-	}
-	return created[0].value, created[0].err
+	return writeAlone(ctx, s.pool, c, createComponents)
 }
 
 // componentToStore is one new component on its way into the database.

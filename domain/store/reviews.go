@@ -101,11 +101,7 @@ func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) 
 	if err != nil {
 		return StoredReview{}, err
 	}
-	results, err := addReviews(ctx, s.pool, []reviewToStore{r})
-	if err != nil {
-		return StoredReview{}, err
-	}
-	return results[0].value, results[0].err
+	return writeAlone(ctx, s.pool, r, addReviews)
 }
 
 // querier is a pool or one connection of it.

@@ -68,7 +68,7 @@ func (w *Writer) AddReview(ctx context.Context, actor domain.User, in NewReview)
 	if err != nil {
 		return StoredReview{}, err
 	}
-	return submit(ctx, w.reviews, w.stopped, r, func() (StoredReview, error) { return w.store.AddReview(ctx, actor, in) })
+	return submit(ctx, w, w.reviews, r, addReviews)
 }
 
 // CreateComponent is Store.CreateComponent, sharing a statement with the
@@ -78,9 +78,7 @@ func (w *Writer) CreateComponent(ctx context.Context, actor domain.User, in doma
 	if err != nil {
 		return domain.Component{}, err
 	}
-	return submit(ctx, w.components, w.stopped, c, func() (domain.Component, error) {
-		return w.store.CreateComponent(ctx, actor, in)
-	})
+	return submit(ctx, w, w.components, c, createComponents)
 }
 
 // Stats returns how many statements carried how many writes.
@@ -89,14 +87,15 @@ func (w *Writer) Stats() (statements, writes uint64) {
 }
 
 // submit hands item to a writer and waits for its outcome; once the
-// writers have stopped it writes alone instead.
-func submit[T, V any](ctx context.Context, queue chan queued[T, V], stopped <-chan struct{}, item T, alone func() (V, error)) (V, error) {
+// writers have stopped it writes item alone instead, with write.
+func submit[T, V any](ctx context.Context, w *Writer, queue chan queued[T, V], item T,
+	write func(context.Context, querier, []T) ([]outcome[V], error)) (V, error) {
 	var none V
 	q := queued[T, V]{item: item, done: make(chan outcome[V], 1)}
 	select {
 	case queue <- q:
-	case <-stopped:
-		return alone()
+	case <-w.stopped:
+		return writeAlone(ctx, w.store.pool, item, write)
 	case <-ctx.Done():
 		return none, ctx.Err()
 	}
@@ -107,6 +106,17 @@ func submit[T, V any](ctx context.Context, queue chan queued[T, V], stopped <-ch
 		// The write may still be stored; the caller is no longer told.
 		return none, ctx.Err()
 	}
+}
+
+// writeAlone writes one item with a statement made for batches.
+func writeAlone[T, V any](ctx context.Context, db querier, item T,
+	write func(context.Context, querier, []T) ([]outcome[V], error)) (V, error) {
+	results, err := write(ctx, db, []T{item})
+	if err != nil {
+		var none V
+		return none, err
+	}
+	return results[0].value, results[0].err
 }
 
 // batchWriteLimit bounds one statement, as api.DatabaseWaitLimit bounds a
@@ -167,9 +177,9 @@ func writeBatch[T, V any](ctx context.Context, db querier, w *Writer, batch []qu
 		answer(batch, results, err)
 		return
 	}
-	for i := range batch {
-		alone, aloneErr := write(ctx, db, items[i:i+1])
-		answer(batch[i:i+1], alone, aloneErr)
+	for _, q := range batch {
+		v, err := writeAlone(ctx, db, q.item, write)
+		q.done <- outcome[V]{value: v, err: err}
 	}
 }
 
