@@ -286,12 +286,6 @@ func optionalIfMatchVersion(c echo.Context) (int64, error) {
 	return ifMatchVersion(c)
 }
 
-// writes stores the writes that a store.Writer can batch.
-type writes interface {
-	AddReview(ctx context.Context, actor domain.User, in store.NewReview) (store.StoredReview, error)
-	CreateComponent(ctx context.Context, actor domain.User, in domain.ComponentInput) (domain.Component, error)
-}
-
 func (s *server) createComponent(c echo.Context) error {
 	var in domain.ComponentInput
 	if err := bindStrict(c, &in); err != nil {

@@ -18,6 +18,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus/collectors"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
+	"wattshelf/domain"
 	"wattshelf/domain/store"
 )
 
@@ -49,6 +50,12 @@ type Config struct {
 }
 
 // server holds the dependencies the handlers share.
+// writes stores the writes that a store.Writer can batch.
+type writes interface {
+	AddReview(ctx context.Context, actor domain.User, in store.NewReview) (store.StoredReview, error)
+	CreateComponent(ctx context.Context, actor domain.User, in domain.ComponentInput) (domain.Component, error)
+}
+
 type server struct {
 	cfg           Config
 	store         *store.Store

@@ -126,8 +126,8 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 
 // Stored reviews and new components are written by this many statements
 // at once, each carrying up to batchMax of one kind. On the 2-core build
-// machine two writers of up to 8 stored more reviews a second, with a
-// shorter tail, than three or four did.
+// machine two writers of up to 8 stored more reviews a second than four or
+// more; three were about even.
 const (
 	batchWriters = 2
 	batchMax     = 8
