@@ -1,6 +1,7 @@
 package domain
 
 import (
+	"reflect"
 	"slices"
 	"time"
 )
@@ -19,45 +20,22 @@ func Conditions() []string { return []string{"untested", "working", "faulty"} }
 // SpecSources returns where a part's figures may come from.
 func SpecSources() []string { return []string{"datasheet", "measured", "estimated"} }
 
-// Electrical holds a part's ratings in SI units, the unit in each name.
-// Every field is optional: a salvaged part is often only partly known, and
-// a design node fills only what it leaves out from here.
+// Electrical holds a part's ratings: those a design node shares
+// (Ratings) and those only the shelf keeps.
 type Electrical struct {
-	MinV     *float64 `json:"min_v,omitempty"`
-	MaxV     *float64 `json:"max_v,omitempty"`
-	NominalV *float64 `json:"nominal_v,omitempty"`
-	CurrentA *float64 `json:"current_a,omitempty"`
-	PeakA    *float64 `json:"peak_a,omitempty"`
+	Ratings
+	NominalV  *float64 `json:"nominal_v,omitzero" unit:"V" min:"0" max:"1000" doc:"nominal voltage"`
+	NoLoadRPM *float64 `json:"no_load_rpm,omitzero" unit:"rpm" min:"0" max:"200000" doc:"a motor's speed with nothing on the shaft, at rated_v"`
+	RatingA   *float64 `json:"rating_a,omitzero" unit:"A" min:"0" max:"1000" doc:"a connector's, fuse's or wire's current rating"`
+	RatingV   *float64 `json:"rating_v,omitzero" unit:"V" min:"0" max:"1000" doc:"a connector's or fuse's voltage rating"`
+	Gauge     string   `json:"gauge,omitzero" doc:"a wire's size"`
+}
 
-	// Brushed DC motors, at RatedV.
-	RatedV    *float64 `json:"rated_v,omitempty"`
-	NoLoadA   *float64 `json:"no_load_a,omitempty"`
-	NoLoadRPM *float64 `json:"no_load_rpm,omitempty"`
-	StallA    *float64 `json:"stall_a,omitempty"`
-	RunningA  *float64 `json:"running_a,omitempty"`
-
-	// Regulators and drivers.
-	Topology        string   `json:"topology,omitempty"`
-	OutputV         *float64 `json:"output_v,omitempty"`
-	MaxOutputA      *float64 `json:"max_output_a,omitempty"`
-	MinInputV       *float64 `json:"min_input_v,omitempty"`
-	MaxInputV       *float64 `json:"max_input_v,omitempty"`
-	DropoutV        *float64 `json:"dropout_v,omitempty"`
-	QuiescentA      *float64 `json:"quiescent_a,omitempty"`
-	Efficiency      *float64 `json:"efficiency,omitempty"`
-	ThetaJACPerW    *float64 `json:"theta_ja_c_per_w,omitempty"`
-	TjMaxC          *float64 `json:"tj_max_c,omitempty"`
-	ContinuousA     *float64 `json:"continuous_a,omitempty"`
-	MaxDischargeA   *float64 `json:"max_discharge_a,omitempty"`
-	Chemistry       string   `json:"chemistry,omitempty"`
-	Series          *int     `json:"series,omitempty"`
-	Parallel        *int     `json:"parallel,omitempty"`
-	CellCapacityMAh *float64 `json:"cell_capacity_mah,omitempty"`
-
-	// Connectors, fuses and wire.
-	RatingA *float64 `json:"rating_a,omitempty"`
-	RatingV *float64 `json:"rating_v,omitempty"`
-	Gauge   string   `json:"gauge,omitempty"`
+// FillNode completes n from the part's ratings: every field n leaves out
+// that applies to its type. The node's own values win.
+func (e Electrical) FillNode(n Node) Node {
+	fillFrom(reflect.ValueOf(&n.Ratings).Elem(), reflect.ValueOf(e.Ratings), n.Type)
+	return n
 }
 
 // ComponentInput is what a client sends to create or replace a component.
@@ -120,33 +98,7 @@ func (c ComponentInput) Validate() error {
 }
 
 func (e Electrical) validate(p *Problems) {
-	volts := map[string]*float64{
-		"/min_v": e.MinV, "/max_v": e.MaxV, "/nominal_v": e.NominalV, "/rated_v": e.RatedV,
-		"/output_v": e.OutputV, "/min_input_v": e.MinInputV, "/max_input_v": e.MaxInputV,
-		"/dropout_v": e.DropoutV, "/rating_v": e.RatingV,
-	}
-	amps := map[string]*float64{
-		"/current_a": e.CurrentA, "/peak_a": e.PeakA, "/no_load_a": e.NoLoadA, "/stall_a": e.StallA,
-		"/running_a": e.RunningA, "/max_output_a": e.MaxOutputA, "/quiescent_a": e.QuiescentA,
-		"/continuous_a": e.ContinuousA, "/max_discharge_a": e.MaxDischargeA, "/rating_a": e.RatingA,
-	}
-	for _, ptr := range sortedKeys(volts) {
-		p.CheckOptionalRange(ptr, volts[ptr], 0, MaxVoltageV, "V")
-	}
-	for _, ptr := range sortedKeys(amps) {
-		p.CheckOptionalRange(ptr, amps[ptr], 0, MaxCurrentA, "A")
-	}
-	p.CheckOptionalRange("/no_load_rpm", e.NoLoadRPM, 0, MaxSpeedRPM, "rpm")
-	p.CheckOptionalRange("/efficiency", e.Efficiency, 0.01, 1, "")
-	p.CheckOptionalRange("/theta_ja_c_per_w", e.ThetaJACPerW, 0, 1000, "°C/W")
-	p.CheckOptionalRange("/tj_max_c", e.TjMaxC, 0, MaxTemperatureC, "°C")
-	p.CheckOptionalRange("/cell_capacity_mah", e.CellCapacityMAh, 0, MaxCellCapacityAh*1000, "mAh")
-	if e.Series != nil && (*e.Series < 1 || *e.Series > 1000) {
-		p.Add("/series", "must be between 1 and 1000")
-	}
-	if e.Parallel != nil && (*e.Parallel < 1 || *e.Parallel > 1000) {
-		p.Add("/parallel", "must be between 1 and 1000")
-	}
+	checkDeclared(p, "", reflect.ValueOf(e), "", "")
 	if e.MinV != nil && e.MaxV != nil && *e.MinV > *e.MaxV {
 		p.Add("/min_v", "is above max_v")
 	}
@@ -154,18 +106,6 @@ func (e Electrical) validate(p *Problems) {
 	if e.MinInputV != nil && e.MaxInputV != nil && *e.MinInputV > *e.MaxInputV {
 		p.Add("/min_input_v", "is above max_input_v")
 	}
-	p.CheckText("/topology", e.Topology, MaxShortFieldLen, false)
-	p.CheckText("/chemistry", e.Chemistry, MaxShortFieldLen, false)
-	p.CheckText("/gauge", e.Gauge, MaxShortFieldLen, false)
-}
-
-func sortedKeys[V any](m map[string]V) []string {
-	keys := make([]string, 0, len(m))
-	for k := range m {
-		keys = append(keys, k)
-	}
-	slices.Sort(keys)
-	return keys
 }
 
 // Measurement is one bench reading of a component.

@@ -51,7 +51,6 @@ func TestComponentInputValidate(t *testing.T) {
 			c.Origin = strings.Repeat("o", 2*MaxNameLen)
 			c.Bin = strings.Repeat("b", MaxShortFieldLen)
 			c.Notes = strings.Repeat("x", MaxTextLen)
-			c.Topology = strings.Repeat("t", MaxShortFieldLen)
 			c.Chemistry = strings.Repeat("c", MaxShortFieldLen)
 			c.Gauge = strings.Repeat("g", MaxShortFieldLen)
 		}, nil},
@@ -64,7 +63,7 @@ func TestComponentInputValidate(t *testing.T) {
 		{"origin too long", func(c *ComponentInput) { c.Origin = strings.Repeat("o", 2*MaxNameLen+1) }, []string{"/origin"}},
 		{"bin too long", func(c *ComponentInput) { c.Bin = strings.Repeat("b", MaxShortFieldLen+1) }, []string{"/bin"}},
 		{"notes too long", func(c *ComponentInput) { c.Notes = strings.Repeat("x", MaxTextLen+1) }, []string{"/notes"}},
-		{"topology too long", func(c *ComponentInput) { c.Topology = strings.Repeat("t", MaxShortFieldLen+1) }, []string{"/topology"}},
+		{"unknown topology", func(c *ComponentInput) { c.Topology = "flyback" }, []string{"/topology"}},
 		{"chemistry too long", func(c *ComponentInput) { c.Chemistry = strings.Repeat("c", MaxShortFieldLen+1) }, []string{"/chemistry"}},
 		{"gauge too long", func(c *ComponentInput) { c.Gauge = strings.Repeat("g", MaxShortFieldLen+1) }, []string{"/gauge"}},
 		{"unknown kind", func(c *ComponentInput) { c.Kind = "flux-capacitor" }, []string{"/kind"}},
@@ -132,19 +131,22 @@ func TestEveryKindIsAccepted(t *testing.T) {
 
 // TestElectricalRanges walks every number field of Electrical by
 // reflection, so a field added later without a range check fails here.
+// Every declared number of a part is accepted at both ends of its range
+// and refused just past them, alone, with its own pointer.
 func TestElectricalRanges(t *testing.T) {
-	typ := reflect.TypeFor[Electrical]()
-	floatPtr := reflect.TypeFor[*float64]()
-	intPtr := reflect.TypeFor[*int]()
 	checked := 0
-	for i := range typ.NumField() {
-		f := typ.Field(i)
-		tag, _, _ := strings.Cut(f.Tag.Get("json"), ",")
-		pointer := "/" + tag
+	for _, f := range FieldsOf(reflect.TypeFor[Electrical]()) {
+		if f.Kind != "number" && f.Kind != "integer" {
+			continue
+		}
+		if f.Min == nil || f.Max == nil {
+			t.Errorf("%s declares no range", f.Name)
+			continue
+		}
 		set := func(v float64) ComponentInput {
 			in := validComponent()
-			field := reflect.ValueOf(&in.Electrical).Elem().Field(i)
-			if f.Type == intPtr {
+			field := reflect.ValueOf(&in.Electrical).Elem().FieldByIndex(f.Index)
+			if f.Kind == "integer" {
 				n := int(v)
 				field.Set(reflect.ValueOf(&n))
 			} else {
@@ -152,41 +154,23 @@ func TestElectricalRanges(t *testing.T) {
 			}
 			return in
 		}
-		switch f.Type {
-		case floatPtr:
-			checked++
-			bad := []float64{-1, -1e-9, math.NaN(), math.Inf(1), math.Inf(-1), 1e12}
-			switch {
-			case strings.HasSuffix(tag, "_v"), strings.HasSuffix(tag, "_a"):
-				// 1 kV and 1 kA are the most the shelf accepts; both bounds are inclusive.
-				bad = append(bad, 1000.0001)
-				for _, ok := range []float64{0, 1000} {
-					if err := set(ok).Validate(); err != nil {
-						t.Errorf("%s = %g rejected: %v", tag, ok, err)
-					}
-				}
-			default:
-				if err := set(1).Validate(); err != nil {
-					t.Errorf("%s = 1 rejected: %v", tag, err)
-				}
+		checked++
+		for _, ok := range []float64{*f.Min, *f.Max} {
+			if err := set(ok).Validate(); err != nil {
+				t.Errorf("%s = %g rejected: %v", f.Name, ok, err)
 			}
-			for _, v := range bad {
-				got := problemPointers(t, set(v).Validate())
-				if !slices.Equal(got, []string{pointer}) {
-					t.Errorf("%s = %g: problems at %v, want only %s", tag, v, got, pointer)
-				}
-			}
-		case intPtr:
-			checked++
-			for _, v := range []float64{-1, 0, 1001} {
-				got := problemPointers(t, set(v).Validate())
-				if !slices.Equal(got, []string{pointer}) {
-					t.Errorf("%s = %g: problems at %v, want only %s", tag, v, got, pointer)
-				}
+		}
+		bad := []float64{*f.Min - 1, *f.Max + 1}
+		if f.Kind == "number" {
+			bad = append(bad, *f.Min-1e-9*max(1, math.Abs(*f.Min)), math.NaN(), math.Inf(1), math.Inf(-1))
+		}
+		for _, v := range bad {
+			if got := problemPointers(t, set(v).Validate()); !slices.Equal(got, []string{"/" + f.Name}) {
+				t.Errorf("%s = %g: problems at %v, want only /%s", f.Name, v, got, f.Name)
 			}
 		}
 	}
-	if checked < 20 {
+	if checked < 25 {
 		t.Fatalf("only %d number fields found in Electrical; the walk is broken", checked)
 	}
 }

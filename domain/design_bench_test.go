@@ -16,8 +16,8 @@ import (
 func benchDocument(tb testing.TB, n int) []byte {
 	tb.Helper()
 	d := Design{Format: 1, Name: fmt.Sprintf("bench %d", n), AmbientC: ptrTo(25.0), TargetRuntimeH: ptrTo(2.0)}
-	d.Nodes = append(d.Nodes, Node{ID: "pack", Type: NodeBattery, Chemistry: "lifepo4",
-		Series: ptrTo(4), Parallel: ptrTo(50), CellCapacityMAh: ptrTo(3000.0)})
+	d.Nodes = append(d.Nodes, Node{ID: "pack", Type: NodeBattery, Ratings: Ratings{Chemistry: "lifepo4",
+		Series: ptrTo(4), Parallel: ptrTo(50), CellCapacityMAh: ptrTo(3000.0)}})
 	add := func(nd Node, from, gauge string, length float64, fused bool) {
 		if len(d.Nodes) >= n {
 			return
@@ -30,23 +30,25 @@ func benchDocument(tb testing.TB, n int) []byte {
 	}
 	for g := 0; len(d.Nodes) < n; g++ {
 		id := func(s string) string { return fmt.Sprintf("%s%d", s, g) }
-		add(Node{ID: id("buck"), Type: NodeRegulator, Topology: TopologyBuck, OutputV: ptrTo(5.0), MaxOutputA: ptrTo(3.0),
-			Efficiency: ptrTo(0.88), MinInputV: ptrTo(7.0)}, "pack", "20AWG", 0.3, true)
+		add(Node{ID: id("buck"), Type: NodeRegulator, Ratings: Ratings{Topology: TopologyBuck, OutputV: ptrTo(5.0), MaxOutputA: ptrTo(3.0),
+			Efficiency: ptrTo(0.88), MinInputV: ptrTo(7.0)}}, "pack", "20AWG", 0.3, true)
 		for k := 0; k < 3; k++ {
-			add(Node{ID: id(fmt.Sprintf("sensor%d_", k)), Type: NodeLoad, MinV: ptrTo(4.5), MaxV: ptrTo(5.5),
-				CurrentA: ptrTo(0.05), PeakA: ptrTo(0.1), Critical: k == 0}, id("buck"), "24AWG", 0.2, false)
+			add(Node{ID: id(fmt.Sprintf("sensor%d_", k)), Type: NodeLoad,
+				Critical: k == 0, Ratings: Ratings{MinV: ptrTo(4.5), MaxV: ptrTo(5.5),
+					CurrentA: ptrTo(0.05), PeakA: ptrTo(0.1)}}, id("buck"), "24AWG", 0.2, false)
 		}
-		add(Node{ID: id("ldo"), Type: NodeRegulator, Topology: TopologyLinear, OutputV: ptrTo(3.3), MaxOutputA: ptrTo(0.5),
-			DropoutV: ptrTo(0.3), ThetaJACPerW: ptrTo(60.0), QuiescentA: ptrTo(0.002)}, id("buck"), "24AWG", 0.1, false)
+		add(Node{ID: id("ldo"), Type: NodeRegulator, Ratings: Ratings{Topology: TopologyLinear, OutputV: ptrTo(3.3), MaxOutputA: ptrTo(0.5),
+			DropoutV: ptrTo(0.3), ThetaJACPerW: ptrTo(60.0), QuiescentA: ptrTo(0.002)}}, id("buck"), "24AWG", 0.1, false)
 		for k := 0; k < 2; k++ {
-			add(Node{ID: id(fmt.Sprintf("chip%d_", k)), Type: NodeLoad, MinV: ptrTo(3.0), MaxV: ptrTo(3.6),
-				CurrentA: ptrTo(0.02)}, id("ldo"), "26AWG", 0.1, false)
+			add(Node{ID: id(fmt.Sprintf("chip%d_", k)), Type: NodeLoad, Ratings: Ratings{MinV: ptrTo(3.0), MaxV: ptrTo(3.6),
+				CurrentA: ptrTo(0.02)}}, id("ldo"), "26AWG", 0.1, false)
 		}
-		add(Node{ID: id("drv"), Type: NodeDriver, MaxInputV: ptrTo(30.0), ContinuousA: ptrTo(3.0), PeakA: ptrTo(8.0)},
+		add(Node{ID: id("drv"), Type: NodeDriver, Ratings: Ratings{MaxInputV: ptrTo(30.0), ContinuousA: ptrTo(3.0), PeakA: ptrTo(8.0)}},
 			"pack", "18AWG", 0.4, true)
 		for k := 0; k < 2; k++ {
-			add(Node{ID: id(fmt.Sprintf("motor%d_", k)), Type: NodeMotor, RatedV: ptrTo(12.0), NoLoadA: ptrTo(0.1),
-				StallA: ptrTo(2.5), MinV: ptrTo(6.0), MaxV: ptrTo(15.0), Duty: ptrTo(0.3)}, id("drv"), "20AWG", 0.5, false)
+			add(Node{ID: id(fmt.Sprintf("motor%d_", k)), Type: NodeMotor,
+				Duty: ptrTo(0.3), Ratings: Ratings{RatedV: ptrTo(12.0), NoLoadA: ptrTo(0.1),
+					StallA: ptrTo(2.5), MinV: ptrTo(6.0), MaxV: ptrTo(15.0)}}, id("drv"), "20AWG", 0.5, false)
 			if last := &d.Nodes[len(d.Nodes)-1]; last.Type == NodeMotor {
 				last.Feed.Connectors = []Connector{{Family: "xt30", RatingA: ptrTo(15.0)}}
 			}

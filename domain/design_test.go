@@ -4,7 +4,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"reflect"
 	"slices"
 	"strings"
 	"testing"
@@ -105,21 +104,23 @@ func TestDecodeDesignBrokenJSON(t *testing.T) {
 }
 
 // Well-formed JSON of the wrong shape is a *ValidationError (422) with
-// every problem and its pointer, not just the first.
+// every problem and its pointer, not just the first: shape problems from
+// the format's schema and, for the rest of the document, what Validate
+// finds.
 func TestDecodeDesignShapeProblems(t *testing.T) {
 	body := `{
 	  "format": "1", "colour": "red",
 	  "nodes": [
 	    {"id": "pack", "type": "battery", "series": 2.5, "cell_capacity_mah": 1e400, "chemistry": 7},
 	    {"id": "m", "type": "motor", "critical": "yes",
-	     "feed": {"from": "pack", "wire": {"gauge": "18AWG", "length_m": 1, "colour~/x": 1}, "connectors": {}},
-	     "feed": {"from": "pack"}}
+	     "feed": {"from": "pack"},
+	     "feed": {"from": "pack", "wire": {"gauge": "18AWG", "length_m": 1, "colour~/x": 1}, "connectors": {}}}
 	  ]
 	}`
 	_, err := DecodeDesign([]byte(body))
 	ps := problemsOf(t, err)
 	want := []struct{ ptr, part string }{
-		{"/format", "must be a number"},
+		{"/format", "must be a whole number"},
 		{"/colour", "is not a field of a design"},
 		{"/nodes/0/series", "whole number"},
 		{"/nodes/0/cell_capacity_mah", "too large"},
@@ -128,6 +129,11 @@ func TestDecodeDesignShapeProblems(t *testing.T) {
 		{"/nodes/1/feed/wire/colour~0~1x", "is not a field of a wire"},
 		{"/nodes/1/feed/connectors", "must be an array"},
 		{"/nodes/1/feed", "fed from exactly one parent"},
+		// Found by Validate in what could be decoded.
+		{"/nodes/0/parallel", "is required for a battery"},
+		{"/nodes/1/rated_v", "is required for a motor"},
+		{"/nodes/1/stall_a", "is required for a motor"},
+		{"/nodes/1/no_load_a", "is required for a motor"},
 	}
 	for _, w := range want {
 		if !hasProblem(ps, w.ptr, w.part) {
@@ -146,65 +152,30 @@ func TestDecodeDesignShapeProblems(t *testing.T) {
 	}
 }
 
-// The walker's field list mirrors the struct tags; a field added to one
-// and not the other would be rejected or silently dropped.
-func TestDesignShapeMatchesStructs(t *testing.T) {
-	types := map[string]reflect.Type{
-		"design": reflect.TypeFor[Design](), "node": reflect.TypeFor[Node](), "feed": reflect.TypeFor[Feed](),
-		"wire": reflect.TypeFor[Wire](), "fuse": reflect.TypeFor[Fuse](), "connector": reflect.TypeFor[Connector](),
-	}
-	for name, typ := range types {
-		fields := objectFields(name)
-		var tagged []string
-		for f := range typ.Fields() {
-			tag, _, _ := strings.Cut(f.Tag.Get("json"), ",")
-			tagged = append(tagged, tag)
-			want, ok := fields[tag]
-			if !ok {
-				t.Errorf("%s: field %s (%q) missing from objectFields", name, f.Name, tag)
-				continue
-			}
-			ft := f.Type
-			if ft.Kind() == reflect.Pointer {
-				ft = ft.Elem()
-			}
-			kind := map[reflect.Kind]string{
-				reflect.Float64: "number", reflect.Int: "integer", reflect.Int64: "integer", reflect.String: "string",
-				reflect.Bool: "bool", reflect.Struct: "object", reflect.Slice: "array",
-			}[ft.Kind()]
-			if kind != want.kind {
-				t.Errorf("%s.%s: struct kind %s, walker expects %s", name, tag, kind, want.kind)
-			}
-		}
-		for key := range fields {
-			if !slices.Contains(tagged, key) {
-				t.Errorf("%s: objectFields has %q, the struct does not", name, key)
-			}
+// The four kinds of mistake a member makes at once (an unknown member, a
+// wrong-typed value, a bad gauge, a parent that does not exist) come back
+// together in one answer.
+func TestDecodeDesignListsEveryKindOfMistakeAtOnce(t *testing.T) {
+	body := strings.NewReplacer(
+		`"ambient_c": 25,`, `"ambient_c": 25, "colour": "red",`,
+		`"duty": 0.5`, `"duty": "half"`,
+		`"gauge": "22AWG"`, `"gauge": "40AWG"`,
+		`"from": "reg"`, `"from": "regulator"`,
+	).Replace(validDoc)
+	_, err := DecodeDesign([]byte(body))
+	ps := problemsOf(t, err)
+	for _, w := range []struct{ ptr, part string }{
+		{"/colour", "is not a field of a design"},
+		{"/nodes/2/duty", "must be a number"},
+		{"/nodes/3/feed/wire/gauge", "AWG"},
+		{"/nodes/4/feed/from", "not a node of this design"},
+	} {
+		if !hasProblem(ps, w.ptr, w.part) {
+			t.Errorf("no problem %q at %s; got %v", w.part, w.ptr, ps)
 		}
 	}
-}
-
-// numberFields pairs every float field of a node with its own JSON name.
-func TestNodeNumberFieldsMatchTags(t *testing.T) {
-	names := nodeNumberFields()
-	var n Node
-	typ := reflect.TypeFor[Node]()
-	v := reflect.ValueOf(&n).Elem()
-	for i, name := range names {
-		for f := range typ.Fields() {
-			if tag, _, _ := strings.Cut(f.Tag.Get("json"), ","); tag == name {
-				v.FieldByIndex(f.Index).Set(reflect.ValueOf(ptrTo(float64(i + 1))))
-			}
-		}
-	}
-	fields := n.numberFields()
-	if len(fields) != len(names) {
-		t.Fatalf("%d number fields, %d names", len(fields), len(names))
-	}
-	for i, f := range fields {
-		if f.name != names[i] || f.v == nil || *f.v != float64(i+1) {
-			t.Errorf("field %d: %q points at %v, want %q", i, f.name, f.v, names[i])
-		}
+	if len(ps) != 4 {
+		t.Errorf("got %d problems, want 4: %v", len(ps), ps)
 	}
 }
 
@@ -255,8 +226,8 @@ func TestValidateFindsEachProblem(t *testing.T) {
 		{"no wire", func(_ map[string]any, n []any) { delete(feedOf(n, 1), "wire") }, "/nodes/1/feed/wire", "is required"},
 		{"half a kilometre of wire", func(_ map[string]any, n []any) { feedOf(n, 1)["wire"].(map[string]any)["length_m"] = 500 }, "/nodes/1/feed/wire/length_m", "at most 100"},
 		{"zero length", func(_ map[string]any, n []any) { feedOf(n, 1)["wire"].(map[string]any)["length_m"] = 0 }, "/nodes/1/feed/wire/length_m", "at least"},
-		{"rail over 1 kV", func(_ map[string]any, n []any) { node(n, 3)["output_v"] = 1001 }, "/nodes/3/output_v", "1 kV"},
-		{"current over 1 kA", func(_ map[string]any, n []any) { node(n, 1)["continuous_a"] = 1500 }, "/nodes/1/continuous_a", "1 kA"},
+		{"rail over 1 kV", func(_ map[string]any, n []any) { node(n, 3)["output_v"] = 1001 }, "/nodes/3/output_v", "at most 1000 V"},
+		{"current over 1 kA", func(_ map[string]any, n []any) { node(n, 1)["continuous_a"] = 1500 }, "/nodes/1/continuous_a", "at most 1000 A"},
 		{"1001 cells", func(_ map[string]any, n []any) { node(n, 0)["series"] = 11; node(n, 0)["parallel"] = 91 }, "/nodes/0/parallel", "1001 cells"},
 		{"negative current", func(_ map[string]any, n []any) { node(n, 4)["current_a"] = -0.1 }, "/nodes/4/current_a", "at least 0"},
 		{"zero duty", func(_ map[string]any, n []any) { node(n, 2)["duty"] = 0 }, "/nodes/2/duty", "at least"},
@@ -275,10 +246,10 @@ func TestValidateFindsEachProblem(t *testing.T) {
 		{"min above max", func(_ map[string]any, n []any) { node(n, 4)["min_v"] = 6 }, "/nodes/4/min_v", "above max_v"},
 		{"missing required", func(_ map[string]any, n []any) { delete(node(n, 4), "current_a") }, "/nodes/4/current_a", "is required for a load"},
 		{"missing motor current", func(_ map[string]any, n []any) { delete(node(n, 2), "no_load_a") }, "/nodes/2/no_load_a", "running_a is not given"},
-		{"fuse speed", func(_ map[string]any, n []any) { feedOf(n, 1)["fuse"].(map[string]any)["speed"] = "medium" }, "/nodes/1/feed/fuse/speed", "\"fast\" or \"slow\""},
+		{"fuse speed", func(_ map[string]any, n []any) { feedOf(n, 1)["fuse"].(map[string]any)["speed"] = "medium" }, "/nodes/1/feed/fuse/speed", "one of fast, slow"},
 		{"connector without rating", func(_ map[string]any, n []any) { feedOf(n, 1)["connectors"] = []any{map[string]any{}} }, "/nodes/1/feed/connectors/0/rating_a", "names no family"},
-		{"bad component id", func(_ map[string]any, n []any) { node(n, 4)["component_id"] = 0 }, "/nodes/4/component_id", "positive"},
-		{"ambient", func(d map[string]any, _ []any) { d["ambient_c"] = 500 }, "/ambient_c", "between"},
+		{"bad component id", func(_ map[string]any, n []any) { node(n, 4)["component_id"] = 0 }, "/nodes/4/component_id", "at least 1"},
+		{"ambient", func(d map[string]any, _ []any) { d["ambient_c"] = 500 }, "/ambient_c", "at most 100 °C"},
 		{"no nodes", func(d map[string]any, _ []any) { d["nodes"] = []any{} }, "/nodes", "is empty"},
 	}
 	for _, tt := range tests {
@@ -294,8 +265,9 @@ func TestValidateFindsEachProblem(t *testing.T) {
 func TestValidateCycle(t *testing.T) {
 	// pack feeds drv; reg and brain feed each other and never reach a source.
 	d := mutate(t, func(_ map[string]any, n []any) { feedOf(n, 3)["from"] = "brain"; node(n, 4)["type"] = "driver" })
-	d.Nodes[4] = Node{ID: "brain", Type: NodeDriver, MaxInputV: ptrTo(12.0), ContinuousA: ptrTo(1.0),
-		Feed: &Feed{From: "reg", Wire: &Wire{Gauge: "22AWG", LengthM: 0.1}}}
+	d.Nodes[4] = Node{ID: "brain", Type: NodeDriver,
+		Feed: &Feed{From: "reg", Wire: &Wire{Gauge: "22AWG", LengthM: 0.1}}, Ratings: Ratings{MaxInputV: ptrTo(12.0), ContinuousA: ptrTo(1.0)},
+	}
 	ps := problemsOf(t, d.Validate())
 	if !hasProblem(ps, "/nodes/4/feed/from", "closes a loop (reg → brain → reg)") {
 		t.Errorf("no loop reported: %v", ps)
@@ -328,8 +300,9 @@ func TestValidateNodeLimits(t *testing.T) {
 	d := decodeValid(t)
 	extra := make([]Node, MaxDesignNodes-len(d.Nodes)) // exactly MaxDesignNodes: accepted
 	for i := range extra {
-		extra[i] = Node{ID: fmt.Sprintf("led%d", i), Type: NodeLoad, CurrentA: ptrTo(0.01),
-			Feed: &Feed{From: "reg", Wire: &Wire{Gauge: "26AWG", LengthM: 0.05}}}
+		extra[i] = Node{ID: fmt.Sprintf("led%d", i), Type: NodeLoad,
+			Feed: &Feed{From: "reg", Wire: &Wire{Gauge: "26AWG", LengthM: 0.05}}, Ratings: Ratings{CurrentA: ptrTo(0.01)},
+		}
 	}
 	d.Nodes = append(d.Nodes, extra...)
 	if err := d.Validate(); err != nil {
@@ -337,7 +310,7 @@ func TestValidateNodeLimits(t *testing.T) {
 	}
 	d.Nodes = append(d.Nodes, extra[0])
 	d.Nodes[len(d.Nodes)-1].ID = "one_too_many"
-	if ps := problemsOf(t, d.Validate()); !hasProblem(ps, "/nodes", "5001 nodes") {
+	if ps := problemsOf(t, d.Validate()); !hasProblem(ps, "/nodes", "5001 items; at most 5000") {
 		t.Errorf("got %v", ps)
 	}
 }

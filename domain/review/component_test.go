@@ -30,8 +30,7 @@ func reviewErr(t *testing.T, js string, comps map[int64]domain.Component) error 
 // A node fills what it leaves out from its component; its own fields win.
 func TestComponentFill(t *testing.T) {
 	comps := map[int64]domain.Component{
-		17: {ID: 17, ComponentInput: domain.ComponentInput{Kind: "motor", MainsOrigin: true, Electrical: domain.Electrical{
-			RatedV: f64(12), NoLoadA: f64(0.25), StallA: f64(4), MinV: f64(3), MaxV: f64(11)}}},
+		17: {ID: 17, ComponentInput: domain.ComponentInput{Kind: "motor", MainsOrigin: true, Electrical: domain.Electrical{Ratings: domain.Ratings{RatedV: f64(12), NoLoadA: f64(0.25), StallA: f64(4), MinV: f64(3), MaxV: f64(11)}}}},
 	}
 	// The node overrides max_v (11 → 13) and adds a duty. Running current
 	// defaults to √(0.25 × 4) = 1 A (the maximum-efficiency current); the
@@ -58,7 +57,7 @@ func TestComponentFill(t *testing.T) {
 
 	// A field neither the node nor the component gives.
 	comps[17] = domain.Component{ID: 17, ComponentInput: domain.ComponentInput{Kind: "motor",
-		Electrical: domain.Electrical{RatedV: f64(12), NoLoadA: f64(0.25)}}}
+		Electrical: domain.Electrical{Ratings: domain.Ratings{RatedV: f64(12), NoLoadA: f64(0.25)}}}}
 	ps = problems(t, reviewErr(t, js, comps))
 	if len(ps) != 1 || ps[0].Pointer != "/nodes/1/stall_a" || !strings.Contains(ps[0].Detail, "component 17") {
 		t.Errorf("incomplete after filling: %v", ps)
@@ -66,7 +65,7 @@ func TestComponentFill(t *testing.T) {
 
 	// A component value that contradicts the node's own.
 	comps[17] = domain.Component{ID: 17, ComponentInput: domain.ComponentInput{Kind: "motor",
-		Electrical: domain.Electrical{RatedV: f64(12), NoLoadA: f64(0.25), StallA: f64(4), MinV: f64(14)}}}
+		Electrical: domain.Electrical{Ratings: domain.Ratings{RatedV: f64(12), NoLoadA: f64(0.25), StallA: f64(4), MinV: f64(14)}}}}
 	ps = problems(t, reviewErr(t, js, comps))
 	if len(ps) != 1 || ps[0].Pointer != "/nodes/1/min_v" {
 		t.Errorf("contradiction after filling: %v", ps)

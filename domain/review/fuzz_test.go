@@ -13,11 +13,11 @@ import (
 // fuzzComponents gives component_id something to find.
 func fuzzComponents() map[int64]domain.Component {
 	motor := domain.Component{ID: 1, ComponentInput: domain.ComponentInput{Kind: "motor", MainsOrigin: true,
-		Electrical: domain.Electrical{RatedV: f64(12), NoLoadA: f64(0.2), StallA: f64(3), MinV: f64(4), MaxV: f64(14)}}}
+		Electrical: domain.Electrical{Ratings: domain.Ratings{RatedV: f64(12), NoLoadA: f64(0.2), StallA: f64(3), MinV: f64(4), MaxV: f64(14)}}}}
 	buck := domain.Component{ID: 2, ComponentInput: domain.ComponentInput{Kind: "regulator",
-		Electrical: domain.Electrical{Topology: "buck", OutputV: f64(5), MaxOutputA: f64(2), Efficiency: f64(0.9)}}}
+		Electrical: domain.Electrical{Ratings: domain.Ratings{Topology: "buck", OutputV: f64(5), MaxOutputA: f64(2), Efficiency: f64(0.9)}}}}
 	pack := domain.Component{ID: 3, ComponentInput: domain.ComponentInput{Kind: "battery",
-		Electrical: domain.Electrical{Chemistry: "liion", Series: intp(3), Parallel: intp(1), CellCapacityMAh: f64(2500)}}}
+		Electrical: domain.Electrical{Ratings: domain.Ratings{Chemistry: "liion", Series: intp(3), Parallel: intp(1), CellCapacityMAh: f64(2500)}}}}
 	return map[int64]domain.Component{1: motor, 2: buck, 3: pack}
 }
 

@@ -102,8 +102,8 @@ func randomDesign(rng *rand.Rand, n int) domain.Design {
 // with two motors.
 func benchDesign(n int) domain.Design {
 	d := domain.Design{Format: 1, Name: fmt.Sprintf("bench %d", n), AmbientC: f64(25), TargetRuntimeH: f64(2)}
-	d.Nodes = append(d.Nodes, domain.Node{ID: "pack", Type: domain.NodeBattery, Chemistry: "lifepo4",
-		Series: intp(4), Parallel: intp(50), CellCapacityMAh: f64(3000)})
+	d.Nodes = append(d.Nodes, domain.Node{ID: "pack", Type: domain.NodeBattery, Ratings: domain.Ratings{Chemistry: "lifepo4",
+		Series: intp(4), Parallel: intp(50), CellCapacityMAh: f64(3000)}})
 	add := func(nd domain.Node, from, gauge string, length float64, fused bool) {
 		if len(d.Nodes) >= n {
 			return
@@ -116,23 +116,25 @@ func benchDesign(n int) domain.Design {
 	}
 	for g := 0; len(d.Nodes) < n; g++ {
 		id := func(s string) string { return fmt.Sprintf("%s%d", s, g) }
-		add(domain.Node{ID: id("buck"), Type: domain.NodeRegulator, Topology: "buck", OutputV: f64(5), MaxOutputA: f64(3),
-			Efficiency: f64(0.88), MinInputV: f64(7)}, "pack", "20AWG", 0.3, true)
+		add(domain.Node{ID: id("buck"), Type: domain.NodeRegulator, Ratings: domain.Ratings{Topology: "buck", OutputV: f64(5), MaxOutputA: f64(3),
+			Efficiency: f64(0.88), MinInputV: f64(7)}}, "pack", "20AWG", 0.3, true)
 		for k := 0; k < 3; k++ {
-			add(domain.Node{ID: id(fmt.Sprintf("sensor%d_", k)), Type: domain.NodeLoad, MinV: f64(4.5), MaxV: f64(5.5),
-				CurrentA: f64(0.05), PeakA: f64(0.1), Critical: k == 0}, id("buck"), "24AWG", 0.2, false)
+			add(domain.Node{ID: id(fmt.Sprintf("sensor%d_", k)), Type: domain.NodeLoad,
+				Critical: k == 0, Ratings: domain.Ratings{MinV: f64(4.5), MaxV: f64(5.5),
+					CurrentA: f64(0.05), PeakA: f64(0.1)}}, id("buck"), "24AWG", 0.2, false)
 		}
-		add(domain.Node{ID: id("ldo"), Type: domain.NodeRegulator, Topology: "linear", OutputV: f64(3.3), MaxOutputA: f64(0.5),
-			DropoutV: f64(0.3), ThetaJACPerW: f64(60), QuiescentA: f64(0.002)}, id("buck"), "24AWG", 0.1, false)
+		add(domain.Node{ID: id("ldo"), Type: domain.NodeRegulator, Ratings: domain.Ratings{Topology: "linear", OutputV: f64(3.3), MaxOutputA: f64(0.5),
+			DropoutV: f64(0.3), ThetaJACPerW: f64(60), QuiescentA: f64(0.002)}}, id("buck"), "24AWG", 0.1, false)
 		for k := 0; k < 2; k++ {
-			add(domain.Node{ID: id(fmt.Sprintf("chip%d_", k)), Type: domain.NodeLoad, MinV: f64(3), MaxV: f64(3.6),
-				CurrentA: f64(0.02)}, id("ldo"), "26AWG", 0.1, false)
+			add(domain.Node{ID: id(fmt.Sprintf("chip%d_", k)), Type: domain.NodeLoad, Ratings: domain.Ratings{MinV: f64(3), MaxV: f64(3.6),
+				CurrentA: f64(0.02)}}, id("ldo"), "26AWG", 0.1, false)
 		}
-		add(domain.Node{ID: id("drv"), Type: domain.NodeDriver, MaxInputV: f64(30), ContinuousA: f64(3), PeakA: f64(8)},
+		add(domain.Node{ID: id("drv"), Type: domain.NodeDriver, Ratings: domain.Ratings{MaxInputV: f64(30), ContinuousA: f64(3), PeakA: f64(8)}},
 			"pack", "18AWG", 0.4, true)
 		for k := 0; k < 2; k++ {
-			add(domain.Node{ID: id(fmt.Sprintf("motor%d_", k)), Type: domain.NodeMotor, RatedV: f64(12), NoLoadA: f64(0.1),
-				StallA: f64(2.5), MinV: f64(6), MaxV: f64(15), Duty: f64(0.3)}, id("drv"), "20AWG", 0.5, false)
+			add(domain.Node{ID: id(fmt.Sprintf("motor%d_", k)), Type: domain.NodeMotor,
+				Duty: f64(0.3), Ratings: domain.Ratings{RatedV: f64(12), NoLoadA: f64(0.1),
+					StallA: f64(2.5), MinV: f64(6), MaxV: f64(15)}}, id("drv"), "20AWG", 0.5, false)
 		}
 	}
 	return d

@@ -133,77 +133,6 @@ func (n *node) minWorkingInputV() float64 {
 	return 0
 }
 
-// fill completes a node from its stored component: every field the node
-// leaves out and its type uses. The node's own fields win.
-func fill(n domain.Node, c domain.Component) domain.Node {
-	e := c.Electrical
-	f64 := func(dst **float64, src ...*float64) {
-		if *dst != nil {
-			return
-		}
-		for _, s := range src {
-			if s != nil {
-				v := *s
-				*dst = &v
-				return
-			}
-		}
-	}
-	switch n.Type {
-	case domain.NodeBattery:
-		if n.Chemistry == "" {
-			n.Chemistry = e.Chemistry
-		}
-		if n.Series == nil && e.Series != nil {
-			v := *e.Series
-			n.Series = &v
-		}
-		if n.Parallel == nil && e.Parallel != nil {
-			v := *e.Parallel
-			n.Parallel = &v
-		}
-		f64(&n.CellCapacityMAh, e.CellCapacityMAh)
-		f64(&n.MaxDischargeA, e.MaxDischargeA)
-	case domain.NodeSupply:
-		f64(&n.OutputV, e.OutputV, e.NominalV)
-		f64(&n.MaxA, e.MaxOutputA, e.CurrentA)
-	case domain.NodeRegulator:
-		if n.Topology == "" {
-			n.Topology = e.Topology
-		}
-		f64(&n.OutputV, e.OutputV)
-		f64(&n.MaxOutputA, e.MaxOutputA)
-		f64(&n.QuiescentA, e.QuiescentA)
-		f64(&n.MaxInputV, e.MaxInputV)
-		if n.Topology == domain.TopologyLinear {
-			f64(&n.DropoutV, e.DropoutV)
-			f64(&n.ThetaJACPerW, e.ThetaJACPerW)
-			f64(&n.TjMaxC, e.TjMaxC)
-		} else {
-			f64(&n.Efficiency, e.Efficiency)
-			f64(&n.MinInputV, e.MinInputV)
-		}
-	case domain.NodeDriver:
-		f64(&n.MaxInputV, e.MaxInputV)
-		f64(&n.ContinuousA, e.ContinuousA)
-		f64(&n.PeakA, e.PeakA)
-		f64(&n.QuiescentA, e.QuiescentA)
-	case domain.NodeMotor:
-		f64(&n.RatedV, e.RatedV)
-		f64(&n.NoLoadA, e.NoLoadA)
-		f64(&n.StallA, e.StallA)
-		f64(&n.RunningA, e.RunningA)
-		f64(&n.MinV, e.MinV)
-		f64(&n.MaxV, e.MaxV)
-	case domain.NodeLoad:
-		f64(&n.MinV, e.MinV)
-		f64(&n.MaxV, e.MaxV)
-		f64(&n.CurrentA, e.CurrentA)
-		f64(&n.PeakA, e.PeakA)
-	}
-	return n
-}
-
 func parseTopology(s string) topology {
 	switch s {
 	case domain.TopologyBuck:
@@ -253,7 +182,7 @@ func build(ws *workspace, doc domain.Design, limits *Limits, components map[int6
 				continue
 			}
 			n.mainsPart = c.MainsOrigin
-			dn = fill(dn, c)
+			dn = c.FillNode(dn)
 			var np domain.Problems
 			dn.CheckValues(&np, ptr)
 			dn.CheckComplete(&np, ptr)

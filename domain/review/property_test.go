@@ -49,9 +49,10 @@ func TestPropertyAddingLoadNeverLowersAncestorCurrent(t *testing.T) {
 			}
 		}
 		parent := d.Nodes[feeders[rng.IntN(len(feeders))]].ID
-		d.Nodes = append(d.Nodes, domain.Node{ID: "extra", Type: domain.NodeLoad, CurrentA: f64(0.01 + rng.Float64()),
+		d.Nodes = append(d.Nodes, domain.Node{ID: "extra", Type: domain.NodeLoad,
 			Duty: f64(0.1 + 0.9*rng.Float64()),
-			Feed: &domain.Feed{From: parent, Wire: &domain.Wire{Gauge: "22AWG", LengthM: 0.5}}})
+			Feed: &domain.Feed{From: parent, Wire: &domain.Wire{Gauge: "22AWG", LengthM: 0.5}}, Ratings: domain.Ratings{CurrentA: f64(0.01 + rng.Float64())},
+		})
 		after := mustReview(t, d)
 		if !settled(before) || !settled(after) {
 			continue

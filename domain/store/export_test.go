@@ -34,7 +34,7 @@ func fillForExport(t *testing.T, s *store.Store, dbURL string) {
 	member := domain.User{Name: "bo", Role: domain.RoleMember}
 	motor := domain.ComponentInput{Name: "Gear motor <small> & \"quoted\"", Kind: "motor", Bin: "M1 ünïcödé",
 		Quantity: 2, Notes: "line one\nline two\ttabbed",
-		Electrical: domain.Electrical{RatedV: ptr(7.2), NoLoadA: ptr(0.42), StallA: ptr(9.5), NoLoadRPM: ptr(14800.0)}}
+		Electrical: domain.Electrical{NoLoadRPM: ptr(14800.0), Ratings: domain.Ratings{RatedV: ptr(7.2), NoLoadA: ptr(0.42), StallA: ptr(9.5)}}}
 	motor.Defaults()
 	m, err := s.CreateComponent(ctx, member, motor)
 	if err != nil {
@@ -48,7 +48,7 @@ func fillForExport(t *testing.T, s *store.Store, dbURL string) {
 		t.Fatal(err)
 	}
 	reg := domain.ComponentInput{Name: "Buck module", Kind: "regulator", MainsOrigin: false, Condition: "working",
-		SpecSource: "measured", Electrical: domain.Electrical{Topology: "buck", OutputV: ptr(5.0), Efficiency: ptr(0.88)}}
+		SpecSource: "measured", Electrical: domain.Electrical{Ratings: domain.Ratings{Topology: "buck", OutputV: ptr(5.0), Efficiency: ptr(0.88)}}}
 	r, err := s.CreateComponent(ctx, staff, reg)
 	if err != nil {
 		t.Fatal(err)

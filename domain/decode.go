@@ -1,0 +1,391 @@
+package domain
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"reflect"
+	"slices"
+	"strconv"
+	"strings"
+	"sync"
+
+	"github.com/go-json-experiment/json"
+	"github.com/go-json-experiment/json/jsontext"
+	"github.com/santhosh-tekuri/jsonschema/v6"
+	"github.com/santhosh-tekuri/jsonschema/v6/kind"
+)
+
+// StrictJSON is how every request body is read, configured once: unknown
+// members are refused, and (json v2's defaults) names match exactly and a
+// name given twice in one object is refused.
+func StrictJSON() json.Options { return json.RejectUnknownMembers(true) }
+
+// DecodeStrict decodes the one JSON value in data into v. Input that is
+// not well-formed JSON (a syntax error, an empty body, trailing data)
+// gives a *DecodeError; well-formed JSON that does not fit v gives a
+// *ValidationError naming the problem by JSON pointer.
+func DecodeStrict(data []byte, v any) error {
+	if len(bytes.TrimSpace(data)) == 0 {
+		return &DecodeError{Reason: "the body is empty; send a JSON object"}
+	}
+	err := json.Unmarshal(data, v, StrictJSON())
+	if err == nil {
+		return nil
+	}
+	if broken := malformed(data, err); broken != nil {
+		return broken
+	}
+	return &ValidationError{Problems: []FieldProblem{shapeProblem(err)}}
+}
+
+// malformed is a *DecodeError when err says data is not well-formed JSON,
+// and nil when it is well-formed but does not fit.
+func malformed(data []byte, err error) error {
+	var syn *jsontext.SyntacticError
+	switch {
+	case errors.As(err, &syn) && !errors.Is(err, jsontext.ErrDuplicateName):
+		reason := strings.TrimPrefix(syn.Err.Error(), "jsontext: ")
+		if errors.Is(syn.Err, io.ErrUnexpectedEOF) {
+			reason = "the document ends too early"
+		} else if strings.Contains(reason, "after top-level value") {
+			reason = "trailing data after the JSON value"
+		}
+		return &DecodeError{Offset: syn.ByteOffset, Reason: reason + lineCol(data, syn.ByteOffset)}
+	case errors.Is(err, io.ErrUnexpectedEOF):
+		off := int64(len(data))
+		return &DecodeError{Offset: off, Reason: "the document ends too early" + lineCol(data, off)}
+	}
+	return nil
+}
+
+// lineCol says where offset falls, for people reading a file in an editor.
+func lineCol(data []byte, offset int64) string {
+	offset = min(max(offset, 0), int64(len(data)))
+	before := data[:offset]
+	line := bytes.Count(before, []byte{'\n'}) + 1
+	col := int64(len(before)) - int64(bytes.LastIndexByte(before, '\n'))
+	return fmt.Sprintf(" (line %d, column %d)", line, col)
+}
+
+// shapeProblem describes a decoding error of well-formed JSON: a name
+// given twice, an unknown member, or a value of the wrong kind.
+func shapeProblem(err error) FieldProblem {
+	var syn *jsontext.SyntacticError
+	if errors.As(err, &syn) {
+		return FieldProblem{Pointer: string(syn.JSONPointer), Detail: "appears twice in one object"}
+	}
+	var sem *json.SemanticError
+	if !errors.As(err, &sem) {
+		return FieldProblem{Detail: "cannot be read: " + err.Error()}
+	}
+	ptr := string(sem.JSONPointer)
+	switch {
+	case errors.Is(err, json.ErrUnknownName):
+		return FieldProblem{Pointer: ptr, Detail: "is not a known field"}
+	case sem.GoType == nil:
+		return FieldProblem{Pointer: ptr, Detail: "cannot be read"}
+	}
+	t := sem.GoType
+	for t.Kind() == reflect.Pointer {
+		t = t.Elem()
+	}
+	want := map[string]string{
+		"float64": "a number", "int": "a whole number", "int64": "a whole number", "string": "a string",
+		"bool": "true or false", "slice": "an array", "struct": "an object", "map": "an object",
+	}[t.Kind().String()]
+	switch {
+	case want == "":
+		return FieldProblem{Pointer: ptr, Detail: "has the wrong type"}
+	case sem.JSONKind == '0' && (want == "a number" || want == "a whole number"):
+		if want == "a whole number" {
+			return FieldProblem{Pointer: ptr, Detail: "must be a whole number in range"}
+		}
+		return FieldProblem{Pointer: ptr, Detail: "is too large a number"}
+	}
+	return FieldProblem{Pointer: ptr, Detail: "must be " + want}
+}
+
+// DecodeDesign reads a design document strictly. Input that is not
+// well-formed JSON gives a *DecodeError. Well-formed JSON that does not
+// fit the format gives a *ValidationError listing every problem with its
+// JSON pointer: every unknown member and wrong-typed value, found by the
+// format's JSON Schema, and everything Validate finds in the rest. Call
+// Validate on a document that decodes.
+func DecodeDesign(data []byte) (Design, error) {
+	if len(bytes.TrimSpace(data)) == 0 {
+		return Design{}, &DecodeError{Reason: "the body is empty; send a design document"}
+	}
+	var d Design
+	err := json.Unmarshal(data, &d, StrictJSON())
+	if err == nil && bytes.TrimSpace(data)[0] != '{' {
+		err = &ValidationError{Problems: []FieldProblem{{Detail: "must be a JSON object (a design document)"}}}
+		return Design{}, err
+	}
+	if err == nil {
+		return d, nil
+	}
+	if broken := malformed(data, err); broken != nil {
+		return Design{}, broken
+	}
+	return Design{}, describeDesign(data, err)
+}
+
+// designSchema is the design schema compiled, once: it is made from the
+// declaration, which does not change while the program runs.
+var designSchema = sync.OnceValue(func() *jsonschema.Schema {
+	doc, err := jsonschema.UnmarshalJSON(bytes.NewReader(DesignSchema()))
+	if err != nil {
+		panic(fmt.Sprintf("read the design schema: %v", err))
+	}
+	c := jsonschema.NewCompiler()
+	if err := c.AddResource(DesignSchemaID, doc); err != nil {
+		panic(fmt.Sprintf("add the design schema: %v", err))
+	}
+	return c.MustCompile(DesignSchemaID)
+})
+
+// describeDesign lists every problem of a well-formed document that did
+// not decode (first is the decoder's error). The schema finds the members
+// that cannot be decoded; they are set aside, the rest is decoded and
+// validated, and each problem is reported once, at its own pointer.
+func describeDesign(data []byte, first error) error {
+	var doc any
+	if err := json.Unmarshal(data, &doc, jsontext.AllowDuplicateNames(true)); err != nil {
+		// A number out of float range: read every number as written.
+		if doc, err = jsonschema.UnmarshalJSON(bytes.NewReader(data)); err != nil {
+			return &ValidationError{Problems: []FieldProblem{shapeProblem(first)}}
+		}
+		doc = numbersAsWritten(doc)
+	}
+	var p Problems
+	said := map[string]bool{}
+	add := func(ptr, format string, args ...any) {
+		if !said[ptr] {
+			said[ptr] = true
+			p.Add(ptr, format, args...)
+		}
+	}
+	for _, ptr := range repeatedNames(data) {
+		if strings.Count(ptr, "/") == 3 && strings.HasSuffix(ptr, "/feed") {
+			add(ptr, "appears twice: a node is fed from exactly one parent")
+		} else {
+			add(ptr, "appears twice in one object")
+		}
+	}
+	if _, ok := doc.(map[string]any); !ok {
+		add("", "must be a JSON object (a design document)")
+		return p.Err()
+	}
+	var ve *jsonschema.ValidationError
+	if errors.As(designSchema().Validate(doc), &ve) {
+		for _, leaf := range leaves(ve) {
+			ptr := pointerOf(leaf.InstanceLocation)
+			switch k := leaf.ErrorKind.(type) {
+			case *kind.AdditionalProperties:
+				for _, name := range k.Properties {
+					add(ptr+"/"+escapePointer(name), "is not a field of a %s (the design format lists its fields: GET /v1/schemas/design.json)",
+						objectAt(leaf.InstanceLocation))
+					doc = prune(doc, append(slices.Clone(leaf.InstanceLocation), name))
+				}
+			case *kind.Type:
+				if slices.Equal(k.Want, []string{"null"}) {
+					continue // the other branch of an optional object says what is wrong
+				}
+				add(ptr, "must be %s", typeWords(k.Want))
+				doc = prune(doc, leaf.InstanceLocation)
+			}
+		}
+	}
+	// What is left decodes, unless a number is out of range for its Go
+	// type; each such value is set aside in turn, a bounded number of times.
+	var d Design
+	for range MaxProblems {
+		cleaned, err := json.Marshal(doc)
+		if err != nil {
+			break
+		}
+		err = json.Unmarshal(cleaned, &d, StrictJSON())
+		if err == nil {
+			break
+		}
+		fp := shapeProblem(err)
+		if said[fp.Pointer] {
+			break
+		}
+		add(fp.Pointer, "%s", fp.Detail)
+		loc := jsontext.Pointer(fp.Pointer)
+		if fp.Pointer == "" || !loc.IsValid() {
+			break
+		}
+		doc = prune(doc, slices.Collect(loc.Tokens()))
+		d = Design{}
+	}
+	if err := d.Validate(); err != nil {
+		var more *ValidationError
+		if errors.As(err, &more) {
+			for _, fp := range more.Problems {
+				if !coveredBy(fp.Pointer, said) {
+					add(fp.Pointer, "%s", fp.Detail)
+				}
+			}
+		}
+	}
+	if p.Len() == 0 {
+		fp := shapeProblem(first)
+		p.Add(fp.Pointer, "%s", fp.Detail)
+	}
+	return p.Err()
+}
+
+// repeatedNames are the pointers of every member whose name its object
+// has already given: the schema sees only the last of them, and the
+// decoder stops at the first.
+func repeatedNames(data []byte) []string {
+	dec := jsontext.NewDecoder(bytes.NewReader(data), jsontext.AllowDuplicateNames(true))
+	var seen []map[string]bool // the names of each open object; nil for an array
+	var out []string
+	for len(out) < MaxProblems {
+		tok, err := dec.ReadToken()
+		if err != nil {
+			return out
+		}
+		depth := len(seen)
+		switch k := tok.Kind(); {
+		case k == '{':
+			seen = append(seen, map[string]bool{})
+			continue
+		case k == '[':
+			seen = append(seen, nil)
+			continue
+		case k == '}' || k == ']':
+			seen = seen[:depth-1]
+			continue
+		}
+		if depth == 0 || seen[depth-1] == nil {
+			continue
+		}
+		// A string token inside an object that is a name: the decoder's
+		// stack counts names and values, names at even places.
+		if _, n := dec.StackIndex(dec.StackDepth()); n%2 == 1 {
+			name := tok.String()
+			if seen[depth-1][name] {
+				out = append(out, string(dec.StackPointer()))
+			}
+			seen[depth-1][name] = true
+		}
+	}
+	return out
+}
+
+// numbersAsWritten turns the schema library's json.Number values into
+// JSON text, so a document read by it encodes again as it was written.
+func numbersAsWritten(v any) any {
+	switch x := v.(type) {
+	case map[string]any:
+		for k, e := range x {
+			x[k] = numbersAsWritten(e)
+		}
+	case []any:
+		for i, e := range x {
+			x[i] = numbersAsWritten(e)
+		}
+	case interface{ String() string }:
+		return jsontext.Value(x.String())
+	}
+	return v
+}
+
+// leaves are the errors at the bottom of a schema validation error's
+// tree: the ones that say what is wrong.
+func leaves(e *jsonschema.ValidationError) []*jsonschema.ValidationError {
+	if len(e.Causes) == 0 {
+		return []*jsonschema.ValidationError{e}
+	}
+	var out []*jsonschema.ValidationError
+	for _, c := range e.Causes {
+		out = append(out, leaves(c)...)
+	}
+	return out
+}
+
+// coveredBy tells whether ptr is one already said or lies inside one.
+func coveredBy(ptr string, said map[string]bool) bool {
+	for p := ptr; ; {
+		if said[p] {
+			return true
+		}
+		i := strings.LastIndexByte(p, '/')
+		if i < 0 {
+			return false
+		}
+		p = p[:i]
+	}
+}
+
+// prune sets aside the value at loc: a member is deleted, an array
+// element becomes an empty object so the pointers of the others stand.
+func prune(doc any, loc []string) any {
+	if len(loc) == 0 {
+		return map[string]any{}
+	}
+	switch v := doc.(type) {
+	case map[string]any:
+		if len(loc) == 1 {
+			delete(v, loc[0])
+		} else if child, ok := v[loc[0]]; ok {
+			v[loc[0]] = prune(child, loc[1:])
+		}
+	case []any:
+		for i := range v {
+			if strconv.Itoa(i) == loc[0] {
+				if len(loc) == 1 {
+					v[i] = map[string]any{}
+				} else {
+					v[i] = prune(v[i], loc[1:])
+				}
+			}
+		}
+	}
+	return doc
+}
+
+func pointerOf(loc []string) string {
+	var b strings.Builder
+	for _, t := range loc {
+		b.WriteString("/" + escapePointer(t))
+	}
+	return b.String()
+}
+
+// escapePointer escapes one JSON pointer reference token (RFC 6901).
+func escapePointer(s string) string {
+	return strings.NewReplacer("~", "~0", "/", "~1").Replace(s)
+}
+
+// objectAt names the object of a design document at loc.
+func objectAt(loc []string) string {
+	switch {
+	case len(loc) == 0:
+		return "design"
+	case len(loc) == 2 && loc[0] == "nodes":
+		return "node"
+	case len(loc) >= 2 && loc[len(loc)-2] == "connectors":
+		return "connector"
+	}
+	return loc[len(loc)-1]
+}
+
+func typeWords(want []string) string {
+	words := map[string]string{
+		"number": "a number", "integer": "a whole number", "string": "a string", "boolean": "true or false",
+		"object": "an object", "array": "an array",
+	}
+	for _, w := range want {
+		if s, ok := words[w]; ok {
+			return s
+		}
+	}
+	return strings.Join(want, " or ")
+}

@@ -1,0 +1,268 @@
+package domain
+
+import (
+	"fmt"
+	"reflect"
+	"slices"
+	"strconv"
+	"strings"
+	"sync"
+)
+
+// The design document and a part's ratings are declared once, as Go
+// structs whose tags say everything else needs to know about each field:
+//
+//	json:"name,omitzero"  its name; a field without omitzero is required
+//	doc:"…"               what it means, for the JSON Schema and the format reference
+//	unit:"V"              its unit
+//	min:"0" max:"1000"    its accepted range, inclusive, for numbers
+//	for:"motor load"      the node types it applies to ("regulator/linear": of that topology only);
+//	                      no tag: every type
+//	default:"…"           what a left-out value means
+//	enum:"a b c"          the values a string may take
+//	maxlen:"120"          the longest a string may be (default MaxShortFieldLen)
+//
+// Validation, the filling of a node from its stored component, the JSON
+// Schema and the format reference all read this table, so none of them
+// lists a field again.
+
+// Field is one declared field of a struct of the design document or of a
+// part's ratings.
+type Field struct {
+	Name     string // its JSON name
+	Index    []int  // for reflect.Value.FieldByIndex
+	Kind     string // number, integer, string, boolean, object, array
+	Elem     reflect.Type
+	Required bool
+	Doc      string
+	Unit     string
+	Min, Max *float64
+	For      []string // node types, "type" or "type/topology"; empty: all
+	Default  string
+	Enum     []string
+	MaxLen   int
+}
+
+// declaredFields reads the tags of the declared structs once: validation
+// runs on every node of every review, and the tags cannot change while
+// the program runs, so the table is as constant as they are.
+var declaredFields = sync.OnceValue(func() map[reflect.Type][]Field {
+	m := map[reflect.Type][]Field{}
+	for _, t := range []reflect.Type{
+		reflect.TypeFor[Design](), reflect.TypeFor[Node](), reflect.TypeFor[Feed](), reflect.TypeFor[Wire](),
+		reflect.TypeFor[Fuse](), reflect.TypeFor[Connector](), reflect.TypeFor[Ratings](), reflect.TypeFor[Electrical](),
+	} {
+		m[t] = readFields(t, nil)
+	}
+	return m
+})
+
+// FieldsOf returns the declared fields of struct type t, embedded structs
+// flattened into their parent as JSON flattens them.
+func FieldsOf(t reflect.Type) []Field {
+	if f, ok := declaredFields()[t]; ok {
+		return f
+	}
+	return readFields(t, nil)
+}
+
+func readFields(t reflect.Type, index []int) []Field {
+	var out []Field
+	for i := range t.NumField() {
+		sf := t.Field(i)
+		idx := append(slices.Clone(index), i)
+		tag := sf.Tag.Get("json")
+		if sf.Anonymous && tag == "" {
+			out = append(out, readFields(sf.Type, idx)...)
+			continue
+		}
+		name, opts, _ := strings.Cut(tag, ",")
+		if name == "-" || !sf.IsExported() {
+			continue
+		}
+		f := Field{
+			Name: name, Index: idx, Required: !strings.Contains(opts, "omit"),
+			Doc: sf.Tag.Get("doc"), Unit: sf.Tag.Get("unit"), Default: sf.Tag.Get("default"),
+			MaxLen: MaxShortFieldLen,
+		}
+		ft := sf.Type
+		if ft.Kind() == reflect.Pointer {
+			ft = ft.Elem()
+		}
+		switch ft.Kind() {
+		case reflect.Float64:
+			f.Kind = "number"
+		case reflect.Int, reflect.Int64:
+			f.Kind = "integer"
+		case reflect.String:
+			f.Kind = "string"
+		case reflect.Bool:
+			f.Kind = "boolean"
+		case reflect.Struct:
+			f.Kind, f.Elem = "object", ft
+		case reflect.Slice:
+			f.Kind, f.Elem = "array", ft.Elem()
+		default:
+			panic(fmt.Sprintf("field %s.%s: no JSON kind for %s", t.Name(), sf.Name, ft))
+		}
+		f.Min, f.Max = tagNumber(t, sf, "min"), tagNumber(t, sf, "max")
+		if s := sf.Tag.Get("for"); s != "" {
+			f.For = strings.Fields(s)
+		}
+		if s := sf.Tag.Get("enum"); s != "" {
+			f.Enum = strings.Fields(s)
+		}
+		if s := sf.Tag.Get("maxlen"); s != "" {
+			f.MaxLen = int(*tagNumber(t, sf, "maxlen"))
+		}
+		out = append(out, f)
+	}
+	return out
+}
+
+// tagNumber reads a numeric tag. A malformed one is a mistake in this
+// file's declarations, found by the first test that reads them.
+func tagNumber(t reflect.Type, sf reflect.StructField, key string) *float64 {
+	s, ok := sf.Tag.Lookup(key)
+	if !ok {
+		return nil
+	}
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		panic(fmt.Sprintf("field %s.%s: tag %s=%q is not a number", t.Name(), sf.Name, key, s))
+	}
+	return &v
+}
+
+// AppliesTo tells whether the field applies to a node of type typ and,
+// for a regulator, topology. A regulator of unknown topology may carry any
+// regulator field: its topology is reported instead.
+func (f Field) AppliesTo(typ, topology string) bool {
+	if len(f.For) == 0 {
+		return true
+	}
+	for _, rule := range f.For {
+		t, topo, hasTopo := strings.Cut(rule, "/")
+		if t != typ {
+			continue
+		}
+		if !hasTopo || topology == "" || !slices.Contains(Topologies(), topology) {
+			return true
+		}
+		for _, one := range strings.Split(topo, "|") {
+			if one == topology {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// RangeText says a numeric field's accepted range, for messages and the
+// format reference.
+func (f Field) RangeText() string {
+	if f.Unit == "" {
+		return f.bounds()
+	}
+	return f.bounds() + " " + f.Unit
+}
+
+func (f Field) bounds() string {
+	switch {
+	case f.Min != nil && f.Max != nil:
+		return "at least " + plain(*f.Min) + " and at most " + plain(*f.Max)
+	case f.Min != nil:
+		return "at least " + plain(*f.Min)
+	case f.Max != nil:
+		return "at most " + plain(*f.Max)
+	}
+	return ""
+}
+
+// plain writes a bound as people write it: 1000000, not 1e+06.
+func plain(x float64) string { return strconv.FormatFloat(x, 'f', -1, 64) }
+
+// isSet tells whether v, a field's value, was given: a pointer that is not
+// nil, a string that is not empty, a true bool.
+func isSet(v reflect.Value) bool {
+	switch v.Kind() {
+	case reflect.Pointer, reflect.Slice:
+		return !v.IsNil()
+	case reflect.String:
+		return v.Len() > 0
+	case reflect.Bool:
+		return v.Bool()
+	}
+	return true
+}
+
+// number is a numeric field's value, following a pointer.
+func number(v reflect.Value) float64 {
+	if v.Kind() == reflect.Pointer {
+		v = v.Elem()
+	}
+	if v.CanFloat() {
+		return v.Float()
+	}
+	return float64(v.Int())
+}
+
+// checkDeclared records the problems with the values of struct value v
+// at ptr that the declaration alone decides: numbers out of range, strings
+// too long or not one of their enum, and, for a node of type typ, fields
+// that do not apply to it. Nested objects and arrays are their owners' to
+// check.
+func checkDeclared(p *Problems, ptr string, v reflect.Value, typ, topology string) {
+	for _, f := range FieldsOf(v.Type()) {
+		fv := v.FieldByIndex(f.Index)
+		if !isSet(fv) {
+			continue
+		}
+		if typ != "" && !f.AppliesTo(typ, topology) && slices.Contains(NodeTypes(), typ) {
+			p.Add(ptr+"/"+f.Name, "does not apply to %s", describeType(typ, topology))
+		}
+		switch f.Kind {
+		case "number", "integer":
+			x := number(fv)
+			if (f.Min != nil && !(x >= *f.Min)) || (f.Max != nil && !(x <= *f.Max)) {
+				p.Add(ptr+"/"+f.Name, "must be %s", f.RangeText())
+			}
+		case "string":
+			s := fv.String()
+			if len(f.Enum) > 0 && !slices.Contains(f.Enum, s) {
+				p.Add(ptr+"/"+f.Name, "must be one of %s", strings.Join(f.Enum, ", "))
+				continue
+			}
+			p.CheckText(ptr+"/"+f.Name, s, f.MaxLen, false)
+		case "array":
+			if f.Max != nil && float64(fv.Len()) > *f.Max {
+				p.Add(ptr+"/"+f.Name, "lists %d items; at most %g are allowed", fv.Len(), *f.Max)
+			}
+		}
+	}
+}
+
+// fillFrom sets every field of dst (a struct value) that is not given and
+// that applies to a node of type typ from the same field of src. Topology
+// is declared before the fields that depend on it, so a regulator's
+// topology is filled before it decides which of them apply.
+func fillFrom(dst, src reflect.Value, typ string) {
+	topology := dst.FieldByName("Topology")
+	for _, f := range FieldsOf(dst.Type()) {
+		d := dst.FieldByIndex(f.Index)
+		if isSet(d) || !f.AppliesTo(typ, topology.String()) {
+			continue
+		}
+		s := src.FieldByIndex(f.Index)
+		if !isSet(s) {
+			continue
+		}
+		if s.Kind() == reflect.Pointer {
+			c := reflect.New(s.Type().Elem())
+			c.Elem().Set(s.Elem())
+			d.Set(c)
+		} else {
+			d.Set(s)
+		}
+	}
+}
