@@ -5,7 +5,6 @@ import (
 	"crypto/sha256"
 	"encoding/base64"
 	"encoding/hex"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -14,6 +13,7 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/go-json-experiment/json"
 	"github.com/labstack/echo/v4"
 
 	"wattshelf/domain"
@@ -71,7 +71,7 @@ func (s *server) getShelf(c echo.Context) error {
 		if err != nil {
 			return err
 		}
-		body, err := json.Marshal(view)
+		body, err := encodeJSON(view)
 		if err != nil {
 			return fmt.Errorf("encode shelf: %w", err)
 		}
@@ -140,7 +140,7 @@ func (s *server) shelfView(ctx context.Context, key shelfKey, after *store.Shelf
 
 // Shelf cursors carry the last item's place in shelf order, opaquely.
 func encodeShelfCursor(cur store.ShelfCursor) string {
-	raw, _ := json.Marshal(cur) // two strings and a number always encode
+	raw, _ := encodeJSON(cur) // two strings and a number always encode
 	return base64.RawURLEncoding.EncodeToString(raw)
 }
 
@@ -150,7 +150,7 @@ func decodeShelfCursor(s string) (store.ShelfCursor, error) {
 	if err != nil {
 		return cur, err
 	}
-	if err := decodeStrict(raw, &cur); err != nil {
+	if err := domain.DecodeStrict(raw, &cur); err != nil {
 		return cur, err
 	}
 	if cur.ID < 1 {
@@ -355,7 +355,7 @@ func (s *server) patchComponent(c echo.Context) error {
 		return err
 	}
 	var patch map[string]any
-	if err := decodeStrict(body, &patch); err != nil {
+	if err := domain.DecodeStrict(body, &patch); err != nil {
 		return err
 	}
 	ctx := c.Request().Context()
@@ -389,7 +389,7 @@ func (s *server) patchComponent(c echo.Context) error {
 // mergedComponent applies patch to current's fields and validates the
 // result as a full replacement.
 func mergedComponent(current domain.Component, patch map[string]any) (domain.ComponentInput, error) {
-	currentJSON, err := json.Marshal(current.ComponentInput)
+	currentJSON, err := encodeJSON(current.ComponentInput)
 	if err != nil {
 		return domain.ComponentInput{}, fmt.Errorf("encode component %d: %w", current.ID, err)
 	}
@@ -397,12 +397,12 @@ func mergedComponent(current domain.Component, patch map[string]any) (domain.Com
 	if err := json.Unmarshal(currentJSON, &doc); err != nil {
 		return domain.ComponentInput{}, fmt.Errorf("decode component %d: %w", current.ID, err)
 	}
-	merged, err := json.Marshal(mergePatch(doc, patch))
+	merged, err := encodeJSON(mergePatch(doc, patch))
 	if err != nil {
 		return domain.ComponentInput{}, fmt.Errorf("encode patched component: %w", err)
 	}
 	var in domain.ComponentInput
-	if err := decodeStrict(merged, &in); err != nil {
+	if err := domain.DecodeStrict(merged, &in); err != nil {
 		return in, err
 	}
 	in.Defaults()

@@ -1,11 +1,9 @@
 package api
 
 import (
-	"encoding/json"
 	"errors"
 	"fmt"
 	"net/http"
-	"reflect"
 	"strings"
 	"testing"
 
@@ -46,10 +44,14 @@ func TestDecodeStrict(t *testing.T) {
 		{`{"name": "x"}]`, true, ""},
 		{`{"name": "x"}{"name": "y"}`, true, ""},
 		{`{"name": 'x'}`, true, ""},
+		// Names match exactly, and one given twice is refused.
+		{`{"name": "a", "name": "b"}`, false, "/name"},
+		{`{"NAME": "a"}`, false, "/NAME"},
+		{`{"Volts": 5}`, false, "/Volts"},
 	}
 	for _, tt := range tests {
 		var v target
-		err := decodeStrict([]byte(tt.body), &v)
+		err := domain.DecodeStrict([]byte(tt.body), &v)
 		var de *domain.DecodeError
 		var ve *domain.ValidationError
 		switch {
@@ -66,15 +68,6 @@ func TestDecodeStrict(t *testing.T) {
 				t.Errorf("%s: %v, want one problem at %q", tt.body, err, tt.pointer)
 			}
 		}
-	}
-}
-
-func TestFieldPointerWithoutTargetKeepsThePath(t *testing.T) {
-	if got := fieldPointer(nil, "a.b"); got != "/a/b" {
-		t.Errorf("fieldPointer(nil, a.b) = %q", got)
-	}
-	if got := fieldPointer(reflect.TypeFor[domain.ComponentInput](), "Electrical.max_v"); got != "/max_v" {
-		t.Errorf("embedded electrical field: %q", got)
 	}
 }
 
@@ -126,11 +119,11 @@ func TestProblemMapping(t *testing.T) {
 
 func TestMergePatch(t *testing.T) {
 	var target, patch map[string]any
-	_ = json.Unmarshal([]byte(`{"a": 1, "b": {"c": 2, "d": 3}, "e": [1, 2], "f": "keep"}`), &target)
-	_ = json.Unmarshal([]byte(`{"a": null, "b": {"c": null, "x": 4}, "e": [3], "g": {"h": null, "i": 5}}`), &patch)
-	got, _ := json.Marshal(mergePatch(target, patch))
+	_ = decodeNumbers([]byte(`{"a": 1, "b": {"c": 2, "d": 3}, "e": [1, 2], "f": "keep"}`), &target)
+	_ = decodeNumbers([]byte(`{"a": null, "b": {"c": null, "x": 4}, "e": [3], "g": {"h": null, "i": 5.50}}`), &patch)
+	got, _ := encodeJSON(mergePatch(target, patch))
 	// RFC 7386: null removes, objects merge recursively, arrays and scalars replace.
-	if want := `{"b":{"d":3,"x":4},"e":[3],"f":"keep","g":{"i":5}}`; string(got) != want {
+	if want := `{"b":{"d":3,"x":4},"e":[3],"f":"keep","g":{"i":5.50}}`; string(got) != want {
 		t.Errorf("merged %s, want %s", got, want)
 	}
 }

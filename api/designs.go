@@ -1,7 +1,6 @@
 package api
 
 import (
-	"encoding/json"
 	"fmt"
 	"net/http"
 	"strconv"
@@ -186,7 +185,7 @@ func (s *server) patchDesign(c echo.Context) error {
 	if err := decodeNumbers(current.Document, &doc); err != nil {
 		return fmt.Errorf("decode stored design %d: %w", current.ID, err)
 	}
-	merged, err := json.Marshal(mergePatch(doc, patch))
+	merged, err := encodeJSON(mergePatch(doc, patch))
 	if err != nil {
 		return fmt.Errorf("encode patched design: %w", err)
 	}
@@ -195,12 +194,6 @@ func (s *server) patchDesign(c echo.Context) error {
 		return err
 	}
 	return s.saveDesign(c, current.ID, version, checked.Name, merged)
-}
-
-// decodeNumbers decodes one JSON object keeping numbers as written, so a
-// merge patch does not round the values it leaves alone.
-func decodeNumbers(body []byte, v *map[string]any) error {
-	return decodeOne(body, v, (*json.Decoder).UseNumber)
 }
 
 func (s *server) saveDesign(c echo.Context, id, version int64, name string, document []byte) error {

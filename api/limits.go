@@ -2,7 +2,6 @@ package api
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"net/http"
@@ -10,6 +9,7 @@ import (
 	"sync"
 	"time"
 
+	"github.com/go-json-experiment/json"
 	"github.com/labstack/echo/v4"
 
 	"wattshelf/domain"
@@ -73,7 +73,7 @@ func (s *server) putLimits(c echo.Context) error {
 	if err := in.Limits.Validate(); err != nil {
 		return underPointer("/limits", err)
 	}
-	body, err := json.Marshal(in.Limits)
+	body, err := encodeJSON(in.Limits)
 	if err != nil {
 		return fmt.Errorf("encode limits: %w", err)
 	}
@@ -135,7 +135,7 @@ const defaultLimitsNote = "defaults seeded by wattshelf; every value names its s
 
 // ensureDefaultLimits stores the default limits as version 1 when none exist.
 func ensureDefaultLimits(ctx context.Context, st limitsStore) (bool, error) {
-	body, err := json.Marshal(review.DefaultLimits())
+	body, err := encodeJSON(review.DefaultLimits())
 	if err != nil {
 		return false, fmt.Errorf("encode default limits: %w", err)
 	}

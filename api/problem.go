@@ -1,7 +1,6 @@
 package api
 
 import (
-	"encoding/json"
 	"errors"
 	"fmt"
 	"log/slog"
@@ -154,7 +153,7 @@ func errorHandler(logger *slog.Logger, isUnavailable unavailabilityCheck) echo.H
 			// RFC 9110 section 15.5.2: a 401 names the scheme to use.
 			c.Response().Header().Set(echo.HeaderWWWAuthenticate, `Bearer realm="wattshelf"`)
 		}
-		body, _ := json.Marshal(p)
+		body, _ := encodeJSON(p)
 		c.Response().Header().Set(echo.HeaderContentType, "application/problem+json")
 		c.Response().WriteHeader(p.Status)
 		_, _ = c.Response().Write(body)

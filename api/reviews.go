@@ -2,12 +2,10 @@ package api
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"net/http"
 	"strconv"
-	"sync"
 	"time"
 
 	"github.com/labstack/echo/v4"
@@ -92,14 +90,7 @@ func (s *server) reviewDocument(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	buf := s.buffers.get()
-	defer s.buffers.put(buf)
-	out, err := report.AppendJSON(*buf)
-	if err != nil {
-		return err
-	}
-	*buf = append(out, '\n') // as echo's c.JSON ends a body
-	return writeJSON(c, http.StatusOK, *buf)
+	return c.JSON(http.StatusOK, report)
 }
 
 // reviewStoredDesign reviews a stored design and keeps the report and the
@@ -117,8 +108,6 @@ func (s *server) reviewStoredDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	buf := s.buffers.get()
-	defer s.buffers.put(buf)
 	var r store.StoredReview
 	for attempt := 1; ; attempt++ {
 		d, remembered := s.designs.get(id)
@@ -129,7 +118,7 @@ func (s *server) reviewStoredDesign(c echo.Context) error {
 			}
 			s.designs.put(d)
 		}
-		if r, err = s.storeReview(c, d, v, buf); err == nil {
+		if r, err = s.storeReview(c, d, v); err == nil {
 			break
 		}
 		if errors.Is(err, domain.ErrPreconditionFailed) || errors.Is(err, domain.ErrNotFound) {
@@ -144,95 +133,29 @@ func (s *server) reviewStoredDesign(c echo.Context) error {
 		return err
 	}
 	view := s.reviewView(r)
-	out := s.buffers.get()
-	defer s.buffers.put(out)
-	if *out, err = appendStoredReview(*out, view); err != nil {
-		return err
-	}
 	c.Response().Header().Set("Location", view.ReportURL)
-	return writeJSON(c, http.StatusCreated, append(*out, '\n'))
+	return c.JSON(http.StatusCreated, view)
 }
 
 // storedReviewAttempts bounds how often a stored review is tried again
 // after the design it reviewed turned out to have changed or gone.
 const storedReviewAttempts = 3
 
-// storeReview reviews d and stores the review, its report encoded into
-// buf; the returned review's Report is *buf.
-func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion int, buf *[]byte) (store.StoredReview, error) {
+// storeReview reviews d and stores the review.
+func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion int) (store.StoredReview, error) {
 	ctx := c.Request().Context()
 	report, err := s.review(ctx, d.Document, limitsVersion)
 	if err != nil {
 		return store.StoredReview{}, err
 	}
-	if *buf, err = report.AppendJSON((*buf)[:0]); err != nil {
+	encoded, err := encodeJSON(report)
+	if err != nil {
 		return store.StoredReview{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
 	}
 	return s.writes.AddReview(ctx, currentUser(c), store.NewReview{
 		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(report.Status),
-		LimitsVersion: report.LimitsVersion, Report: *buf,
+		LimitsVersion: report.LimitsVersion, Report: encoded,
 	})
-}
-
-// appendStoredReview writes a stored review as encoding/json would, but
-// copies the report in as it is: the engine wrote it compact, and Marshal
-// would scan its tens of kilobytes again to compact it once more.
-// TestStoredReviewEncoding holds the two to the same bytes.
-func appendStoredReview(b []byte, v StoredReviewView) ([]byte, error) {
-	head, err := json.Marshal(struct {
-		ID             int64  `json:"id"`
-		DesignID       int64  `json:"design_id"`
-		DesignName     string `json:"design_name"`
-		ShareID        string `json:"share_id"`
-		Status         string `json:"status"`
-		LimitsVersion  int    `json:"limits_version"`
-		DocumentSHA256 string `json:"document_sha256"`
-	}{v.ID, v.DesignID, v.DesignName, v.ShareID, v.Status, v.LimitsVersion, v.DocumentSHA256})
-	if err != nil {
-		return b, fmt.Errorf("encode review %d: %w", v.ID, err)
-	}
-	tail, err := json.Marshal(struct {
-		CreatedBy string    `json:"created_by"`
-		CreatedAt time.Time `json:"created_at"`
-		ReportURL string    `json:"report_url"`
-	}{v.CreatedBy, v.CreatedAt, v.ReportURL})
-	if err != nil {
-		return b, fmt.Errorf("encode review %d: %w", v.ID, err)
-	}
-	b = append(b, head[:len(head)-1]...)
-	b = append(b, `,"report":`...)
-	b = append(b, v.Report...)
-	b = append(b, ',')
-	return append(b, tail[1:]...), nil
-}
-
-// writeJSON sends an encoded JSON body with its length, so it goes out in
-// one piece rather than in chunks.
-func writeJSON(c echo.Context, status int, body []byte) error {
-	c.Response().Header().Set(echo.HeaderContentLength, strconv.Itoa(len(body)))
-	return c.Blob(status, echo.MIMEApplicationJSON, body)
-}
-
-// bufferPool lends the buffers reports are encoded into. Buffers grown
-// past maxPooledBuffer by a huge design are left to the collector, so the
-// pool never pins much memory.
-type bufferPool struct{ pool sync.Pool }
-
-const maxPooledBuffer = 1 << 20
-
-func (p *bufferPool) get() *[]byte {
-	if b, ok := p.pool.Get().(*[]byte); ok {
-		*b = (*b)[:0]
-		return b
-	}
-	b := make([]byte, 0, 64<<10)
-	return &b
-}
-
-func (p *bufferPool) put(b *[]byte) {
-	if cap(*b) <= maxPooledBuffer {
-		p.pool.Put(b)
-	}
 }
 
 func (s *server) listDesignReviews(c echo.Context) error {

@@ -65,7 +65,6 @@ type server struct {
 	shelf         *shelfCache
 	designs       *designCache
 	writes        writes
-	buffers       bufferPool
 	reviewLimiter *clientLimiter
 }
 
@@ -98,6 +97,7 @@ func New(cfg Config) (*echo.Echo, error) {
 
 	e := echo.New()
 	e.HideBanner, e.HidePort = true, true
+	e.JSONSerializer = jsonSerializer{}
 	e.HTTPErrorHandler = errorHandler(cfg.Logger, store.IsUnavailable)
 	e.Use(middleware.RequestID())
 	e.Use(metrics.middleware)

@@ -20,17 +20,21 @@ import (
 // StrictJSON is how every request body is read, configured once: unknown
 // members are refused, and (json v2's defaults) names match exactly and a
 // name given twice in one object is refused.
-func StrictJSON() json.Options { return json.RejectUnknownMembers(true) }
+// Marshalling writes map keys in order, so equal values encode alike.
+func StrictJSON() json.Options {
+	return json.JoinOptions(json.RejectUnknownMembers(true), json.Deterministic(true))
+}
 
 // DecodeStrict decodes the one JSON value in data into v. Input that is
 // not well-formed JSON (a syntax error, an empty body, trailing data)
 // gives a *DecodeError; well-formed JSON that does not fit v gives a
 // *ValidationError naming the problem by JSON pointer.
-func DecodeStrict(data []byte, v any) error {
+// More options (custom unmarshalers) may be given.
+func DecodeStrict(data []byte, v any, more ...json.Options) error {
 	if len(bytes.TrimSpace(data)) == 0 {
 		return &DecodeError{Reason: "the body is empty; send a JSON object"}
 	}
-	err := json.Unmarshal(data, v, StrictJSON())
+	err := json.Unmarshal(data, v, append([]json.Options{StrictJSON()}, more...)...)
 	if err == nil {
 		return nil
 	}

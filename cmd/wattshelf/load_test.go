@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	jsonv2 "github.com/go-json-experiment/json"
 	"io"
 	"strings"
 	"testing"
@@ -160,7 +161,7 @@ func BenchmarkReviewPipeline(b *testing.B) {
 	b.Run("encode", func(b *testing.B) {
 		b.ReportAllocs()
 		for b.Loop() {
-			if buf, err = rep.AppendJSON(buf[:0]); err != nil {
+			if buf, err = jsonv2.Marshal(rep, domain.StrictJSON()); err != nil {
 				b.Fatal(err)
 			}
 		}
@@ -176,7 +177,7 @@ func BenchmarkReviewPipeline(b *testing.B) {
 			if err != nil {
 				b.Fatal(err)
 			}
-			if buf, err = r.AppendJSON(buf[:0]); err != nil {
+			if buf, err = jsonv2.Marshal(r, domain.StrictJSON()); err != nil {
 				b.Fatal(err)
 			}
 		}

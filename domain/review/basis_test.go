@@ -1,7 +1,6 @@
 package review
 
 import (
-	"reflect"
 	"strings"
 	"testing"
 )
@@ -28,38 +27,41 @@ func TestCite(t *testing.T) {
 	}
 }
 
-// TestBasesNameRuleAndSource checks the seeded bases against the sources
-// they must cite, and keeps them short: every check of a report carries
-// one, and a 30-node report has over a hundred checks.
-func TestBasesNameRuleAndSource(t *testing.T) {
+// TestRulesNameRuleAndSource checks the seeded rules against the sources
+// they must cite, and keeps each basis short enough to read at a glance.
+func TestRulesNameRuleAndSource(t *testing.T) {
 	l := DefaultLimits()
-	b := newBases(l)
+	rules := newRules(l)
 	want := map[string][]string{
-		"ampacity":      {"33 CFR 183.425 Table 5", "80 %", "common practice"},
-		"drop":          {"IEC 60028", "10 %", "3 %", "marine DC wiring practice"},
-		"fuseMissing":   {"33 CFR 183.455"},
-		"fuseRating":    {"1.5 ×", "33 CFR 183.455", "1.25 ×", "common practice"},
-		"fusePlacement": {"0.178 m", "1.016 m", "33 CFR 183.455"},
-		"rating":        {"80 %", "common practice"},
-		"thermal":       {"25 °C", "common practice"},
-		"connector":     {"80 %"},
-		"scope":         {"50 V DC", "33 CFR 183.455"},
+		CheckWireAmpacity:     {"33 CFR 183.425 Table 5", "80 %", "common practice"},
+		CheckWireDrop:         {"IEC 60028", "10 %", "3 %", "marine DC wiring practice"},
+		CheckFuseMissing:      {"33 CFR 183.455"},
+		CheckFuseRating:       {"1.5 ×", "33 CFR 183.455", "1.25 ×", "common practice"},
+		CheckFusePlacement:    {"0.178 m", "1.016 m", "33 CFR 183.455"},
+		CheckDriverCurrent:    {"80 %", "common practice"},
+		CheckRegulatorThermal: {"25 °C", "common practice"},
+		CheckConnectorRating:  {"80 %"},
+		CheckScopeMains:       {"50 V DC", "33 CFR 183.455"},
 	}
-	v := reflect.ValueOf(b)
-	for i := range v.NumField() {
-		name, text := v.Type().Field(i).Name, v.Field(i).String()
-		if text == "" || len(text) > 240 {
-			t.Errorf("basis %s is %d bytes: %q", name, len(text), text)
+	for _, check := range []string{CheckVoltageRange, CheckRegulatorHeadroom, CheckRegulatorCurrent, CheckRegulatorThermal,
+		CheckDriverVoltage, CheckDriverCurrent, CheckSourceCurrent, CheckSourceRuntime, CheckWireAmpacity, CheckWireDrop,
+		CheckFuseMissing, CheckFuseRating, CheckFusePlacement, CheckConnectorRating, CheckScopeMains} {
+		r, ok := rules[check]
+		if !ok || r.Basis == "" || r.Source == "" || len(r.Basis) > 400 {
+			t.Errorf("rule of %s: %+v", check, r)
 		}
-		for _, w := range want[name] {
-			if !strings.Contains(text, w) {
-				t.Errorf("basis %s does not say %q: %q", name, w, text)
+		for _, w := range want[check] {
+			if !strings.Contains(r.Basis, w) {
+				t.Errorf("basis of %s does not say %q: %q", check, w, r.Basis)
 			}
 		}
 	}
+	if len(rules) != 15 {
+		t.Errorf("%d rules, want one for each of the 15 checks", len(rules))
+	}
 	// The values come from the limits, not from the code.
 	l.Policy.UtilisationPct = Sourced{70, "the space's own rule: 70 %"}
-	if got := newBases(l).rating; !strings.Contains(got, "70 %") || !strings.Contains(got, "the space's own rule") {
+	if got := newRules(l)[CheckDriverCurrent].Basis; !strings.Contains(got, "70 %") || !strings.Contains(got, "the space's own rule") {
 		t.Errorf("rating basis with a 70 %% policy: %q", got)
 	}
 }

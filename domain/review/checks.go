@@ -20,23 +20,29 @@ type cond struct {
 	value, limit float64
 	unit         string
 	margin       float64 // distance from crossing, as a share of the limit
+	// The design did not give what value or limit would be worked out
+	// from: the check says so, and shows no number for it.
+	noValue, noLimit bool
 }
 
 func scale(x float64) float64 { return max(math.Abs(x), 1e-9) }
 
 // above is crossed when value > limit.
 func above(what string, level Status, value, limit float64, unit string) cond {
-	return cond{what, level, value > limit, value, limit, unit, (limit - value) / scale(limit)}
+	return cond{what: what, level: level, crossed: value > limit, value: value, limit: limit, unit: unit,
+		margin: (limit - value) / scale(limit)}
 }
 
 // atLeast is crossed when value ≥ limit.
 func atLeast(what string, level Status, value, limit float64, unit string) cond {
-	return cond{what, level, value >= limit, value, limit, unit, (limit - value) / scale(limit)}
+	return cond{what: what, level: level, crossed: value >= limit, value: value, limit: limit, unit: unit,
+		margin: (limit - value) / scale(limit)}
 }
 
 // below is crossed when value < limit.
 func below(what string, level Status, value, limit float64, unit string) cond {
-	return cond{what, level, value < limit, value, limit, unit, (value - limit) / scale(limit)}
+	return cond{what: what, level: level, crossed: value < limit, value: value, limit: limit, unit: unit,
+		margin: (value - limit) / scale(limit)}
 }
 
 // flagged is crossed when bad holds; value and limit are shown as they are.
@@ -45,49 +51,51 @@ func flagged(what string, level Status, bad bool, value, limit float64, unit str
 	if bad {
 		m = 0
 	}
-	return cond{what, level, bad, value, limit, unit, m}
+	return cond{what: what, level: level, crossed: bad, value: value, limit: limit, unit: unit, margin: m}
 }
 
-// bases are the rule-and-source sentences of each check, built once per
-// limits version (Prepare). Every check carries one, so they are kept to
-// the rule and a citation of its source; the whole source text stays in
-// the limits version the report names.
-type bases struct {
-	voltageRange, headroomLinear, headroomSwitching, rating, thermal, source, runtime string
-	ampacity, drop, fuseMissing, fuseRating, fusePlacement, connector, scope          string
-}
-
-func newBases(l Limits) bases {
+// newRules are the rule-and-source sentences of each check, built once
+// per limits version (Prepare) and written once in each report.
+func newRules(l Limits) map[string]Rule {
 	u, m := l.Policy.UtilisationPct, l.Policy.ThermalMarginC
 	f, d := l.Fuses, l.VoltageDrop
 	warnAbove := fmt.Sprintf("warn above %g %% (%s)", u.Value, cite(u.Source))
-	return bases{
-		voltageRange: "the part's min_v and max_v against its input range at the operating point: full source and no load " +
-			"at the high end, cutoff and feed drops at the low end",
-		headroomLinear: "a linear regulator needs an input of at least output_v + dropout_v, and at most max_input_v " +
-			"(the part's datasheet)",
-		headroomSwitching: "a switching regulator needs an input inside its min_input_v to max_input_v window, and a feed " +
-			"that carries P/η: V_parent ≥ 2·√(R_feed·P/η)",
-		rating:  "the part's rating (its datasheet); " + warnAbove,
-		thermal: fmt.Sprintf("T_j = ambient + P·θ_JA at the input high end; fail at tj_max_c, warn within %g °C (%s)", m.Value, cite(m.Source)),
-		source: "the source's max_discharge_a (default: C rate × capacity) or max_a; fail on the running current, " +
-			"warn on the surge or when its sag takes a critical load below min_v",
-		runtime: "usable capacity, full to cutoff or first brownout on the discharge curve (Peukert where stored), over the " +
-			"average current",
-		ampacity: fmt.Sprintf("ampacity by insulation and bundling from %s; %s", cite(l.Conductors.Source), warnAbove),
-		drop: fmt.Sprintf("drop over both copper conductors (IEC 60028) as a share of the parent's nominal voltage: fail over "+
-			"%g %%, warn over %g %% on a critical load (%s)", d.NonCriticalPct.Value, d.CriticalPct.Value,
-			cites(d.NonCriticalPct.Source, d.CriticalPct.Source)),
-		fuseMissing: "a source's feed needs a fuse when the source can deliver more than the wire carries (33 CFR 183.455); " +
-			"otherwise one is advised",
-		fuseRating: fmt.Sprintf("at most %g × the ampacity it protects (%s), at least %g × the running current (%s); voltage "+
-			"rating at least the circuit's, a fast fuse at least the motor surge, a standard rating of its series",
-			f.MaxAmpacityMultiple.Value, cite(f.MaxAmpacityMultiple.Source), f.ContinuousLoadFactor.Value, cite(f.ContinuousLoadFactor.Source)),
-		fusePlacement: fmt.Sprintf("within %g m of the source, %g m when sheathed (%s)", f.MaxDistanceM.Value,
+	datasheet := "the part's datasheet, as the design or its shelf component gives it"
+	rating := Rule{Basis: "the part's rating (its datasheet); " + warnAbove, Source: datasheet + "; " + u.Source}
+	return map[string]Rule{
+		CheckVoltageRange: {Basis: "the part's min_v and max_v against its input range at the operating point: full source and no " +
+			"load at the high end, cutoff and feed drops at the low end", Source: datasheet},
+		CheckRegulatorHeadroom: {Basis: "a linear regulator needs an input of at least output_v + dropout_v, and at most " +
+			"max_input_v; a switching regulator needs an input inside its min_input_v to max_input_v window, and a feed " +
+			"that carries P/η: V_parent ≥ 2·√(R_feed·P/η)", Source: datasheet},
+		CheckRegulatorCurrent: rating,
+		CheckRegulatorThermal: {Basis: fmt.Sprintf("T_j = ambient + P·θ_JA at the input high end; fail at tj_max_c, warn within "+
+			"%g °C (%s)", m.Value, cite(m.Source)), Source: datasheet + "; " + m.Source},
+		CheckDriverVoltage: rating,
+		CheckDriverCurrent: rating,
+		CheckSourceCurrent: {Basis: "the source's max_discharge_a (default: C rate × capacity) or max_a; fail on the running " +
+			"current, warn on the surge or when its sag takes a critical load below min_v", Source: datasheet},
+		CheckSourceRuntime: {Basis: "usable capacity, full to cutoff or first brownout on the discharge curve (Peukert where " +
+			"stored), over the average current", Source: "the chemistry table of this limits version"},
+		CheckWireAmpacity: {Basis: fmt.Sprintf("ampacity by insulation and bundling from %s; %s", cite(l.Conductors.Source),
+			warnAbove), Source: l.Conductors.Source + "; " + u.Source},
+		CheckWireDrop: {Basis: fmt.Sprintf("drop over both copper conductors (IEC 60028) as a share of the parent's nominal "+
+			"voltage: fail over %g %%, warn over %g %% on a critical load (%s)", d.NonCriticalPct.Value, d.CriticalPct.Value,
+			cites(d.NonCriticalPct.Source, d.CriticalPct.Source)), Source: d.NonCriticalPct.Source + "; " + d.CriticalPct.Source},
+		CheckFuseMissing: {Basis: "a source's feed needs a fuse when the source can deliver more than the wire carries " +
+			"(33 CFR 183.455); " +
+			"otherwise one is advised", Source: "33 CFR 183.455"},
+		CheckFuseRating: {Basis: fmt.Sprintf("at most %g × the ampacity it protects (%s), at least %g × the running current "+
+			"(%s); voltage rating at least the circuit's, a fast fuse at least the motor surge, a standard rating of its series",
+			f.MaxAmpacityMultiple.Value, cite(f.MaxAmpacityMultiple.Source), f.ContinuousLoadFactor.Value,
+			cite(f.ContinuousLoadFactor.Source)), Source: f.MaxAmpacityMultiple.Source + "; " + f.ContinuousLoadFactor.Source},
+		CheckFusePlacement: {Basis: fmt.Sprintf("within %g m of the source, %g m when sheathed (%s)", f.MaxDistanceM.Value,
 			f.MaxDistanceSheathedM.Value, cites(f.MaxDistanceM.Source, f.MaxDistanceSheathedM.Source)),
-		connector: "the connector's rating (the design's or its stored family's); " + warnAbove,
-		scope: fmt.Sprintf("mains is out of scope, and so is any source above %g V DC (%s)", l.Policy.InScopeMaxV.Value,
-			cite(l.Policy.InScopeMaxV.Source)),
+			Source: f.MaxDistanceM.Source},
+		CheckConnectorRating: {Basis: "the connector's rating (the design's or its stored family's); " + warnAbove,
+			Source: "the connector's datasheet or the limits' connector families; " + u.Source},
+		CheckScopeMains: {Basis: fmt.Sprintf("mains is out of scope, and so is any source above %g V DC (%s)",
+			l.Policy.InScopeMaxV.Value, cite(l.Policy.InScopeMaxV.Source)), Source: l.Policy.InScopeMaxV.Source},
 	}
 }
 
@@ -274,7 +282,7 @@ func (r *reviewer) say(parts ...piece) string {
 // emit records a check from its conditions. msg writes the sentence for
 // the condition shown, with say or as a string of its own; passed says
 // none was crossed. The message is filled in by finishMessages.
-func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, msg func(c cond, passed bool) string) {
+func (r *reviewer) emit(check, nodeID, ptr string, conds []cond, msg func(c cond, passed bool) string) {
 	pick, status := -1, Pass
 	for i, c := range conds {
 		if c.crossed && c.level.rank() > status.rank() {
@@ -294,9 +302,40 @@ func (r *reviewer) emit(check, nodeID, ptr, basis string, conds []cond, msg func
 	if own := msg(c, passed); own != "" {
 		r.text.WriteString(own)
 	}
-	r.add(Check{Check: check, Node: nodeID, Pointer: ptr, Status: status, Value: c.value, Limit: c.limit,
-		Unit: c.unit, Basis: basis})
+	ch := Check{Check: check, Node: nodeID, Pointer: ptr, Status: status, Unit: c.unit}
+	if !c.noValue {
+		ch.Value = ptrTo(c.value)
+	}
+	hard, warn := thresholds(c, conds)
+	if hard != nil && !hard.noLimit {
+		ch.Limit = ptrTo(hard.limit)
+	}
+	if warn != nil && !warn.noLimit {
+		ch.WarnAt = ptrTo(warn.limit)
+	}
+	r.add(ch)
 	r.spans[len(r.checks)-1] = textSpan{int32(start), int32(r.text.Len())}
+}
+
+func ptrTo(x float64) *float64 { return &x }
+
+// thresholds are the hard limit and the warning threshold that go with
+// the condition c shown: c's own, and the condition of the other level
+// on the same quantity (the same value and unit), where there is one.
+func thresholds(c cond, conds []cond) (hard, warn *cond) {
+	for i := range conds {
+		o := &conds[i]
+		if o.value != c.value || o.unit != c.unit || o.noValue != c.noValue {
+			continue
+		}
+		switch {
+		case o.level == Fail && hard == nil && (c.level != Fail || o.what == c.what):
+			hard = o
+		case o.level == Warn && warn == nil && (c.level != Warn || o.what == c.what):
+			warn = o
+		}
+	}
+	return hard, warn
 }
 
 // textSpan is where a check's message lies in the review's text; start −1
@@ -316,7 +355,11 @@ func (r *reviewer) finishMessages() {
 }
 
 func (r *reviewer) add(c Check) {
-	c.Value, c.Limit = clean(c.Value), clean(c.Limit)
+	for _, x := range []*float64{c.Value, c.Limit, c.WarnAt} {
+		if x != nil {
+			*x = clean(*x)
+		}
+	}
 	r.checks = append(r.checks, c)
 	r.spans = append(r.spans, textSpan{-1, -1})
 }
@@ -348,9 +391,11 @@ func (r *reviewer) voltageRange(n *node) {
 		conds = append(conds, below("nominal", Fail, n.vNom, n.minV, "V"), below("low", Warn, n.vLow, n.minV, "V"))
 	}
 	if len(conds) == 0 {
-		conds = append(conds, flagged("unknown", Warn, true, n.vHigh, 0, "V"))
+		unknown := flagged("unknown", Warn, true, n.vHigh, 0, "V")
+		unknown.noLimit = true
+		conds = append(conds, unknown)
 	}
-	r.emit(CheckVoltageRange, n.id, n.ptr, r.basis.voltageRange, conds, func(c cond, passed bool) string {
+	r.emit(CheckVoltageRange, n.id, n.ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			switch {
@@ -384,13 +429,11 @@ func (r *reviewer) regulatorHeadroom(n *node) {
 	if n.maxInputV > 0 {
 		conds = append(conds, above("overvoltage", Fail, n.vHigh, n.maxInputV, "V"))
 	}
-	basis := r.basis.headroomSwitching
 	need := n.outputV + n.dropoutV
 	vp := r.t.nodes[n.parent].outLow
 	var powerIn, needVp float64
 	lo := n.minWorkingInputV()
 	if n.topo == topoLinear {
-		basis = r.basis.headroomLinear
 		conds = append(conds, below("never", Fail, n.vHigh, need, "V"), below("dropout", Warn, n.vLow, need, "V"))
 	} else {
 		powerIn = n.outputV * n.outRun / n.efficiency
@@ -406,7 +449,7 @@ func (r *reviewer) regulatorHeadroom(n *node) {
 			conds = append(conds, above("step-down", Fail, n.vLow, n.outputV, "V"))
 		}
 	}
-	r.emit(CheckRegulatorHeadroom, n.id, n.ptr, basis, conds, func(c cond, passed bool) string {
+	r.emit(CheckRegulatorHeadroom, n.id, n.ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt("'s input stays within "), val(n.vLow), txt("–"), val(n.vHigh), txt(" V and it holds "),
@@ -443,7 +486,7 @@ func (r *reviewer) regulatorCurrent(n *node) {
 	conds := append(room[:0],
 		above("peak", Fail, n.outPeak, n.maxOutA, "A"),
 		above("run", Warn, n.outRun, u*n.maxOutA, "A"))
-	r.emit(CheckRegulatorCurrent, n.id, n.ptr, r.basis.rating, conds, func(c cond, passed bool) string {
+	r.emit(CheckRegulatorCurrent, n.id, n.ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt(" delivers "), val(n.outRun), txt(" A (surges "), val(n.outPeak), txt(" A) of its "),
@@ -470,7 +513,7 @@ func (r *reviewer) regulatorThermal(n *node) {
 	conds := append(room[:0],
 		atLeast("limit", Fail, tj, n.tjMaxC, "°C"),
 		atLeast("margin", Warn, tj, n.tjMaxC-margin, "°C"))
-	r.emit(CheckRegulatorThermal, n.id, n.ptr, r.basis.thermal, conds, func(c cond, passed bool) string {
+	r.emit(CheckRegulatorThermal, n.id, n.ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt(" sheds "), val(powerW), txt(" W; its junction stays at "), val(tj), txt(" °C, well below "),
@@ -490,7 +533,7 @@ func (r *reviewer) driverChecks(n *node) {
 	conds := append(room[:0],
 		above("over", Fail, n.vHigh, n.maxInputV, "V"),
 		above("near", Warn, n.vHigh, u*n.maxInputV, "V"))
-	r.emit(CheckDriverVoltage, n.id, n.ptr, r.basis.rating, conds, func(c cond, passed bool) string {
+	r.emit(CheckDriverVoltage, n.id, n.ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt("'s input peaks at "), val(n.vHigh), txt(" V of its "), val(n.maxInputV), txt(" V rating."))
@@ -508,7 +551,7 @@ func (r *reviewer) driverChecks(n *node) {
 	if n.peakRatingA > 0 {
 		conds = append(conds, above("peak near", Warn, n.outPeak, u*n.peakRatingA, "A"))
 	}
-	r.emit(CheckDriverCurrent, n.id, n.ptr, r.basis.rating, conds, func(c cond, passed bool) string {
+	r.emit(CheckDriverCurrent, n.id, n.ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed && n.peakRatingA > 0:
 			return r.say(txt(n.id), txt(" carries "), val(n.outRun), txt(" A of its "), val(n.continuousA),
@@ -541,7 +584,7 @@ func (r *reviewer) sourceCurrent(n *node, criticalNeed float64, criticalID strin
 		sag = n.vNom - n.peak*n.pack.InternalOhm()
 		conds = append(conds, below("sag", Warn, sag, criticalNeed, "V"))
 	}
-	r.emit(CheckSourceCurrent, n.id, n.ptr, r.basis.source, conds, func(c cond, passed bool) string {
+	r.emit(CheckSourceCurrent, n.id, n.ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt(" delivers "), val(n.run), txt(" A (surges "), val(n.peak), txt(" A) of its "), val(rating),
@@ -566,7 +609,7 @@ func (r *reviewer) sourceRuntime(n *node, hours float64, targetH *float64, limit
 		target = *targetH
 	}
 	conds := append(room[:0], below("short", Warn, hours, target, "h"))
-	r.emit(CheckSourceRuntime, n.id, n.ptr, r.basis.runtime, conds, func(c cond, passed bool) string {
+	r.emit(CheckSourceRuntime, n.id, n.ptr, conds, func(c cond, passed bool) string {
 		if targetH == nil {
 			return fmt.Sprintf("%s lasts about %s h at %s A average (limited by %s); the design sets no target_runtime_h.", n.id,
 				num(hours), num(n.avg), limitedBy)
@@ -587,7 +630,7 @@ func (r *reviewer) wireAmpacity(n *node, ptr string) {
 	conds := append(room[:0],
 		above("over", Fail, n.run, f.ampacity, "A"),
 		above("near", Warn, n.run, u*f.ampacity, "A"))
-	r.emit(CheckWireAmpacity, n.id, ptr, r.basis.ampacity, conds, func(c cond, passed bool) string {
+	r.emit(CheckWireAmpacity, n.id, ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The "), txt(f.gauge.Label), txt(" feed to "), txt(n.id), txt(" carries "), val(n.run), txt(" A of its "),
@@ -632,7 +675,7 @@ func (r *reviewer) wireDrop(n *node, ptr string) {
 	if n.critical {
 		conds = append(conds, above("critical", Warn, share, lim.CriticalPct.Value, "%"))
 	}
-	r.emit(CheckWireDrop, n.id, ptr, r.basis.drop, conds, func(c cond, passed bool) string {
+	r.emit(CheckWireDrop, n.id, ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The feed to "), txt(n.id), txt(" loses "), val(dropV), txt(" V ("), val(share), txt(" %), within the "),
@@ -658,7 +701,7 @@ func (r *reviewer) fuseMissing(n *node, ptr string) {
 	conds := append(room[:0],
 		flagged("burns", Fail, !fused && deliver > f.ampacity, deliver, f.ampacity, "A"),
 		flagged("advised", Warn, !fused, deliver, f.ampacity, "A"))
-	r.emit(CheckFuseMissing, n.id, ptr, r.basis.fuseMissing, conds, func(c cond, passed bool) string {
+	r.emit(CheckFuseMissing, n.id, ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The feed from "), txt(src.id), txt(" to "), txt(n.id), txt(" is fused at "), val(f.fuse.ratingA), txt(" A."))
@@ -700,7 +743,7 @@ func (r *reviewer) fuseRating(n *node, ptr string, protectedAmp float64, protect
 		}
 	}
 	conds = append(conds, flagged("standard", Warn, !standard, fu.ratingA, next, "A"))
-	r.emit(CheckFuseRating, n.id, ptr, r.basis.fuseRating, conds, func(c cond, passed bool) string {
+	r.emit(CheckFuseRating, n.id, ptr, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			if fu.voltageV > 0 {
@@ -747,8 +790,9 @@ func (r *reviewer) fusePlacement(n *node, ptr string) {
 	c := above("far", Warn, fu.distanceM, limit, "m")
 	if !fu.hasDist {
 		c = flagged("unknown", Warn, true, 0, limit, "m")
+		c.noValue = true
 	}
-	r.emit(CheckFusePlacement, n.id, ptr, r.basis.fusePlacement, append(room[:0], c), func(c cond, passed bool) string {
+	r.emit(CheckFusePlacement, n.id, ptr, append(room[:0], c), func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The fuse on the feed to "), txt(n.id), txt(" sits "), val(fu.distanceM), txt(" m from "), txt(src),
@@ -773,7 +817,7 @@ func (r *reviewer) connectorRating(n *node, ptr string, k int, c connector) {
 	if c.ratingV > 0 {
 		conds = append(conds, above("voltage near", Warn, n.vHigh, u*c.ratingV, "V"))
 	}
-	r.emit(CheckConnectorRating, n.id, ptr, r.basis.connector, conds, func(cd cond, passed bool) string {
+	r.emit(CheckConnectorRating, n.id, ptr, conds, func(cd cond, passed bool) string {
 		// "xt30 connector", or "connector 2" for one without a family
 		first, second := "connector ", strconv.Itoa(k+1)
 		if c.family != "" {
@@ -813,8 +857,7 @@ func (r *reviewer) scope() {
 		}
 		if n.mains {
 			found = true
-			r.add(Check{Check: CheckScopeMains, Node: n.id, Pointer: n.ptr + "/mains", Status: OutOfScope, Value: 1, Limit: 0,
-				Unit: "", Basis: r.basis.scope,
+			r.add(Check{Check: CheckScopeMains, Node: n.id, Pointer: n.ptr + "/mains", Status: OutOfScope,
 				Message: fmt.Sprintf("%s includes mains: wattshelf does not review mains circuits, and this design cannot pass. "+
 					"The findings below are listed for information only.", n.id)})
 		}
@@ -823,8 +866,8 @@ func (r *reviewer) scope() {
 		}
 		if n.isSource() && n.vHigh > ceiling {
 			found = true
-			r.add(Check{Check: CheckScopeMains, Node: n.id, Pointer: n.ptr, Status: OutOfScope, Value: n.vHigh, Limit: ceiling,
-				Unit: "V", Basis: r.basis.scope,
+			r.add(Check{Check: CheckScopeMains, Node: n.id, Pointer: n.ptr, Status: OutOfScope,
+				Value: ptrTo(n.vHigh), Limit: ptrTo(ceiling), Unit: "V",
 				Message: fmt.Sprintf("%s reaches %s V, above the %s V DC these rules cover: the design is out of scope and cannot "+
 					"pass.", n.id, num(n.vHigh), num(ceiling))})
 		}
@@ -836,7 +879,7 @@ func (r *reviewer) scope() {
 	if len(salvaged) > 0 {
 		msg += fmt.Sprintf(" Salvaged from a mains-powered appliance: %s; use only the low-voltage side.", joinIDs(salvaged))
 	}
-	r.add(Check{Check: CheckScopeMains, Pointer: "", Status: Pass, Value: highest, Limit: ceiling, Unit: "V", Basis: r.basis.scope,
+	r.add(Check{Check: CheckScopeMains, Pointer: "", Status: Pass, Value: ptrTo(highest), Limit: ptrTo(ceiling), Unit: "V",
 		Message: msg})
 }
 

@@ -2,12 +2,15 @@ package review
 
 import (
 	"bytes"
-	"encoding/json"
 	"flag"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
+
+	"github.com/go-json-experiment/json"
+	"github.com/go-json-experiment/json/jsontext"
 
 	"wattshelf/domain"
 )
@@ -46,7 +49,7 @@ func TestGoldenDemoReports(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			got, err := json.MarshalIndent(rep, "", "  ")
+			got, err := json.Marshal(rep, domain.StrictJSON(), jsontext.WithIndent("  "))
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -64,6 +67,62 @@ func TestGoldenDemoReports(t *testing.T) {
 			}
 			if !bytes.Equal(got, want) {
 				t.Errorf("report for %s differs from %s; run with -update and review the diff", path, golden)
+			}
+		})
+	}
+}
+
+// Each demo design is meant to show one outcome, for a reason a member
+// can read in its findings. This states the verdict and the findings that
+// make it, beside the golden files, so a golden report written again by
+// mistake is caught here.
+func TestDemoDesignVerdicts(t *testing.T) {
+	type finding struct{ check, node string }
+	tests := []struct {
+		design   string
+		status   Status
+		findings []finding // every check that does not pass
+	}{
+		// Pass: every part inside its ratings over the whole discharge.
+		{"seedling-cart", Pass, nil},
+		// Warn: a driver and a connector near their ratings, a slow fuse a
+		// little far from the pack, a short runtime, a warm linear regulator.
+		{"fume-fan", Warn, []finding{
+			{"source.current", "pack"}, {"source.runtime", "pack"}, {"driver.voltage", "fan_driver"},
+			{"driver.current", "fan_driver"}, {"fuse.rating", "fan_driver"}, {"fuse.placement", "fan_driver"},
+			{"connector.rating", "fan_driver"}, {"regulator.thermal", "reg5"}, {"voltage.range", "work_light"},
+		}},
+		// Fail: an overloaded driver with no fuse on the pack's feed, a motor
+		// and a camera outside their windows, a thin wire, a small regulator.
+		{"camera-slider", Fail, []finding{
+			{"source.current", "pack"}, {"driver.voltage", "slide_driver"}, {"driver.current", "slide_driver"},
+			{"wire.ampacity", "slide_driver"}, {"fuse.missing", "slide_driver"}, {"voltage.range", "sled_motor"},
+			{"wire.ampacity", "pan_motor"}, {"regulator.current", "cam_buck"}, {"fuse.rating", "cam_buck"},
+			{"voltage.range", "camera"}, {"wire.drop", "camera"},
+		}},
+		// Out of scope: it includes the mains side of a wall adapter.
+		{"sawdust-sweeper", OutOfScope, []finding{{"scope.mains", "wall_adapter"}, {"source.current", "wall_adapter"}}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.design, func(t *testing.T) {
+			rep, err := Review(readDesign(t, filepath.Join(demoDir, tt.design+".json")), DefaultLimits(), 1, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if rep.Status != tt.status {
+				t.Errorf("status %s, want %s", rep.Status, tt.status)
+			}
+			var got []finding
+			for _, c := range rep.Checks {
+				if c.Status != Pass {
+					got = append(got, finding{c.Check, c.Node})
+				}
+			}
+			slices.SortFunc(got, func(a, b finding) int { return strings.Compare(a.check+a.node, b.check+b.node) })
+			want := slices.Clone(tt.findings)
+			slices.SortFunc(want, func(a, b finding) int { return strings.Compare(a.check+a.node, b.check+b.node) })
+			if !slices.Equal(got, want) {
+				t.Errorf("findings %v, want %v", got, want)
 			}
 		})
 	}

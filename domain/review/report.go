@@ -2,7 +2,12 @@ package review
 
 // EngineVersion changes whenever the same design and limits could give a
 // different report, so stored reviews can be told apart.
-const EngineVersion = "1"
+const EngineVersion = "2"
+
+// ReportFormat is the format of the reports this build writes. Format 1
+// reports (every check carrying its basis, no rules) stay readable as
+// stored: see ReadStored.
+const ReportFormat = 2
 
 // Status is the outcome of one check or of a whole review.
 type Status string
@@ -50,10 +55,12 @@ const (
 
 // Report is the outcome of a review (DESIGN section 8).
 type Report struct {
+	Format        int             `json:"format"`
 	Status        Status          `json:"status"`
 	LimitsVersion int             `json:"limits_version"`
 	EngineVersion string          `json:"engine_version"`
 	Counts        Counts          `json:"counts"`
+	Rules         map[string]Rule `json:"rules"`
 	Checks        []Check         `json:"checks"`
 	Nodes         []NodeResult    `json:"nodes"`
 	Feeds         []FeedResult    `json:"feeds"`
@@ -72,16 +79,27 @@ type Counts struct {
 // Check is one finding. Node names the node a feed supplies for a check on
 // a feed, the source for a check on a source, and is empty for a check of
 // the whole design. Pointer locates what was checked in the document.
+//
+// Limit is the hard limit and WarnAt the warning threshold, where the
+// check has them; Value or Limit is null when the design did not give
+// what it would be worked out from, and the message says what is missing.
 type Check struct {
-	Check   string  `json:"check"`
-	Node    string  `json:"node"`
-	Pointer string  `json:"pointer"`
-	Status  Status  `json:"status"`
-	Value   float64 `json:"value"`
-	Limit   float64 `json:"limit"`
-	Unit    string  `json:"unit"`
-	Message string  `json:"message"`
-	Basis   string  `json:"basis"`
+	Check   string   `json:"check"`
+	Node    string   `json:"node"`
+	Pointer string   `json:"pointer"`
+	Status  Status   `json:"status"`
+	Value   *float64 `json:"value"`
+	Limit   *float64 `json:"limit"`
+	WarnAt  *float64 `json:"warn_at,omitzero"`
+	Unit    string   `json:"unit"`
+	Message string   `json:"message"`
+}
+
+// Rule is what a check applies and where it comes from, written once per
+// report for every check it holds.
+type Rule struct {
+	Basis  string `json:"basis"`
+	Source string `json:"source"`
 }
 
 // NodeResult is a node's operating point. Voltages are at its input (a

@@ -17,7 +17,6 @@ type reviewer struct {
 	t       *tree
 	limits  *Limits
 	ambient float64
-	basis   *bases
 	checks  []Check
 	spans   []textSpan // of each check's message in text
 	nums    numbers
@@ -32,7 +31,7 @@ type reviewer struct {
 type Rules struct {
 	limits  Limits
 	version int
-	basis   bases
+	rules   map[string]Rule
 	spare   sync.Pool // of *workspace
 }
 
@@ -44,7 +43,7 @@ func Prepare(limits Limits, version int) (*Rules, error) {
 		// %v, not %w: the problems are in the limits, not in a document.
 		return nil, fmt.Errorf("limits v%d cannot be used: %v", version, err)
 	}
-	return &Rules{limits: limits, version: version, basis: newBases(limits)}, nil
+	return &Rules{limits: limits, version: version, rules: newRules(limits)}, nil
 }
 
 // Version is the limits version the rules were prepared from.
@@ -93,11 +92,12 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	}
 	t := newTree(nodes)
 	t.solve()
-	r := &reviewer{t: t, limits: limits, ambient: ambient, basis: &ru.basis, said: &ws.said,
+	r := &reviewer{t: t, limits: limits, ambient: ambient, said: &ws.said,
 		// A node gets about four checks: its own, and its feed's.
 		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
 	r.text.Grow(320*len(nodes) + 256)
 	rep := Report{
+		Format:        ReportFormat,
 		LimitsVersion: ru.version,
 		EngineVersion: EngineVersion,
 		Nodes:         make([]NodeResult, 0, len(nodes)),
@@ -143,7 +143,9 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	r.finishMessages()
 	rep.Checks = r.checks
 	rep.Status = Pass
+	rep.Rules = map[string]Rule{}
 	for _, c := range r.checks {
+		rep.Rules[c.Check] = ru.rules[c.Check]
 		switch c.Status {
 		case Pass:
 			rep.Counts.Pass++
@@ -515,7 +517,7 @@ func (rep *Report) checkFinite() error {
 	}
 	var where []string
 	for _, c := range rep.Checks {
-		if bad(c.Value, c.Limit) {
+		if badOpt(c.Value, c.Limit, c.WarnAt) {
 			where = append(where, c.Check+" of "+c.Node)
 		}
 	}
