@@ -60,8 +60,10 @@ func newRules(l Limits) map[string]Rule {
 	u, m := l.Policy.UtilisationPct, l.Policy.ThermalMarginC
 	f, d := l.Fuses, l.VoltageDrop
 	warnAbove := fmt.Sprintf("warn above %g %% (%s)", u.Value, cite(u.Source))
-	datasheet := "the part's datasheet, as the design or its shelf component gives it"
-	rating := Rule{Basis: "the part's rating (its datasheet); " + warnAbove, Source: datasheet + "; " + u.Source}
+	// A rule's source is cited; the whole text stays in the limits version
+	// the report names.
+	datasheet := "the part's datasheet"
+	rating := Rule{Basis: "the part's rating (its datasheet); " + warnAbove, Source: datasheet + "; " + cite(u.Source)}
 	return map[string]Rule{
 		CheckVoltageRange: {Basis: "the part's min_v and max_v against its input range at the operating point: full source and no " +
 			"load at the high end, cutoff and feed drops at the low end", Source: datasheet},
@@ -70,32 +72,32 @@ func newRules(l Limits) map[string]Rule {
 			"that carries P/η: V_parent ≥ 2·√(R_feed·P/η)", Source: datasheet},
 		CheckRegulatorCurrent: rating,
 		CheckRegulatorThermal: {Basis: fmt.Sprintf("T_j = ambient + P·θ_JA at the input high end; fail at tj_max_c, warn within "+
-			"%g °C (%s)", m.Value, cite(m.Source)), Source: datasheet + "; " + m.Source},
+			"%g °C (%s)", m.Value, cite(m.Source)), Source: datasheet + "; " + cite(m.Source)},
 		CheckDriverVoltage: rating,
 		CheckDriverCurrent: rating,
 		CheckSourceCurrent: {Basis: "the source's max_discharge_a (default: C rate × capacity) or max_a; fail on the running " +
 			"current, warn on the surge or when its sag takes a critical load below min_v", Source: datasheet},
 		CheckSourceRuntime: {Basis: "usable capacity, full to cutoff or first brownout on the discharge curve (Peukert where " +
-			"stored), over the average current", Source: "the chemistry table of this limits version"},
+			"stored), over the average current", Source: "the limits' chemistry table"},
 		CheckWireAmpacity: {Basis: fmt.Sprintf("ampacity by insulation and bundling from %s; %s", cite(l.Conductors.Source),
-			warnAbove), Source: l.Conductors.Source + "; " + u.Source},
+			warnAbove), Source: cites(l.Conductors.Source, u.Source)},
 		CheckWireDrop: {Basis: fmt.Sprintf("drop over both copper conductors (IEC 60028) as a share of the parent's nominal "+
 			"voltage: fail over %g %%, warn over %g %% on a critical load (%s)", d.NonCriticalPct.Value, d.CriticalPct.Value,
-			cites(d.NonCriticalPct.Source, d.CriticalPct.Source)), Source: d.NonCriticalPct.Source + "; " + d.CriticalPct.Source},
+			cites(d.NonCriticalPct.Source, d.CriticalPct.Source)), Source: cites(d.NonCriticalPct.Source, d.CriticalPct.Source)},
 		CheckFuseMissing: {Basis: "a source's feed needs a fuse when the source can deliver more than the wire carries " +
 			"(33 CFR 183.455); " +
 			"otherwise one is advised", Source: "33 CFR 183.455"},
 		CheckFuseRating: {Basis: fmt.Sprintf("at most %g × the ampacity it protects (%s), at least %g × the running current "+
 			"(%s); voltage rating at least the circuit's, a fast fuse at least the motor surge, a standard rating of its series",
 			f.MaxAmpacityMultiple.Value, cite(f.MaxAmpacityMultiple.Source), f.ContinuousLoadFactor.Value,
-			cite(f.ContinuousLoadFactor.Source)), Source: f.MaxAmpacityMultiple.Source + "; " + f.ContinuousLoadFactor.Source},
+			cite(f.ContinuousLoadFactor.Source)), Source: cites(f.MaxAmpacityMultiple.Source, f.ContinuousLoadFactor.Source)},
 		CheckFusePlacement: {Basis: fmt.Sprintf("within %g m of the source, %g m when sheathed (%s)", f.MaxDistanceM.Value,
 			f.MaxDistanceSheathedM.Value, cites(f.MaxDistanceM.Source, f.MaxDistanceSheathedM.Source)),
-			Source: f.MaxDistanceM.Source},
+			Source: cites(f.MaxDistanceM.Source, f.MaxDistanceSheathedM.Source)},
 		CheckConnectorRating: {Basis: "the connector's rating (the design's or its stored family's); " + warnAbove,
-			Source: "the connector's datasheet or the limits' connector families; " + u.Source},
+			Source: "the connector's datasheet or the limits' connector families; " + cite(u.Source)},
 		CheckScopeMains: {Basis: fmt.Sprintf("mains is out of scope, and so is any source above %g V DC (%s)",
-			l.Policy.InScopeMaxV.Value, cite(l.Policy.InScopeMaxV.Source)), Source: l.Policy.InScopeMaxV.Source},
+			l.Policy.InScopeMaxV.Value, cite(l.Policy.InScopeMaxV.Source)), Source: cite(l.Policy.InScopeMaxV.Source)},
 	}
 }
 
@@ -282,7 +284,7 @@ func (r *reviewer) say(parts ...piece) string {
 // emit records a check from its conditions. msg writes the sentence for
 // the condition shown, with say or as a string of its own; passed says
 // none was crossed. The message is filled in by finishMessages.
-func (r *reviewer) emit(check, nodeID, ptr string, conds []cond, msg func(c cond, passed bool) string) {
+func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, passed bool) string) {
 	pick, status := -1, Pass
 	for i, c := range conds {
 		if c.crossed && c.level.rank() > status.rank() {
@@ -302,7 +304,7 @@ func (r *reviewer) emit(check, nodeID, ptr string, conds []cond, msg func(c cond
 	if own := msg(c, passed); own != "" {
 		r.text.WriteString(own)
 	}
-	ch := Check{Check: check, Node: nodeID, Pointer: ptr, Status: status, Unit: c.unit}
+	ch := Check{Check: check, Node: nodeID, Status: status, Unit: c.unit}
 	if !c.noValue {
 		ch.Value = ptrTo(c.value)
 	}
@@ -320,19 +322,28 @@ func (r *reviewer) emit(check, nodeID, ptr string, conds []cond, msg func(c cond
 func ptrTo(x float64) *float64 { return &x }
 
 // thresholds are the hard limit and the warning threshold that go with
-// the condition c shown: c's own, and the condition of the other level
-// on the same quantity (the same value and unit), where there is one.
+// the condition c shown: c's own, and the condition of the other level on
+// the same quantity (the same value and unit) or, failing that, in the
+// same unit, where there is one.
 func thresholds(c cond, conds []cond) (hard, warn *cond) {
-	for i := range conds {
-		o := &conds[i]
-		if o.value != c.value || o.unit != c.unit || o.noValue != c.noValue {
-			continue
-		}
-		switch {
-		case o.level == Fail && hard == nil && (c.level != Fail || o.what == c.what):
-			hard = o
-		case o.level == Warn && warn == nil && (c.level != Warn || o.what == c.what):
-			warn = o
+	if c.level == Fail {
+		hard = &c
+	} else {
+		warn = &c
+	}
+	// Another condition on the same quantity first, else on the same unit.
+	for _, sameValue := range []bool{true, false} {
+		for i := range conds {
+			o := &conds[i]
+			if o.unit != c.unit || (sameValue && (o.value != c.value || o.noValue != c.noValue)) {
+				continue
+			}
+			if o.level == Fail && hard == nil {
+				hard = o
+			}
+			if o.level == Warn && warn == nil {
+				warn = o
+			}
 		}
 	}
 	return hard, warn
@@ -395,7 +406,7 @@ func (r *reviewer) voltageRange(n *node) {
 		unknown.noLimit = true
 		conds = append(conds, unknown)
 	}
-	r.emit(CheckVoltageRange, n.id, n.ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckVoltageRange, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			switch {
@@ -449,7 +460,7 @@ func (r *reviewer) regulatorHeadroom(n *node) {
 			conds = append(conds, above("step-down", Fail, n.vLow, n.outputV, "V"))
 		}
 	}
-	r.emit(CheckRegulatorHeadroom, n.id, n.ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckRegulatorHeadroom, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt("'s input stays within "), val(n.vLow), txt("–"), val(n.vHigh), txt(" V and it holds "),
@@ -486,7 +497,7 @@ func (r *reviewer) regulatorCurrent(n *node) {
 	conds := append(room[:0],
 		above("peak", Fail, n.outPeak, n.maxOutA, "A"),
 		above("run", Warn, n.outRun, u*n.maxOutA, "A"))
-	r.emit(CheckRegulatorCurrent, n.id, n.ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckRegulatorCurrent, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt(" delivers "), val(n.outRun), txt(" A (surges "), val(n.outPeak), txt(" A) of its "),
@@ -513,7 +524,7 @@ func (r *reviewer) regulatorThermal(n *node) {
 	conds := append(room[:0],
 		atLeast("limit", Fail, tj, n.tjMaxC, "°C"),
 		atLeast("margin", Warn, tj, n.tjMaxC-margin, "°C"))
-	r.emit(CheckRegulatorThermal, n.id, n.ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckRegulatorThermal, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt(" sheds "), val(powerW), txt(" W; its junction stays at "), val(tj), txt(" °C, well below "),
@@ -533,7 +544,7 @@ func (r *reviewer) driverChecks(n *node) {
 	conds := append(room[:0],
 		above("over", Fail, n.vHigh, n.maxInputV, "V"),
 		above("near", Warn, n.vHigh, u*n.maxInputV, "V"))
-	r.emit(CheckDriverVoltage, n.id, n.ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckDriverVoltage, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt("'s input peaks at "), val(n.vHigh), txt(" V of its "), val(n.maxInputV), txt(" V rating."))
@@ -551,7 +562,7 @@ func (r *reviewer) driverChecks(n *node) {
 	if n.peakRatingA > 0 {
 		conds = append(conds, above("peak near", Warn, n.outPeak, u*n.peakRatingA, "A"))
 	}
-	r.emit(CheckDriverCurrent, n.id, n.ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckDriverCurrent, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed && n.peakRatingA > 0:
 			return r.say(txt(n.id), txt(" carries "), val(n.outRun), txt(" A of its "), val(n.continuousA),
@@ -584,7 +595,7 @@ func (r *reviewer) sourceCurrent(n *node, criticalNeed float64, criticalID strin
 		sag = n.vNom - n.peak*n.pack.InternalOhm()
 		conds = append(conds, below("sag", Warn, sag, criticalNeed, "V"))
 	}
-	r.emit(CheckSourceCurrent, n.id, n.ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckSourceCurrent, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt(n.id), txt(" delivers "), val(n.run), txt(" A (surges "), val(n.peak), txt(" A) of its "), val(rating),
@@ -609,7 +620,7 @@ func (r *reviewer) sourceRuntime(n *node, hours float64, targetH *float64, limit
 		target = *targetH
 	}
 	conds := append(room[:0], below("short", Warn, hours, target, "h"))
-	r.emit(CheckSourceRuntime, n.id, n.ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckSourceRuntime, n.id, conds, func(c cond, passed bool) string {
 		if targetH == nil {
 			return fmt.Sprintf("%s lasts about %s h at %s A average (limited by %s); the design sets no target_runtime_h.", n.id,
 				num(hours), num(n.avg), limitedBy)
@@ -623,14 +634,14 @@ func (r *reviewer) sourceRuntime(n *node, hours float64, targetH *float64, limit
 	})
 }
 
-func (r *reviewer) wireAmpacity(n *node, ptr string) {
+func (r *reviewer) wireAmpacity(n *node) {
 	var room [6]cond // a check has at most five conditions: they stay on the stack
 	f := n.feed
 	u := r.limits.utilisation()
 	conds := append(room[:0],
 		above("over", Fail, n.run, f.ampacity, "A"),
 		above("near", Warn, n.run, u*f.ampacity, "A"))
-	r.emit(CheckWireAmpacity, n.id, ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckWireAmpacity, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The "), txt(f.gauge.Label), txt(" feed to "), txt(n.id), txt(" carries "), val(n.run), txt(" A of its "),
@@ -666,7 +677,7 @@ func (r *reviewer) dropPct(n *node) (dropV, share float64) {
 	return dropV, 0
 }
 
-func (r *reviewer) wireDrop(n *node, ptr string) {
+func (r *reviewer) wireDrop(n *node) {
 	var room [6]cond // a check has at most five conditions: they stay on the stack
 	dropV, share := r.dropPct(n)
 	lim := r.limits.VoltageDrop
@@ -675,7 +686,7 @@ func (r *reviewer) wireDrop(n *node, ptr string) {
 	if n.critical {
 		conds = append(conds, above("critical", Warn, share, lim.CriticalPct.Value, "%"))
 	}
-	r.emit(CheckWireDrop, n.id, ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckWireDrop, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The feed to "), txt(n.id), txt(" loses "), val(dropV), txt(" V ("), val(share), txt(" %), within the "),
@@ -689,7 +700,7 @@ func (r *reviewer) wireDrop(n *node, ptr string) {
 	})
 }
 
-func (r *reviewer) fuseMissing(n *node, ptr string) {
+func (r *reviewer) fuseMissing(n *node) {
 	var room [6]cond // a check has at most five conditions: they stay on the stack
 	src := &r.t.nodes[n.parent]
 	deliver, what := src.maxA, "its max_a"
@@ -701,7 +712,7 @@ func (r *reviewer) fuseMissing(n *node, ptr string) {
 	conds := append(room[:0],
 		flagged("burns", Fail, !fused && deliver > f.ampacity, deliver, f.ampacity, "A"),
 		flagged("advised", Warn, !fused, deliver, f.ampacity, "A"))
-	r.emit(CheckFuseMissing, n.id, ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckFuseMissing, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The feed from "), txt(src.id), txt(" to "), txt(n.id), txt(" is fused at "), val(f.fuse.ratingA), txt(" A."))
@@ -715,7 +726,7 @@ func (r *reviewer) fuseMissing(n *node, ptr string) {
 	})
 }
 
-func (r *reviewer) fuseRating(n *node, ptr string, protectedAmp float64, protectedID string) {
+func (r *reviewer) fuseRating(n *node, protectedAmp float64, protectedID string) {
 	var room [6]cond // a check has at most five conditions: they stay on the stack
 	fu := n.feed.fuse
 	l := r.limits.Fuses
@@ -743,7 +754,7 @@ func (r *reviewer) fuseRating(n *node, ptr string, protectedAmp float64, protect
 		}
 	}
 	conds = append(conds, flagged("standard", Warn, !standard, fu.ratingA, next, "A"))
-	r.emit(CheckFuseRating, n.id, ptr, conds, func(c cond, passed bool) string {
+	r.emit(CheckFuseRating, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
 			if fu.voltageV > 0 {
@@ -778,7 +789,7 @@ func (r *reviewer) fuseRating(n *node, ptr string, protectedAmp float64, protect
 	})
 }
 
-func (r *reviewer) fusePlacement(n *node, ptr string) {
+func (r *reviewer) fusePlacement(n *node) {
 	var room [6]cond // a check has at most five conditions: they stay on the stack
 	fu := n.feed.fuse
 	l := r.limits.Fuses
@@ -792,7 +803,7 @@ func (r *reviewer) fusePlacement(n *node, ptr string) {
 		c = flagged("unknown", Warn, true, 0, limit, "m")
 		c.noValue = true
 	}
-	r.emit(CheckFusePlacement, n.id, ptr, append(room[:0], c), func(c cond, passed bool) string {
+	r.emit(CheckFusePlacement, n.id, append(room[:0], c), func(c cond, passed bool) string {
 		switch {
 		case passed:
 			return r.say(txt("The fuse on the feed to "), txt(n.id), txt(" sits "), val(fu.distanceM), txt(" m from "), txt(src),
@@ -817,7 +828,7 @@ func (r *reviewer) connectorRating(n *node, ptr string, k int, c connector) {
 	if c.ratingV > 0 {
 		conds = append(conds, above("voltage near", Warn, n.vHigh, u*c.ratingV, "V"))
 	}
-	r.emit(CheckConnectorRating, n.id, ptr, conds, func(cd cond, passed bool) string {
+	r.emit(CheckConnectorRating, n.id, conds, func(cd cond, passed bool) string {
 		// "xt30 connector", or "connector 2" for one without a family
 		first, second := "connector ", strconv.Itoa(k+1)
 		if c.family != "" {
@@ -842,6 +853,8 @@ func (r *reviewer) connectorRating(n *node, ptr string, k int, c connector) {
 		}
 		return fmt.Sprintf("The %s on the feed to %s sees %s V, over %s of its %s V rating.", name, n.id, num(n.vHigh), pct(u), num(c.ratingV))
 	})
+	// A feed may have several connectors: the node does not say which.
+	r.checks[len(r.checks)-1].Pointer = ptr
 }
 
 // scope is the design-wide check: mains anywhere, or a source above the
@@ -857,7 +870,7 @@ func (r *reviewer) scope() {
 		}
 		if n.mains {
 			found = true
-			r.add(Check{Check: CheckScopeMains, Node: n.id, Pointer: n.ptr + "/mains", Status: OutOfScope,
+			r.add(Check{Check: CheckScopeMains, Node: n.id, Status: OutOfScope,
 				Message: fmt.Sprintf("%s includes mains: wattshelf does not review mains circuits, and this design cannot pass. "+
 					"The findings below are listed for information only.", n.id)})
 		}
@@ -866,7 +879,7 @@ func (r *reviewer) scope() {
 		}
 		if n.isSource() && n.vHigh > ceiling {
 			found = true
-			r.add(Check{Check: CheckScopeMains, Node: n.id, Pointer: n.ptr, Status: OutOfScope,
+			r.add(Check{Check: CheckScopeMains, Node: n.id, Status: OutOfScope,
 				Value: ptrTo(n.vHigh), Limit: ptrTo(ceiling), Unit: "V",
 				Message: fmt.Sprintf("%s reaches %s V, above the %s V DC these rules cover: the design is out of scope and cannot "+
 					"pass.", n.id, num(n.vHigh), num(ceiling))})
@@ -879,7 +892,7 @@ func (r *reviewer) scope() {
 	if len(salvaged) > 0 {
 		msg += fmt.Sprintf(" Salvaged from a mains-powered appliance: %s; use only the low-voltage side.", joinIDs(salvaged))
 	}
-	r.add(Check{Check: CheckScopeMains, Pointer: "", Status: Pass, Value: ptrTo(highest), Limit: ptrTo(ceiling), Unit: "V",
+	r.add(Check{Check: CheckScopeMains, Status: Pass, Value: ptrTo(highest), Limit: ptrTo(ceiling), Unit: "V",
 		Message: msg})
 }
 

@@ -78,7 +78,8 @@ type Counts struct {
 
 // Check is one finding. Node names the node a feed supplies for a check on
 // a feed, the source for a check on a source, and is empty for a check of
-// the whole design. Pointer locates what was checked in the document.
+// the whole design. Pointer locates a connector in the document, where the
+// node alone does not say which of its feed's connectors was checked.
 //
 // Limit is the hard limit and WarnAt the warning threshold, where the
 // check has them; Value or Limit is null when the design did not give
@@ -86,7 +87,7 @@ type Counts struct {
 type Check struct {
 	Check   string   `json:"check"`
 	Node    string   `json:"node"`
-	Pointer string   `json:"pointer"`
+	Pointer string   `json:"pointer,omitzero"`
 	Status  Status   `json:"status"`
 	Value   *float64 `json:"value"`
 	Limit   *float64 `json:"limit"`
@@ -108,7 +109,7 @@ type Rule struct {
 type NodeResult struct {
 	ID           string   `json:"id"`
 	Type         string   `json:"type"`
-	Parent       string   `json:"parent,omitempty"`
+	Parent       string   `json:"parent,omitzero"`
 	VLow         float64  `json:"v_low"`
 	VNominal     float64  `json:"v_nominal"`
 	VHigh        float64  `json:"v_high"`
@@ -123,7 +124,7 @@ type NodeResult struct {
 	// Collapsed marks a switching regulator whose feed cannot carry the
 	// power it needs: there is no operating point, and its currents are the
 	// most the feed could deliver.
-	Collapsed bool `json:"collapsed,omitempty"`
+	Collapsed bool `json:"collapsed,omitzero"`
 }
 
 // FeedResult is the wire run to a node: its loop resistance, the current

@@ -167,22 +167,20 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 }
 
 func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
-	feedPtr, wirePtr := n.feedPtr(), n.wirePtr
-	r.wireAmpacity(n, wirePtr)
-	r.wireDrop(n, wirePtr)
+	r.wireAmpacity(n)
+	r.wireDrop(n)
 	fromSource := r.t.nodes[n.parent].isSource()
 	if fromSource {
-		r.fuseMissing(n, feedPtr)
+		r.fuseMissing(n)
 	}
 	if n.feed.fuse != nil {
-		fusePtr := feedPtr + "/fuse"
-		r.fuseRating(n, fusePtr, protAmp, protID)
+		r.fuseRating(n, protAmp, protID)
 		if fromSource {
-			r.fusePlacement(n, fusePtr)
+			r.fusePlacement(n)
 		}
 	}
 	for k, c := range n.feed.connectors {
-		r.connectorRating(n, feedPtr+"/connectors/"+strconv.Itoa(k), k, c)
+		r.connectorRating(n, n.feedPtr()+"/connectors/"+strconv.Itoa(k), k, c)
 	}
 }
 
