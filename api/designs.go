@@ -33,6 +33,12 @@ func (s *server) registerDesignRoutes(e *echo.Echo, v1 *echo.Group) {
 	v1.GET("/components/:id/motor-fit", s.motorFit, requireUser)
 	s.registerLimitsRoutes(v1)
 	e.GET("/openapi.yaml", serveOpenAPI)
+	v1.GET("/schemas/design.json", serveDesignSchema)
+}
+
+// serveDesignSchema sends the design document's JSON Schema.
+func serveDesignSchema(c echo.Context) error {
+	return c.Blob(http.StatusOK, "application/schema+json", domain.DesignSchema())
 }
 
 // DesignPage is one page of a design listing.

@@ -177,6 +177,7 @@ func TestOpenAPIResponses(t *testing.T) {
 	oc.send(get, "/readyz", "", nil, 200)
 	oc.send(get, "/metrics", "", nil, 200)
 	oc.send(get, "/openapi.yaml", "", nil, 200)
+	oc.send(get, "/v1/schemas/design.json", "", nil, 200)
 
 	// The shelf.
 	var motor struct{ ID int64 }

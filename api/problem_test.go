@@ -54,7 +54,7 @@ func TestProblemKinds(t *testing.T) {
 		{"fraction for a whole number", "POST", "/v1/components", a.owner, `{"name": "x", "kind": "motor", "quantity": 1.5}`, nil, 422, "validation", []string{"/quantity"}},
 		{"array for an object", "POST", "/v1/components", a.owner, `[1, 2]`, nil, 422, "validation", []string{""}},
 		{"invalid fields", "POST", "/v1/components", a.owner, `{"name": "", "kind": "robot", "max_v": 1500, "peak_a": 2000}`, nil, 422, "validation",
-			[]string{"/name", "/kind", "/max_v", "/peak_a"}},
+			[]string{"/name", "/kind", "/peak_a", "/max_v"}},
 		{"body at the cap", "POST", "/v1/components", a.owner, atCap, nil, 422, "validation", []string{"/description"}},
 		{"body over the cap", "POST", "/v1/components", a.owner, overCap, nil, 413, "too-large", nil},
 		{"body over the cap, no length", "POST", "/v1/components", a.owner, io.MultiReader(strings.NewReader(overCap)), nil, 413, "too-large", nil},

@@ -6,15 +6,12 @@ import (
 	"fmt"
 	"io"
 	"reflect"
-	"slices"
 	"strconv"
 	"strings"
-	"sync"
 
 	"github.com/go-json-experiment/json"
 	"github.com/go-json-experiment/json/jsontext"
 	"github.com/santhosh-tekuri/jsonschema/v6"
-	"github.com/santhosh-tekuri/jsonschema/v6/kind"
 )
 
 // StrictJSON is how every request body is read, configured once: unknown
@@ -109,138 +106,6 @@ func shapeProblem(err error) FieldProblem {
 		return FieldProblem{Pointer: ptr, Detail: "is too large a number"}
 	}
 	return FieldProblem{Pointer: ptr, Detail: "must be " + want}
-}
-
-// DecodeDesign reads a design document strictly. Input that is not
-// well-formed JSON gives a *DecodeError. Well-formed JSON that does not
-// fit the format gives a *ValidationError listing every problem with its
-// JSON pointer: every unknown member and wrong-typed value, found by the
-// format's JSON Schema, and everything Validate finds in the rest. Call
-// Validate on a document that decodes.
-func DecodeDesign(data []byte) (Design, error) {
-	if len(bytes.TrimSpace(data)) == 0 {
-		return Design{}, &DecodeError{Reason: "the body is empty; send a design document"}
-	}
-	var d Design
-	err := json.Unmarshal(data, &d, StrictJSON())
-	if err == nil && bytes.TrimSpace(data)[0] != '{' {
-		err = &ValidationError{Problems: []FieldProblem{{Detail: "must be a JSON object (a design document)"}}}
-		return Design{}, err
-	}
-	if err == nil {
-		return d, nil
-	}
-	if broken := malformed(data, err); broken != nil {
-		return Design{}, broken
-	}
-	return Design{}, describeDesign(data, err)
-}
-
-// designSchema is the design schema compiled, once: it is made from the
-// declaration, which does not change while the program runs.
-var designSchema = sync.OnceValue(func() *jsonschema.Schema {
-	doc, err := jsonschema.UnmarshalJSON(bytes.NewReader(DesignSchema()))
-	if err != nil {
-		panic(fmt.Sprintf("read the design schema: %v", err))
-	}
-	c := jsonschema.NewCompiler()
-	if err := c.AddResource(DesignSchemaID, doc); err != nil {
-		panic(fmt.Sprintf("add the design schema: %v", err))
-	}
-	return c.MustCompile(DesignSchemaID)
-})
-
-// describeDesign lists every problem of a well-formed document that did
-// not decode (first is the decoder's error). The schema finds the members
-// that cannot be decoded; they are set aside, the rest is decoded and
-// validated, and each problem is reported once, at its own pointer.
-func describeDesign(data []byte, first error) error {
-	var doc any
-	if err := json.Unmarshal(data, &doc, jsontext.AllowDuplicateNames(true)); err != nil {
-		// A number out of float range: read every number as written.
-		if doc, err = jsonschema.UnmarshalJSON(bytes.NewReader(data)); err != nil {
-			return &ValidationError{Problems: []FieldProblem{shapeProblem(first)}}
-		}
-		doc = numbersAsWritten(doc)
-	}
-	var p Problems
-	said := map[string]bool{}
-	add := func(ptr, format string, args ...any) {
-		if !said[ptr] {
-			said[ptr] = true
-			p.Add(ptr, format, args...)
-		}
-	}
-	for _, ptr := range repeatedNames(data) {
-		if strings.Count(ptr, "/") == 3 && strings.HasSuffix(ptr, "/feed") {
-			add(ptr, "appears twice: a node is fed from exactly one parent")
-		} else {
-			add(ptr, "appears twice in one object")
-		}
-	}
-	if _, ok := doc.(map[string]any); !ok {
-		add("", "must be a JSON object (a design document)")
-		return p.Err()
-	}
-	var ve *jsonschema.ValidationError
-	if errors.As(designSchema().Validate(doc), &ve) {
-		for _, leaf := range leaves(ve) {
-			ptr := pointerOf(leaf.InstanceLocation)
-			switch k := leaf.ErrorKind.(type) {
-			case *kind.AdditionalProperties:
-				for _, name := range k.Properties {
-					add(ptr+"/"+escapePointer(name), "is not a field of a %s (the design format lists its fields: GET /v1/schemas/design.json)",
-						objectAt(leaf.InstanceLocation))
-					doc = prune(doc, append(slices.Clone(leaf.InstanceLocation), name))
-				}
-			case *kind.Type:
-				if slices.Equal(k.Want, []string{"null"}) {
-					continue // the other branch of an optional object says what is wrong
-				}
-				add(ptr, "must be %s", typeWords(k.Want))
-				doc = prune(doc, leaf.InstanceLocation)
-			}
-		}
-	}
-	// What is left decodes, unless a number is out of range for its Go
-	// type; each such value is set aside in turn, a bounded number of times.
-	var d Design
-	for range MaxProblems {
-		cleaned, err := json.Marshal(doc)
-		if err != nil {
-			break
-		}
-		err = json.Unmarshal(cleaned, &d, StrictJSON())
-		if err == nil {
-			break
-		}
-		fp := shapeProblem(err)
-		if said[fp.Pointer] {
-			break
-		}
-		add(fp.Pointer, "%s", fp.Detail)
-		loc := jsontext.Pointer(fp.Pointer)
-		if fp.Pointer == "" || !loc.IsValid() {
-			break
-		}
-		doc = prune(doc, slices.Collect(loc.Tokens()))
-		d = Design{}
-	}
-	if err := d.Validate(); err != nil {
-		var more *ValidationError
-		if errors.As(err, &more) {
-			for _, fp := range more.Problems {
-				if !coveredBy(fp.Pointer, said) {
-					add(fp.Pointer, "%s", fp.Detail)
-				}
-			}
-		}
-	}
-	if p.Len() == 0 {
-		fp := shapeProblem(first)
-		p.Add(fp.Pointer, "%s", fp.Detail)
-	}
-	return p.Err()
 }
 
 // repeatedNames are the pointers of every member whose name its object
@@ -342,14 +207,13 @@ func prune(doc any, loc []string) any {
 			v[loc[0]] = prune(child, loc[1:])
 		}
 	case []any:
-		for i := range v {
-			if strconv.Itoa(i) == loc[0] {
-				if len(loc) == 1 {
-					v[i] = map[string]any{}
-				} else {
-					v[i] = prune(v[i], loc[1:])
-				}
-			}
+		i, err := strconv.Atoi(loc[0])
+		switch {
+		case err != nil || i < 0 || i >= len(v):
+		case len(loc) == 1:
+			v[i] = map[string]any{}
+		default:
+			v[i] = prune(v[i], loc[1:])
 		}
 	}
 	return doc

@@ -15,10 +15,11 @@ const DesignFormat = 1
 // Bounds on a design document. Past them a value is a typing slip, not a
 // build: nobody runs half a kilometre of hookup wire to a gadget.
 const (
-	MaxDesignNodes = 5000
-	MaxWireLengthM = 100
-	MaxPackCells   = 1000
-	MaxAmbientC    = 100
+	MaxDesignNodes       = 5000
+	MaxWireLengthM       = 100
+	MaxPackCells         = 1000
+	MaxConnectorsPerFeed = 50
+	MaxAmbientC          = 100
 )
 
 // Node types of a design.
@@ -147,7 +148,7 @@ func (d Design) Validate() error {
 	if len(d.Nodes) == 0 {
 		p.Add("/nodes", "is empty: a design needs at least a source and something it feeds")
 	}
-	checkDeclared(&p, "", reflect.ValueOf(d), "", "")
+	checkDeclared(&p, "", reflect.ValueOf(&d).Elem(), "", "")
 	if p.Len() > 0 && (len(d.Nodes) == 0 || len(d.Nodes) > MaxDesignNodes) {
 		return p.Err()
 	}
@@ -260,11 +261,11 @@ func (d Design) checkCycles(p *Problems, parent []int) {
 // CheckValues records every problem with the values n carries: its type,
 // fields that do not apply to that type, values out of range, fields that
 // contradict each other, and its feed. Missing fields are CheckComplete's.
-func (n Node) CheckValues(p *Problems, ptr string) {
+func (n *Node) CheckValues(p *Problems, ptr string) {
 	if strings.TrimSpace(n.ID) == "" {
 		p.Add(ptr+"/id", "is required")
 	}
-	checkDeclared(p, ptr, reflect.ValueOf(n), n.Type, n.Topology)
+	checkDeclared(p, ptr, reflect.ValueOf(n).Elem(), n.Type, n.Topology)
 	if n.Series != nil && n.Parallel != nil && *n.Series >= 1 && *n.Parallel >= 1 &&
 		*n.Series**n.Parallel > MaxPackCells {
 		p.Add(ptr+"/parallel", "makes a pack of %d × %d = %d cells; at most %d are allowed",
@@ -353,13 +354,13 @@ func (n Node) CheckComplete(p *Problems, ptr string) {
 }
 
 // check records the problems of the feed of the node at ptr.
-func (f Feed) check(p *Problems, ptr string) {
+func (f *Feed) check(p *Problems, ptr string) {
 	ptr += "/feed"
-	checkDeclared(p, ptr, reflect.ValueOf(f), "", "")
+	checkDeclared(p, ptr, reflect.ValueOf(f).Elem(), "", "")
 	if w := f.Wire; w == nil {
 		p.Add(ptr+"/wire", "is required: say which wire carries the feed (gauge and length_m)")
 	} else {
-		checkDeclared(p, ptr+"/wire", reflect.ValueOf(*w), "", "")
+		checkDeclared(p, ptr+"/wire", reflect.ValueOf(w).Elem(), "", "")
 		if w.Gauge == "" {
 			p.Add(ptr+"/wire/gauge", "is required, e.g. \"18AWG\" or \"0.75mm2\"")
 		} else if err := electric.CheckGauge(w.Gauge); err != nil {
@@ -367,11 +368,12 @@ func (f Feed) check(p *Problems, ptr string) {
 		}
 	}
 	if f.Fuse != nil {
-		checkDeclared(p, ptr+"/fuse", reflect.ValueOf(*f.Fuse), "", "")
+		checkDeclared(p, ptr+"/fuse", reflect.ValueOf(f.Fuse).Elem(), "", "")
 	}
-	for k, c := range f.Connectors {
+	for k := range f.Connectors {
+		c := &f.Connectors[k]
 		cp := ptr + "/connectors/" + strconv.Itoa(k)
-		checkDeclared(p, cp, reflect.ValueOf(c), "", "")
+		checkDeclared(p, cp, reflect.ValueOf(c).Elem(), "", "")
 		if c.Family == "" && c.RatingA == nil {
 			p.Add(cp+"/rating_a", "is required when the connector names no family")
 		}

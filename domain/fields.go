@@ -38,6 +38,7 @@ type Field struct {
 	Unit     string
 	Min, Max *float64
 	For      []string // node types, "type" or "type/topology"; empty: all
+	forRules []forRule
 	Default  string
 	Enum     []string
 	MaxLen   int
@@ -108,6 +109,10 @@ func readFields(t reflect.Type, index []int) []Field {
 		f.Min, f.Max = tagNumber(t, sf, "min"), tagNumber(t, sf, "max")
 		if s := sf.Tag.Get("for"); s != "" {
 			f.For = strings.Fields(s)
+			for _, rule := range f.For {
+				typ, topo, _ := strings.Cut(rule, "/")
+				f.forRules = append(f.forRules, forRule{typ: typ, topologies: strings.FieldsFunc(topo, func(r rune) bool { return r == '|' })})
+			}
 		}
 		if s := sf.Tag.Get("enum"); s != "" {
 			f.Enum = strings.Fields(s)
@@ -141,21 +146,23 @@ func (f Field) AppliesTo(typ, topology string) bool {
 	if len(f.For) == 0 {
 		return true
 	}
-	for _, rule := range f.For {
-		t, topo, hasTopo := strings.Cut(rule, "/")
-		if t != typ {
+	for _, rule := range f.forRules {
+		if rule.typ != typ {
 			continue
 		}
-		if !hasTopo || topology == "" || !slices.Contains(Topologies(), topology) {
+		if len(rule.topologies) == 0 || topology == "" || slices.Contains(rule.topologies, topology) ||
+			!slices.Contains(Topologies(), topology) {
 			return true
-		}
-		for _, one := range strings.Split(topo, "|") {
-			if one == topology {
-				return true
-			}
 		}
 	}
 	return false
+}
+
+// forRule is one node type a field applies to, and the regulator
+// topologies it is limited to (none: all).
+type forRule struct {
+	typ        string
+	topologies []string
 }
 
 // RangeText says a numeric field's accepted range, for messages and the
@@ -213,12 +220,13 @@ func number(v reflect.Value) float64 {
 // that do not apply to it. Nested objects and arrays are their owners' to
 // check.
 func checkDeclared(p *Problems, ptr string, v reflect.Value, typ, topology string) {
+	knownType := typ != "" && slices.Contains(NodeTypes(), typ)
 	for _, f := range FieldsOf(v.Type()) {
 		fv := v.FieldByIndex(f.Index)
 		if !isSet(fv) {
 			continue
 		}
-		if typ != "" && !f.AppliesTo(typ, topology) && slices.Contains(NodeTypes(), typ) {
+		if knownType && !f.AppliesTo(typ, topology) {
 			p.Add(ptr+"/"+f.Name, "does not apply to %s", describeType(typ, topology))
 		}
 		switch f.Kind {

@@ -210,6 +210,7 @@ func TestNamedBoundsAreTheDeclaredOnes(t *testing.T) {
 		{"MaxAmbientC", MaxAmbientC, reflect.TypeFor[Design](), "ambient_c"},
 		{"MaxWireLengthM", MaxWireLengthM, reflect.TypeFor[Wire](), "length_m"},
 		{"MaxPackCells", MaxPackCells, reflect.TypeFor[Ratings](), "series"},
+		{"MaxConnectorsPerFeed", MaxConnectorsPerFeed, reflect.TypeFor[Feed](), "connectors"},
 		{"MaxVoltageV", MaxVoltageV, reflect.TypeFor[Ratings](), "output_v"},
 		{"MaxCurrentA", MaxCurrentA, reflect.TypeFor[Ratings](), "max_a"},
 	} {

@@ -40,6 +40,7 @@ type reportPage struct {
 	Runtime       []runtimeRow
 	Nodes         []review.NodeResult
 	Cautions      []string
+	Rules         map[string]review.Rule
 	// NoDocument says the tree lacks what only the document held.
 	NoDocument bool
 }
@@ -71,7 +72,7 @@ func reportView(in ReportInput) reportPage {
 	page := reportPage{
 		DesignName: in.DesignName, Status: string(rep.Status), Counts: rep.Counts,
 		LimitsVersion: rep.LimitsVersion, EngineVersion: rep.EngineVersion, ReviewedAt: in.ReviewedAt,
-		Nodes: rep.Nodes, Cautions: rep.Cautions,
+		Nodes: rep.Nodes, Cautions: rep.Cautions, Rules: rep.Rules,
 	}
 	if page.DesignName == "" {
 		page.DesignName = "Untitled design"

@@ -21,6 +21,7 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"wattshelf/domain"
+	"wattshelf/domain/review"
 	"wattshelf/domain/store"
 )
 
@@ -189,7 +190,8 @@ func (p *pages) report(c echo.Context) error {
 // the document it reviewed, whatever the design has become since.
 func (p *pages) reportInput(ctx context.Context, rec store.SharedReview) (ReportInput, error) {
 	in := ReportInput{DesignName: rec.DesignName, ReviewedAt: rec.CreatedAt}
-	if err := json.Unmarshal(rec.Report, &in.Report); err != nil {
+	var err error
+	if in.Report, err = review.ReadStored(rec.Report); err != nil {
 		return in, fmt.Errorf("decode stored report of review %d: %w", rec.ID, err)
 	}
 	if rec.Document == "" {
@@ -200,7 +202,6 @@ func (p *pages) reportInput(ctx context.Context, rec store.SharedReview) (Report
 		return in, fmt.Errorf("decode document of review %d: %w", rec.ID, err)
 	}
 	in.Design = &doc
-	var err error
 	if in.Components, err = p.deps.Source.ComponentsByID(ctx, doc.ComponentIDs()); err != nil {
 		return in, err
 	}

@@ -10,6 +10,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strconv"
 	"strings"
 	"time"
@@ -122,14 +123,11 @@ func shelfCSVTextColumns() []string {
 // electricalCSVColumns are every field of domain.Electrical by its JSON
 // name; a test keeps the list in step with the type.
 func electricalCSVColumns() []string {
-	return []string{
-		"min_v", "max_v", "nominal_v", "current_a", "peak_a",
-		"rated_v", "no_load_a", "no_load_rpm", "stall_a", "running_a",
-		"topology", "output_v", "max_output_a", "min_input_v", "max_input_v", "dropout_v", "quiescent_a",
-		"efficiency", "theta_ja_c_per_w", "tj_max_c", "continuous_a", "max_discharge_a",
-		"chemistry", "series", "parallel", "cell_capacity_mah",
-		"rating_a", "rating_v", "gauge",
+	var cols []string
+	for _, f := range domain.FieldsOf(reflect.TypeFor[domain.Electrical]()) {
+		cols = append(cols, f.Name)
 	}
+	return cols
 }
 
 // writeShelfCSV writes the public shelf: a header row, then one component

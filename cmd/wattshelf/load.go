@@ -816,7 +816,7 @@ func (r *loadReport) missedTargets() []string {
 	return missed
 }
 
-// reviewDesign builds a valid format-1 design (DESIGN section 5) of
+// reviewDesign builds a valid format-1 design of
 // exactly nodes nodes, at least 10: a 4-cell LiFePO4 pack feeding two
 // motor drivers with two gear motors each, a lamp, and a 5 V buck rail
 // with a 3.3 V linear rail below it; the remaining nodes are small loads

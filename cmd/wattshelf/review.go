@@ -114,7 +114,7 @@ func reviewCommand(ctx context.Context, args []string, getenv func(string) strin
 	return &exitError{code: worst}
 }
 
-// reviewReport is the part of a report (DESIGN section 8) the summary
+// reviewReport is the part of a report (format 2) the summary
 // prints. It is decoded from the service's JSON, the contract between the
 // two, rather than from the engine's Go types.
 type reviewReport struct {
@@ -126,13 +126,14 @@ type reviewReport struct {
 		Fail int `json:"fail"`
 	} `json:"counts"`
 	Checks []struct {
-		Check   string  `json:"check"`
-		Node    string  `json:"node"`
-		Status  string  `json:"status"`
-		Value   float64 `json:"value"`
-		Limit   float64 `json:"limit"`
-		Unit    string  `json:"unit"`
-		Message string  `json:"message"`
+		Check   string   `json:"check"`
+		Node    string   `json:"node"`
+		Status  string   `json:"status"`
+		Value   *float64 `json:"value"`
+		Limit   *float64 `json:"limit"`
+		WarnAt  *float64 `json:"warn_at"`
+		Unit    string   `json:"unit"`
+		Message string   `json:"message"`
 	} `json:"checks"`
 }
 
@@ -280,8 +281,18 @@ func printReviewSummary(w io.Writer, file string, rep reviewReport) {
 				subject = "design"
 			}
 			measure := ""
-			if c.Unit != "" || c.Value != 0 || c.Limit != 0 {
-				measure = fmt.Sprintf(" %s (limit %s)", quantity(c.Value, c.Unit), quantity(c.Limit, c.Unit))
+			if c.Value != nil {
+				measure = " " + quantity(*c.Value, c.Unit)
+			}
+			var limits []string
+			if c.Limit != nil {
+				limits = append(limits, "limit "+quantity(*c.Limit, c.Unit))
+			}
+			if c.WarnAt != nil {
+				limits = append(limits, "warn at "+quantity(*c.WarnAt, c.Unit))
+			}
+			if len(limits) > 0 {
+				measure += " (" + strings.Join(limits, ", ") + ")"
 			}
 			fmt.Fprintf(w, "  %s %s at %s:%s %s\n", c.Status, c.Check, subject, measure, c.Message)
 		}

@@ -121,7 +121,7 @@ func TestReviewCommandExitCodes(t *testing.T) {
 	}{
 		{"pass", []string{file("pass.json"), "--server", url}, noEnv, 0, []string{"pass.json: PASS"}, nil},
 		{"warn under the default fail-on", []string{file("warn.json"), "--server", url}, noEnv, 0,
-			[]string{"warn.json: WARN", "warn source.runtime at pack: 2 h (limit 10 h)"}, nil},
+			[]string{"warn.json: WARN", "warn source.runtime at pack: 2 h (warn at 10 h)"}, nil},
 		{"warn with --fail-on warn", []string{"--fail-on", "warn", file("warn.json"), "--server", url}, noEnv, 1, []string{"WARN"}, nil},
 		{"fail", []string{"--server", url, file("fail.json")}, noEnv, 1,
 			[]string{"fail.json: FAIL", "fail voltage.range at sensor: 14 V (limit 5.5 V)"}, nil},

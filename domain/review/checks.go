@@ -323,19 +323,22 @@ func ptrTo(x float64) *float64 { return &x }
 
 // thresholds are the hard limit and the warning threshold that go with
 // the condition c shown: c's own, and the condition of the other level on
-// the same quantity (the same value and unit) or, failing that, in the
-// same unit, where there is one.
+// the same quantity (the same value and unit) or, failing that, with the
+// same threshold, where there is one.
 func thresholds(c cond, conds []cond) (hard, warn *cond) {
 	if c.level == Fail {
 		hard = &c
 	} else {
 		warn = &c
 	}
-	// Another condition on the same quantity first, else on the same unit.
+	// Another condition on the same quantity first, else one with the same
+	// threshold (a rating that the running current must not pass and the
+	// surge should not).
 	for _, sameValue := range []bool{true, false} {
 		for i := range conds {
 			o := &conds[i]
-			if o.unit != c.unit || (sameValue && (o.value != c.value || o.noValue != c.noValue)) {
+			if o.unit != c.unit || o.noValue != c.noValue || (sameValue && o.value != c.value) ||
+				(!sameValue && o.limit != c.limit) {
 				continue
 			}
 			if o.level == Fail && hard == nil {

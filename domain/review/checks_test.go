@@ -21,7 +21,7 @@ import (
 //     down = 12.1 A; 25 mm² is rated like 4 AWG, 160 A;
 //   - NiMH defaults (electric.DefaultChemistries, from memory and IEC
 //     61951-2): cells 1.0 V cutoff, 1.2 V nominal, 1.4 V full, 0.03 Ω.
-//   - seeded limits (DESIGN section 9): utilisation 80 % and thermal margin
+//   - seeded limits: utilisation 80 % and thermal margin
 //     25 °C (common practice), drop 3 % / 10 % (marine DC wiring practice),
 //     fuse ≤ 1.5 × ampacity and within 178 mm / 1,016 mm sheathed
 //     (33 CFR 183.455), fuse ≥ 1.25 × continuous current (common practice).
@@ -285,7 +285,7 @@ func TestDriverEdges(t *testing.T) {
 
 func TestSourceCurrentEdges(t *testing.T) {
 	// A load of 1 A running, 2 A peak on a supply: fail when the running
-	// current exceeds max_a, warn when the surge does (DESIGN section 7).
+	// current exceeds max_a, warn when the surge does.
 	sup := func(maxA float64) string {
 		return doc("", supplyOf(12, maxA), `{"id": "heater", "type": "load", "current_a": 1, "peak_a": 2, `+feedJS("bench", "1mm2", 0.29, "")+`}`)
 	}

@@ -20,7 +20,7 @@ type Sourced struct {
 	Source string  `json:"source"`
 }
 
-// Limits is a whole stored limits set (DESIGN section 9). Staff replace it
+// Limits is a whole stored limits set. Staff replace it
 // as a unit; every review names the version it used. Every value carries
 // its source: scalars as Sourced, table rows in their own source field.
 type Limits struct {

@@ -1,5 +1,11 @@
 package review
 
+import (
+	"fmt"
+
+	"github.com/go-json-experiment/json"
+)
+
 // EngineVersion changes whenever the same design and limits could give a
 // different report, so stored reviews can be told apart.
 const EngineVersion = "2"
@@ -34,7 +40,7 @@ func (s Status) rank() int {
 	return 0
 }
 
-// Check names (DESIGN section 7).
+// Check names.
 const (
 	CheckVoltageRange      = "voltage.range"
 	CheckRegulatorHeadroom = "regulator.headroom"
@@ -53,7 +59,7 @@ const (
 	CheckScopeMains        = "scope.mains"
 )
 
-// Report is the outcome of a review (DESIGN section 8).
+// Report is the outcome of a review.
 type Report struct {
 	Format        int             `json:"format"`
 	Status        Status          `json:"status"`
@@ -215,4 +221,49 @@ func Cautions() []string {
 		"This review checks the numbers in the design against the stored limits. It is no substitute for " +
 			"inspection by a qualified person, for local codes, or for the space's own rules.",
 	}
+}
+
+// ReadStored reads a stored report of either format. A format 1 report
+// (before rules were written once) is read into today's shape: each
+// check's basis becomes its rule, and its one threshold its limit.
+func ReadStored(data []byte) (Report, error) {
+	var head struct {
+		Format int `json:"format"`
+	}
+	if err := json.Unmarshal(data, &head); err != nil {
+		return Report{}, fmt.Errorf("read stored report: %w", err)
+	}
+	var rep Report
+	if head.Format >= ReportFormat {
+		err := json.Unmarshal(data, &rep)
+		return rep, err
+	}
+	var old struct {
+		Report
+		Checks []struct {
+			Check   string  `json:"check"`
+			Node    string  `json:"node"`
+			Pointer string  `json:"pointer"`
+			Status  Status  `json:"status"`
+			Value   float64 `json:"value"`
+			Limit   float64 `json:"limit"`
+			Unit    string  `json:"unit"`
+			Message string  `json:"message"`
+			Basis   string  `json:"basis"`
+		} `json:"checks"`
+	}
+	if err := json.Unmarshal(data, &old); err != nil {
+		return Report{}, fmt.Errorf("read stored format 1 report: %w", err)
+	}
+	rep = old.Report
+	rep.Format = 1
+	rep.Rules = map[string]Rule{}
+	for _, c := range old.Checks {
+		rep.Checks = append(rep.Checks, Check{Check: c.Check, Node: c.Node, Pointer: c.Pointer, Status: c.Status,
+			Value: &c.Value, Limit: &c.Limit, Unit: c.Unit, Message: c.Message})
+		if _, ok := rep.Rules[c.Check]; !ok && c.Basis != "" {
+			rep.Rules[c.Check] = Rule{Basis: c.Basis}
+		}
+	}
+	return rep, nil
 }

@@ -63,7 +63,7 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 
 // Review checks a design against the rules. It validates the document,
 // fills nodes that name a component_id from components (the node's own
-// fields win), solves the operating point (DESIGN section 6) and runs every
+// fields win), solves the operating point and runs every
 // check of section 7. A document that breaks the contract, names a
 // component that is not in components, or leaves out a field neither it nor
 // its component gives comes back as a *domain.ValidationError with JSON

@@ -69,7 +69,7 @@ func newTree(nodes []node) *tree {
 
 func (t *tree) children(i int) []int32 { return t.child[t.childStart[i]:t.childStart[i+1]] }
 
-// solve finds the operating point (DESIGN section 6): currents flow up from
+// solve finds the operating point: currents flow up from
 // the leaves, voltages flow down from the roots. Without switching
 // regulators one pass each way is exact; with them the two passes repeat
 // until no switching input current moves, at most maxSolveSteps times.
