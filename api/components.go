@@ -242,13 +242,26 @@ func (s *server) listComponents(c echo.Context) error {
 	return c.JSON(http.StatusOK, page)
 }
 
-// pathID reads a positive integer id from the route.
+// pathID reads a positive id from the route; ids are bigint columns.
 func pathID(c echo.Context, name string) (int64, error) {
-	id, err := strconv.ParseInt(c.Param(name), 10, 64)
-	if err != nil || id < 1 {
-		return 0, newProblem("not-found", "%s %q is not an id this service issues", name, c.Param(name))
+	return pathNumber(c, name, 64)
+}
+
+// pathNumber reads a positive whole number from the route that must fit a
+// column of bits bits (32 for integer, 64 for bigint). A number past the
+// column's range is the client's mistake (400), not a record that is
+// missing; the database would refuse it as a parameter, a 500.
+func pathNumber(c echo.Context, name string, bits int) (int64, error) {
+	raw := c.Param(name)
+	n, err := strconv.ParseInt(raw, 10, bits)
+	if errors.Is(err, strconv.ErrRange) {
+		return 0, &problemError{kind: "bad-path", detail: "a path parameter is out of range",
+			fields: []domain.FieldProblem{{Pointer: "/" + name, Detail: fmt.Sprintf("must be a whole number from 1 to %d", int64(1)<<(bits-1)-1)}}}
 	}
-	return id, nil
+	if err != nil || n < 1 {
+		return 0, newProblem("not-found", "%s %q is not an id this service issues", name, raw)
+	}
+	return n, nil
 }
 
 func etagOf(version int64) string { return `"` + strconv.FormatInt(version, 10) + `"` }

@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"net/http"
-	"strconv"
 	"sync"
 	"time"
 
@@ -16,6 +15,10 @@ import (
 	"wattshelf/domain/review"
 	"wattshelf/domain/store"
 )
+
+// limitsVersionBits is the size of limits.version, an integer column
+// (migration 0001).
+const limitsVersionBits = 32
 
 func (s *server) registerLimitsRoutes(v1 *echo.Group) {
 	v1.GET("/limits", s.getCurrentLimits, requireUser)
@@ -39,11 +42,11 @@ func (s *server) getCurrentLimits(c echo.Context) error {
 }
 
 func (s *server) getLimitsVersion(c echo.Context) error {
-	v, err := strconv.Atoi(c.Param("version"))
-	if err != nil || v < 1 {
-		return newProblem("not-found", "limits version %q is not a version number", c.Param("version"))
+	v, err := pathNumber(c, "version", limitsVersionBits)
+	if err != nil {
+		return err
 	}
-	l, err := s.store.Limits(c.Request().Context(), v)
+	l, err := s.store.Limits(c.Request().Context(), int(v))
 	if err != nil {
 		return err
 	}

@@ -39,6 +39,7 @@ func problemKinds() map[string]problemKind {
 	return map[string]problemKind{
 		"malformed":           {http.StatusBadRequest, "The request body is not well-formed JSON"},
 		"bad-query":           {http.StatusBadRequest, "A query parameter is not understood"},
+		"bad-path":            {http.StatusBadRequest, "A number in the path is out of range"},
 		"unauthorized":        {http.StatusUnauthorized, "A valid bearer token is required"},
 		"forbidden":           {http.StatusForbidden, "This token may not do that"},
 		"not-found":           {http.StatusNotFound, "Nothing is here"},

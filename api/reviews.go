@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"net/http"
 	"strconv"
 	"sync"
@@ -41,11 +42,11 @@ func limitsVersionParam(c echo.Context) (int, error) {
 	if v == "" {
 		return 0, nil
 	}
-	n, err := strconv.Atoi(v)
+	n, err := strconv.ParseInt(v, 10, limitsVersionBits)
 	if err != nil || n < 1 {
-		return 0, queryProblem("/limits_version", "must be a limits version number, 1 or more")
+		return 0, queryProblem("/limits_version", "must be a limits version number from 1 to %d", math.MaxInt32)
 	}
-	return n, nil
+	return int(n), nil
 }
 
 // review decodes and reviews a document against limits version v (0:
