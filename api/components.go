@@ -3,7 +3,6 @@ package api
 import (
 	"context"
 	"crypto/sha256"
-	"encoding/base64"
 	"encoding/hex"
 	"encoding/json"
 	"errors"
@@ -56,7 +55,7 @@ type ShelfView struct {
 // is seen at once; the revision is also in the ETag, and a kiosk polling
 // with If-None-Match gets a 304 without a body.
 func (s *server) getShelf(c echo.Context) error {
-	key, after, err := shelfQuery(c)
+	key, after, err := shelfQuery(c, s.cursors)
 	if err != nil {
 		return err
 	}
@@ -91,7 +90,7 @@ func (s *server) getShelf(c echo.Context) error {
 
 // shelfQuery reads ?limit= and ?cursor= (the next of an earlier page).
 // Neither means the whole shelf: limit 0 in the key.
-func shelfQuery(c echo.Context) (shelfKey, *store.ShelfCursor, error) {
+func shelfQuery(c echo.Context, cursors cursorCodec) (shelfKey, *store.ShelfCursor, error) {
 	limitParam, cursorParam := c.QueryParam("limit"), c.QueryParam("cursor")
 	if limitParam == "" && cursorParam == "" {
 		return shelfKey{}, nil, nil
@@ -107,7 +106,7 @@ func shelfQuery(c echo.Context) (shelfKey, *store.ShelfCursor, error) {
 	if cursorParam == "" {
 		return key, nil, nil
 	}
-	cur, err := decodeShelfCursor(cursorParam)
+	cur, err := cursors.decodeShelf(cursorParam)
 	if err != nil {
 		return key, nil, queryProblem("/cursor", "is not a cursor this service issued")
 	}
@@ -133,30 +132,9 @@ func (s *server) shelfView(ctx context.Context, key shelfKey, after *store.Shelf
 	}
 	if more {
 		last := items[len(items)-1]
-		view.Next = encodeShelfCursor(store.ShelfCursor{Bin: last.Bin, Name: last.Name, ID: last.ID})
+		view.Next = s.cursors.encodeShelf(store.ShelfCursor{Bin: last.Bin, Name: last.Name, ID: last.ID})
 	}
 	return view, nil
-}
-
-// Shelf cursors carry the last item's place in shelf order, opaquely.
-func encodeShelfCursor(cur store.ShelfCursor) string {
-	raw, _ := json.Marshal(cur) // two strings and a number always encode
-	return base64.RawURLEncoding.EncodeToString(raw)
-}
-
-func decodeShelfCursor(s string) (store.ShelfCursor, error) {
-	var cur store.ShelfCursor
-	raw, err := base64.RawURLEncoding.DecodeString(s)
-	if err != nil {
-		return cur, err
-	}
-	if err := decodeStrict(raw, &cur); err != nil {
-		return cur, err
-	}
-	if cur.ID < 1 {
-		return cur, fmt.Errorf("shelf cursor id %d", cur.ID)
-	}
-	return cur, nil
 }
 
 func queryProblem(pointer, format string, args ...any) error {
@@ -165,7 +143,7 @@ func queryProblem(pointer, format string, args ...any) error {
 }
 
 // parseComponentFilter reads the listing's query parameters.
-func parseComponentFilter(q func(string) string) (store.ComponentFilter, error) {
+func parseComponentFilter(q func(string) string, cursors cursorCodec) (store.ComponentFilter, error) {
 	f := store.ComponentFilter{
 		Kind: q("kind"), Bin: q("bin"), Query: q("q"), Limit: defaultPageSize,
 	}
@@ -193,7 +171,7 @@ func parseComponentFilter(q func(string) string) (store.ComponentFilter, error) 
 		f.FitsV = &x
 	}
 	if v := q("cursor"); v != "" {
-		id, err := decodeCursor(v)
+		id, err := cursors.decodeID(v)
 		if err != nil {
 			return f, queryProblem("/cursor", "is not a cursor this service issued")
 		}
@@ -202,29 +180,8 @@ func parseComponentFilter(q func(string) string) (store.ComponentFilter, error) 
 	return f, nil
 }
 
-// Cursors are opaque to clients so the paging scheme can change.
-func encodeCursor(afterID int64) string {
-	return base64.RawURLEncoding.EncodeToString([]byte("after:" + strconv.FormatInt(afterID, 10)))
-}
-
-func decodeCursor(s string) (int64, error) {
-	raw, err := base64.RawURLEncoding.DecodeString(s)
-	if err != nil {
-		return 0, err
-	}
-	num, ok := strings.CutPrefix(string(raw), "after:")
-	if !ok {
-		return 0, fmt.Errorf("cursor without prefix")
-	}
-	id, err := strconv.ParseInt(num, 10, 64)
-	if err != nil || id < 0 {
-		return 0, fmt.Errorf("cursor id %q", num)
-	}
-	return id, nil
-}
-
 func (s *server) listComponents(c echo.Context) error {
-	f, err := parseComponentFilter(c.QueryParam)
+	f, err := parseComponentFilter(c.QueryParam, s.cursors)
 	if err != nil {
 		return err
 	}
@@ -237,7 +194,7 @@ func (s *server) listComponents(c echo.Context) error {
 		page.Items = []domain.Component{}
 	}
 	if more {
-		page.Next = encodeCursor(items[len(items)-1].ID)
+		page.Next = s.cursors.encodeID(items[len(items)-1].ID)
 	}
 	return c.JSON(http.StatusOK, page)
 }

@@ -82,7 +82,7 @@ func (s *server) listDesigns(c echo.Context) error {
 		f.Limit = n
 	}
 	if v := c.QueryParam("cursor"); v != "" {
-		id, err := decodeCursor(v)
+		id, err := s.cursors.decodeID(v)
 		if err != nil {
 			return queryProblem("/cursor", "is not a cursor this service issued")
 		}
@@ -97,7 +97,7 @@ func (s *server) listDesigns(c echo.Context) error {
 		page.Items = []store.DesignSummary{}
 	}
 	if more {
-		page.Next = encodeCursor(items[len(items)-1].ID)
+		page.Next = s.cursors.encodeID(items[len(items)-1].ID)
 	}
 	return c.JSON(http.StatusOK, page)
 }

@@ -251,7 +251,7 @@ func (s *server) listDesignReviews(c echo.Context) error {
 	}
 	var before int64
 	if v := c.QueryParam("cursor"); v != "" {
-		if before, err = decodeCursor(v); err != nil {
+		if before, err = s.cursors.decodeID(v); err != nil {
 			return queryProblem("/cursor", "is not a cursor this service issued")
 		}
 	}
@@ -264,7 +264,7 @@ func (s *server) listDesignReviews(c echo.Context) error {
 		page.Items = append(page.Items, s.reviewView(r))
 	}
 	if more {
-		page.Next = encodeCursor(list[len(list)-1].ID)
+		page.Next = s.cursors.encodeID(list[len(list)-1].ID)
 	}
 	return c.JSON(http.StatusOK, page)
 }

@@ -67,6 +67,7 @@ type server struct {
 	writes        writes
 	buffers       bufferPool
 	reviewLimiter *clientLimiter
+	cursors       cursorCodec
 }
 
 // New builds the router with every route and middleware.
@@ -79,6 +80,11 @@ func New(cfg Config) (*echo.Echo, error) {
 		return nil, err
 	}
 	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache(), designs: newDesignCache()}
+	keyCtx, cancel := context.WithTimeout(context.Background(), DatabaseWaitLimit)
+	defer cancel()
+	if s.cursors.key, err = cfg.Store.CursorKey(keyCtx); err != nil {
+		return nil, err
+	}
 
 	metrics, err := newHTTPMetrics(cfg.Registry)
 	if err != nil {
