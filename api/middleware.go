@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"log/slog"
+	"net/http"
 	"runtime/debug"
 	"strconv"
 	"strings"
@@ -28,7 +29,7 @@ func accessLog(logger *slog.Logger) echo.MiddlewareFunc {
 			req, res := c.Request(), c.Response()
 			logger.LogAttrs(req.Context(), slog.LevelInfo, "request",
 				slog.String("request_id", res.Header().Get(echo.HeaderXRequestID)),
-				slog.String("method", req.Method),
+				slog.String("method", methodLabel(req.Method)),
 				slog.String("route", c.Path()),
 				slog.String("path", req.URL.Path),
 				slog.Int("status", res.Status),
@@ -93,11 +94,23 @@ func (m *httpMetrics) middleware(next echo.HandlerFunc) echo.HandlerFunc {
 		if route == "" {
 			route = "unmatched" // keeps label cardinality bounded
 		}
-		status := strconv.Itoa(c.Response().Status)
-		m.requests.WithLabelValues(route, c.Request().Method, status).Inc()
-		m.latency.WithLabelValues(route, c.Request().Method, status).Observe(time.Since(start).Seconds())
+		status, method := strconv.Itoa(c.Response().Status), methodLabel(c.Request().Method)
+		m.requests.WithLabelValues(route, method, status).Inc()
+		m.latency.WithLabelValues(route, method, status).Observe(time.Since(start).Seconds())
 		return err
 	}
+}
+
+// methodLabel is the request method as a metric label or log field: a
+// method a client makes up becomes "other", so no client can add series
+// (or kilobytes of log) by inventing methods.
+func methodLabel(method string) string {
+	switch method {
+	case http.MethodGet, http.MethodHead, http.MethodPost, http.MethodPut, http.MethodPatch,
+		http.MethodDelete, http.MethodOptions:
+		return method
+	}
+	return "other"
 }
 
 // authenticator resolves a bearer token to its user.
