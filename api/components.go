@@ -26,7 +26,7 @@ const (
 
 func (s *server) registerShelfRoutes(v1 *echo.Group) {
 	v1.GET("/shelf", s.getShelf)
-	comps := v1.Group("/components", requireUser)
+	comps := v1.Group("/components", s.requireUser)
 	comps.GET("", s.listComponents)
 	comps.POST("", s.createComponent)
 	comps.GET("/:id", s.getComponent)

@@ -20,7 +20,7 @@ func (s *server) registerDesignRoutes(e *echo.Echo, v1 *echo.Group) {
 	s.limits = newLimitsCache(s.store, time.Now)
 	s.reviewLimiter = newClientLimiter(s.cfg.ReviewsPerMinute, s.cfg.ReviewBurst)
 
-	designs := v1.Group("/designs", requireUser)
+	designs := v1.Group("/designs", s.requireUser)
 	designs.GET("", s.listDesigns)
 	designs.POST("", s.createDesign)
 	designs.GET("/:id", s.getDesign)
@@ -31,7 +31,7 @@ func (s *server) registerDesignRoutes(e *echo.Echo, v1 *echo.Group) {
 	designs.GET("/:id/reviews", s.listDesignReviews)
 
 	v1.POST("/reviews", s.reviewDocument)
-	v1.GET("/components/:id/motor-fit", s.motorFit, requireUser)
+	v1.GET("/components/:id/motor-fit", s.motorFit, s.requireUser)
 	s.registerLimitsRoutes(v1)
 	e.GET("/openapi.yaml", serveOpenAPI)
 }

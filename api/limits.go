@@ -21,9 +21,9 @@ import (
 const limitsVersionBits = 32
 
 func (s *server) registerLimitsRoutes(v1 *echo.Group) {
-	v1.GET("/limits", s.getCurrentLimits, requireUser)
-	v1.GET("/limits/:version", s.getLimitsVersion, requireUser)
-	v1.PUT("/limits", s.putLimits, requireStaff)
+	v1.GET("/limits", s.getCurrentLimits, s.requireUser)
+	v1.GET("/limits/:version", s.getLimitsVersion, s.requireUser)
+	v1.PUT("/limits", s.putLimits, s.requireStaff)
 }
 
 // LimitsInput is what staff send to replace the limits: the whole set and

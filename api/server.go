@@ -68,6 +68,7 @@ type server struct {
 	buffers       bufferPool
 	reviewLimiter *clientLimiter
 	cursors       cursorCodec
+	tokens        authenticator
 }
 
 // New builds the router with every route and middleware.
@@ -106,21 +107,21 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.HideBanner, e.HidePort = true, true
 	e.HTTPErrorHandler = errorHandler(cfg.Logger, store.IsUnavailable)
 	e.Use(middleware.RequestID())
+	e.Use(securityHeaders)
 	e.Use(metrics.middleware)
 	e.Use(accessLog(cfg.Logger))
 	e.Use(recoverPanics(cfg.Logger))
 	e.Use(requestDeadline(DatabaseWaitLimit))
 	e.Use(refuseUnstorableText)
 	e.Use(middleware.BodyLimit(fmt.Sprint(MaxBodyBytes)))
-	tokens := cfg.Tokens
-	if tokens == nil {
-		tokens = cfg.Store
+	s.tokens = cfg.Tokens
+	if s.tokens == nil {
+		s.tokens = cfg.Store
 	}
 	s.writes = cfg.Writes
 	if s.writes == nil {
 		s.writes = cfg.Store
 	}
-	e.Use(identify(tokens))
 
 	e.GET("/healthz", s.healthz)
 	e.GET("/readyz", s.readyz)
