@@ -230,30 +230,12 @@ func jsonWithETag(c echo.Context, status int, version int64, v any) error {
 	return c.JSON(status, v)
 }
 
-// ifMatchVersion reads the version a client last saw from If-Match, which
-// writes require; "*" matches any version.
-func ifMatchVersion(c echo.Context) (int64, error) {
-	h := strings.TrimSpace(c.Request().Header.Get("If-Match"))
-	if h == "" {
-		return 0, newProblem("precondition-required", "send If-Match with the ETag from your last GET")
+// componentVersion reads the version component id is at now.
+func (s *server) componentVersion(c echo.Context, id int64) currentVersion {
+	return func() (int64, error) {
+		comp, err := s.store.Component(c.Request().Context(), id)
+		return comp.Version, err
 	}
-	if h == "*" {
-		return 0, nil
-	}
-	v, err := strconv.ParseInt(strings.Trim(strings.TrimPrefix(h, "W/"), `"`), 10, 64)
-	if err != nil || v < 1 {
-		return 0, &problemError{kind: "precondition-failed", detail: "If-Match does not hold an ETag this service issued"}
-	}
-	return v, nil
-}
-
-// optionalIfMatchVersion is ifMatchVersion for deletes, which honour
-// If-Match when sent but do not require it.
-func optionalIfMatchVersion(c echo.Context) (int64, error) {
-	if c.Request().Header.Get("If-Match") == "" {
-		return 0, nil
-	}
-	return ifMatchVersion(c)
 }
 
 func (s *server) createComponent(c echo.Context) error {
@@ -290,7 +272,7 @@ func (s *server) replaceComponent(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	version, err := ifMatchVersion(c)
+	version, err := ifMatchVersion(c, s.componentVersion(c, id))
 	if err != nil {
 		return err
 	}
@@ -316,7 +298,7 @@ func (s *server) patchComponent(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	version, err := ifMatchVersion(c)
+	version, err := ifMatchVersion(c, s.componentVersion(c, id))
 	if err != nil {
 		return err
 	}
@@ -413,7 +395,7 @@ func (s *server) deleteComponent(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	version, err := optionalIfMatchVersion(c)
+	version, err := optionalIfMatchVersion(c, s.componentVersion(c, id))
 	if err != nil {
 		return err
 	}

@@ -147,12 +147,21 @@ func (s *server) getDesign(c echo.Context) error {
 	return jsonWithETag(c, http.StatusOK, d.Version, d)
 }
 
+// designVersion reads the version design id is at now, if the caller may
+// use it.
+func (s *server) designVersion(c echo.Context, id int64) currentVersion {
+	return func() (int64, error) {
+		d, err := s.usableDesign(c, id)
+		return d.Version, err
+	}
+}
+
 func (s *server) replaceDesign(c echo.Context) error {
 	id, err := pathID(c, "id")
 	if err != nil {
 		return err
 	}
-	version, err := ifMatchVersion(c)
+	version, err := ifMatchVersion(c, s.designVersion(c, id))
 	if err != nil {
 		return err
 	}
@@ -166,7 +175,11 @@ func (s *server) replaceDesign(c echo.Context) error {
 // patchDesign applies a JSON merge patch (RFC 7386) to the stored
 // document. Arrays such as nodes are replaced whole, as the RFC says.
 func (s *server) patchDesign(c echo.Context) error {
-	version, err := ifMatchVersion(c)
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	version, err := ifMatchVersion(c, s.designVersion(c, id))
 	if err != nil {
 		return err
 	}
@@ -217,7 +230,7 @@ func (s *server) deleteDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	version, err := optionalIfMatchVersion(c)
+	version, err := optionalIfMatchVersion(c, s.designVersion(c, id))
 	if err != nil {
 		return err
 	}

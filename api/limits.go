@@ -57,7 +57,10 @@ func (s *server) getLimitsVersion(c echo.Context) error {
 // the change was made from, so one staff member cannot unknowingly undo
 // another's change.
 func (s *server) putLimits(c echo.Context) error {
-	expect, err := ifMatchVersion(c)
+	expect, err := ifMatchVersion(c, func() (int64, error) {
+		v, err := s.store.CurrentLimitsVersion(c.Request().Context())
+		return int64(v), err
+	})
 	if err != nil {
 		return err
 	}
