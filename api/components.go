@@ -26,15 +26,18 @@ const (
 
 func (s *server) registerShelfRoutes(v1 *echo.Group) {
 	v1.GET("/shelf", s.getShelf)
-	comps := v1.Group("/components", s.requireUser)
-	comps.GET("", s.listComponents)
-	comps.POST("", s.createComponent)
-	comps.GET("/:id", s.getComponent)
-	comps.PUT("/:id", s.replaceComponent)
-	comps.PATCH("/:id", s.patchComponent)
-	comps.DELETE("/:id", s.deleteComponent)
-	comps.POST("/:id/measurements", s.addMeasurement)
-	comps.GET("/:id/measurements", s.listMeasurements)
+	// The token check goes on each route, not on the group: echo answers
+	// every unrouted method and path under a group with middleware 404,
+	// where a known path with another method must be 405.
+	comps := v1.Group("/components")
+	comps.GET("", s.listComponents, s.requireUser)
+	comps.POST("", s.createComponent, s.requireUser)
+	comps.GET("/:id", s.getComponent, s.requireUser)
+	comps.PUT("/:id", s.replaceComponent, s.requireUser)
+	comps.PATCH("/:id", s.patchComponent, s.requireUser)
+	comps.DELETE("/:id", s.deleteComponent, s.requireUser)
+	comps.POST("/:id/measurements", s.addMeasurement, s.requireUser)
+	comps.GET("/:id/measurements", s.listMeasurements, s.requireUser)
 }
 
 // ComponentPage is one page of a component listing.

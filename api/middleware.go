@@ -29,7 +29,7 @@ func accessLog(logger *slog.Logger) echo.MiddlewareFunc {
 			req, res := c.Request(), c.Response()
 			logger.LogAttrs(req.Context(), slog.LevelInfo, "request",
 				slog.String("request_id", res.Header().Get(echo.HeaderXRequestID)),
-				slog.String("method", methodLabel(req.Method)),
+				slog.String("method", methodLabel(requestMethod(c))),
 				slog.String("route", c.Path()),
 				slog.String("path", req.URL.Path),
 				slog.Int("status", res.Status),
@@ -55,6 +55,55 @@ func securityHeaders(next echo.HandlerFunc) echo.HandlerFunc {
 		h.Set("Referrer-Policy", "no-referrer")
 		return next(c)
 	}
+}
+
+const headKey = "wattshelf.head"
+
+// routeHeadAsGet and answerHeadAsGet answer HEAD wherever GET is
+// routed. RFC 9110 section 9.3.2: HEAD is GET without the content. echo
+// routes by the method of the server's own request, so routeHeadAsGet
+// (run before routing) makes it GET; answerHeadAsGet (the first middleware
+// after routing) makes it HEAD again, so that net/http frames the answer
+// as one, and hands the handler a GET copy whose body is dropped. Log
+// lines and metrics still say HEAD (requestMethod).
+func routeHeadAsGet(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		if req := c.Request(); req.Method == http.MethodHead {
+			req.Method = http.MethodGet
+			c.Set(headKey, true)
+		}
+		return next(c)
+	}
+}
+
+func answerHeadAsGet(next echo.HandlerFunc) echo.HandlerFunc {
+	return func(c echo.Context) error {
+		if head, _ := c.Get(headKey).(bool); head {
+			req := c.Request()
+			req.Method = http.MethodHead
+			get := req.WithContext(req.Context()) // a shallow copy
+			get.Method = http.MethodGet
+			c.SetRequest(get)
+			c.Response().Writer = withoutBody{c.Response().Writer}
+		}
+		return next(c)
+	}
+}
+
+// withoutBody drops what is written as a response body, for HEAD.
+type withoutBody struct{ http.ResponseWriter }
+
+func (w withoutBody) Write(p []byte) (int, error) { return len(p), nil }
+
+// Unwrap lets http.ResponseController reach the server's writer.
+func (w withoutBody) Unwrap() http.ResponseWriter { return w.ResponseWriter }
+
+// requestMethod is the method the client sent.
+func requestMethod(c echo.Context) string {
+	if head, _ := c.Get(headKey).(bool); head {
+		return http.MethodHead
+	}
+	return c.Request().Method
 }
 
 // recoverPanics turns a panic into a logged stack and an "internal"
@@ -109,7 +158,7 @@ func (m *httpMetrics) middleware(next echo.HandlerFunc) echo.HandlerFunc {
 		if route == "" {
 			route = "unmatched" // keeps label cardinality bounded
 		}
-		status, method := strconv.Itoa(c.Response().Status), methodLabel(c.Request().Method)
+		status, method := strconv.Itoa(c.Response().Status), methodLabel(requestMethod(c))
 		m.requests.WithLabelValues(route, method, status).Inc()
 		m.latency.WithLabelValues(route, method, status).Observe(time.Since(start).Seconds())
 		return err

@@ -106,6 +106,8 @@ func New(cfg Config) (*echo.Echo, error) {
 	e := echo.New()
 	e.HideBanner, e.HidePort = true, true
 	e.HTTPErrorHandler = errorHandler(cfg.Logger, store.IsUnavailable)
+	e.Pre(routeHeadAsGet)
+	e.Use(answerHeadAsGet)
 	e.Use(middleware.RequestID())
 	e.Use(securityHeaders)
 	e.Use(metrics.middleware)
