@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"log/slog"
 	"net/http"
+	"net/netip"
 	"runtime/debug"
 	"strconv"
 	"strings"
@@ -17,8 +18,9 @@ import (
 )
 
 // accessLog writes one JSON line per request. It never logs headers, so
-// bearer tokens stay out of the logs.
-func accessLog(logger *slog.Logger) echo.MiddlewareFunc {
+// bearer tokens stay out of the logs; the client's address is believed
+// from X-Forwarded-For only when a trusted proxy sent it.
+func accessLog(logger *slog.Logger, trusted []netip.Prefix) echo.MiddlewareFunc {
 	return func(next echo.HandlerFunc) echo.HandlerFunc {
 		return func(c echo.Context) error {
 			start := time.Now()
@@ -35,7 +37,7 @@ func accessLog(logger *slog.Logger) echo.MiddlewareFunc {
 				slog.Int("status", res.Status),
 				slog.Int64("bytes", res.Size),
 				slog.Float64("duration_ms", float64(time.Since(start).Microseconds())/1000),
-				slog.String("remote", c.RealIP()),
+				slog.String("remote", logAddr(req, trusted)),
 			)
 			return nil
 		}
@@ -104,6 +106,14 @@ func requestMethod(c echo.Context) string {
 		return http.MethodHead
 	}
 	return c.Request().Method
+}
+
+// logAddr is the client's address for the access log.
+func logAddr(r *http.Request, trusted []netip.Prefix) string {
+	if addr, ok := clientAddr(r, trusted); ok {
+		return addr.String()
+	}
+	return r.RemoteAddr
 }
 
 // recoverPanics turns a panic into a logged stack and an "internal"

@@ -45,7 +45,7 @@ type Config struct {
 	ReviewsPerMinute float64
 	ReviewBurst      int
 	// TrustedProxies are the reverse proxies whose X-Forwarded-For names
-	// the client for the rate limit; none by default.
+	// the client for the rate limit and the access log; none by default.
 	TrustedProxies []netip.Prefix
 }
 
@@ -111,7 +111,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.Use(middleware.RequestID())
 	e.Use(securityHeaders)
 	e.Use(metrics.middleware)
-	e.Use(accessLog(cfg.Logger))
+	e.Use(accessLog(cfg.Logger, cfg.TrustedProxies))
 	e.Use(recoverPanics(cfg.Logger))
 	e.Use(requestDeadline(DatabaseWaitLimit))
 	e.Use(refuseUnstorableText)
