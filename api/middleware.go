@@ -226,6 +226,13 @@ func (s *server) authenticate(c echo.Context) (domain.User, error) {
 	return s.tokens.Authenticate(c.Request().Context(), strings.TrimSpace(secret))
 }
 
+// sentBearer reports whether the request carries a bearer token, valid
+// or not.
+func sentBearer(c echo.Context) bool {
+	scheme, _, _ := strings.Cut(c.Request().Header.Get(echo.HeaderAuthorization), " ")
+	return strings.EqualFold(scheme, "Bearer")
+}
+
 // requireUser lets only requests with a valid token through.
 func (s *server) requireUser(next echo.HandlerFunc) echo.HandlerFunc {
 	return func(c echo.Context) error {

@@ -73,11 +73,14 @@ func (s *server) review(ctx context.Context, document []byte, v int) (review.Rep
 // reviewDocument reviews the document sent as the body and stores
 // nothing. It needs no token, so anonymous clients are rate-limited by
 // address. A token holder is not: the token names who is calling and can
-// be revoked, and scripts reviewing a folder of designs hold one. A token
-// that does not check out is ignored, as public routes ignore credentials:
-// the caller is then anonymous.
+// be revoked, and scripts reviewing a folder of designs hold one. So a
+// bearer token that does not check out is a 401 here, while any other
+// Authorization (a proxy's Basic auth) is ignored, as public routes do.
 func (s *server) reviewDocument(c echo.Context) error {
 	if _, err := s.identify(c); err != nil {
+		if sentBearer(c) {
+			return err
+		}
 		if ok, wait := s.reviewLimiter.allow("addr:"+clientKey(c.Request(), s.cfg.TrustedProxies), time.Now()); !ok {
 			return &problemError{kind: "rate-limited", retry: wait,
 				detail: fmt.Sprintf("too many reviews from this client; try again in %d s", wait)}
