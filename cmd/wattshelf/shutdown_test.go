@@ -2,6 +2,7 @@ package main
 
 import (
 	"bufio"
+	"io"
 	"net/http"
 	"os"
 	"strconv"
@@ -12,6 +13,7 @@ import (
 	"go.yaml.in/yaml/v3"
 
 	"wattshelf/api"
+	"wattshelf/domain/store/storetest"
 )
 
 // TestNoRequestOutlastsTheShutdownGrace holds the stop to its promise: a
@@ -71,5 +73,63 @@ func TestNoRequestOutlastsTheShutdownGrace(t *testing.T) {
 	}
 	if stop <= shutdownGrace {
 		t.Errorf("systemd TimeoutStopSec %s (0: unset, systemd's default of 90 s may change), want longer than %s set explicitly", stop, shutdownGrace)
+	}
+}
+
+// TestStopWaitsForALongRequest stops serve while a request body is still
+// arriving and keeps it arriving for longer than the 15 s serve used to
+// wait: the request is answered and serve returns without an error. It
+// reviews inline against limits version 1, read once before, so the
+// request needs nothing from the database after its slow body.
+func TestStopWaitsForALongRequest(t *testing.T) {
+	s := startServe(t, cliEnv(storetest.AbsentDatabaseURL(t)))
+	const path = "/v1/reviews?limits_version=1"
+	head, tail := `{"format": 1, `, `"name": "Slow", "nodes": [{"id": "bench", "type": "supply", "output_v": 5, "max_a": 1}]}`
+	warm, err := http.Post(s.base+path, "application/json", strings.NewReader(head+tail))
+	if err != nil {
+		t.Fatal(err)
+	}
+	warm.Body.Close()
+	if warm.StatusCode != http.StatusOK {
+		t.Fatalf("warm-up review: %d", warm.StatusCode)
+	}
+
+	body, upload := io.Pipe()
+	answered := make(chan int, 1)
+	go func() {
+		resp, err := http.Post(s.base+path, "application/json", body)
+		if err != nil {
+			answered <- 0
+			return
+		}
+		resp.Body.Close()
+		answered <- resp.StatusCode
+	}()
+	if _, err := upload.Write([]byte(head)); err != nil {
+		t.Fatal(err)
+	}
+	time.Sleep(300 * time.Millisecond)
+	s.stop()
+	// 16 s of whitespace between two members, a byte pair every 2 s.
+	for range 8 {
+		time.Sleep(2 * time.Second)
+		if _, err := upload.Write([]byte("  ")); err != nil {
+			t.Fatalf("the server stopped reading the body: %v", err)
+		}
+	}
+	if _, err := upload.Write([]byte(tail)); err != nil {
+		t.Fatal(err)
+	}
+	upload.Close()
+	select {
+	case status := <-answered:
+		if status != http.StatusOK {
+			t.Errorf("the long request got %d, want 200", status)
+		}
+	case <-time.After(10 * time.Second):
+		t.Fatal("the long request got no answer")
+	}
+	if err := s.shutdown(t); err != nil {
+		t.Errorf("serve returned %v after a stop with a long request in flight, want nil", err)
 	}
 }
