@@ -75,6 +75,10 @@ func TestWrongMethodIs405WithAllow(t *testing.T) {
 			t.Errorf("%s %s: Allow %v, want %v", tt.method, tt.path, allow, tt.allow)
 		}
 	}
+	// OPTIONS lists the same methods (RFC 9110 section 9.3.7).
+	if r := a.do(http.MethodOptions, item, "", nil); r.status != http.StatusNoContent || !strings.Contains(r.header.Get("Allow"), "HEAD") {
+		t.Errorf("OPTIONS %s: %d, Allow %q; want 204 listing HEAD", item, r.status, r.header.Get("Allow"))
+	}
 	for _, path := range []string{item + "/nothing", "/v1/designs/1/nothing", "/v1/components/x/y/z"} {
 		wantProblem(t, a.do(http.MethodGet, path, a.owner, nil), http.StatusNotFound, "not-found")
 	}

@@ -62,7 +62,7 @@ func securityHeaders(next echo.HandlerFunc) echo.HandlerFunc {
 const headKey = "wattshelf.head"
 
 // routeHeadAsGet and answerHeadAsGet answer HEAD wherever GET is
-// routed. RFC 9110 section 9.3.2: HEAD is GET without the content. echo
+// routed, and list it in the Allow of OPTIONS answers. RFC 9110 section 9.3.2: HEAD is GET without the content. echo
 // routes by the method of the server's own request, so routeHeadAsGet
 // (run before routing) makes it GET; answerHeadAsGet (the first middleware
 // after routing) makes it HEAD again, so that net/http frames the answer
@@ -80,6 +80,10 @@ func routeHeadAsGet(next echo.HandlerFunc) echo.HandlerFunc {
 
 func answerHeadAsGet(next echo.HandlerFunc) echo.HandlerFunc {
 	return func(c echo.Context) error {
+		if c.Request().Method == http.MethodOptions {
+			res := c.Response()
+			res.Before(func() { allowHead(res.Header()) })
+		}
 		if head, _ := c.Get(headKey).(bool); head {
 			req := c.Request()
 			req.Method = http.MethodHead
@@ -89,6 +93,15 @@ func answerHeadAsGet(next echo.HandlerFunc) echo.HandlerFunc {
 			c.Response().Writer = withoutBody{c.Response().Writer}
 		}
 		return next(c)
+	}
+}
+
+// allowHead adds HEAD to an Allow field that lists GET: echo lists the
+// methods routed, and HEAD is served wherever GET is.
+func allowHead(h http.Header) {
+	allow := h.Get(echo.HeaderAllow)
+	if strings.Contains(allow, http.MethodGet) && !strings.Contains(allow, http.MethodHead) {
+		h.Set(echo.HeaderAllow, allow+", "+http.MethodHead)
 	}
 }
 

@@ -7,7 +7,6 @@ import (
 	"log/slog"
 	"net/http"
 	"strconv"
-	"strings"
 
 	"github.com/labstack/echo/v4"
 
@@ -152,10 +151,8 @@ func errorHandler(logger *slog.Logger, isUnavailable unavailabilityCheck) echo.H
 		if pe.retry > 0 {
 			c.Response().Header().Set("Retry-After", strconv.Itoa(pe.retry))
 		}
-		if allow := c.Response().Header().Get(echo.HeaderAllow); p.Status == http.StatusMethodNotAllowed &&
-			strings.Contains(allow, http.MethodGet) && !strings.Contains(allow, http.MethodHead) {
-			// echo lists the routed methods; HEAD is served wherever GET is.
-			c.Response().Header().Set(echo.HeaderAllow, allow+", "+http.MethodHead)
+		if p.Status == http.StatusMethodNotAllowed {
+			allowHead(c.Response().Header())
 		}
 		if p.Status == http.StatusUnauthorized {
 			// RFC 9110 section 15.5.2: a 401 names the scheme to use.
