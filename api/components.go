@@ -3,7 +3,6 @@ package api
 import (
 	"context"
 	"crypto/sha256"
-	"encoding/base64"
 	"encoding/hex"
 	"errors"
 	"fmt"
@@ -27,15 +26,18 @@ const (
 
 func (s *server) registerShelfRoutes(v1 *echo.Group) {
 	v1.GET("/shelf", s.getShelf)
-	comps := v1.Group("/components", requireUser)
-	comps.GET("", s.listComponents)
-	comps.POST("", s.createComponent)
-	comps.GET("/:id", s.getComponent)
-	comps.PUT("/:id", s.replaceComponent)
-	comps.PATCH("/:id", s.patchComponent)
-	comps.DELETE("/:id", s.deleteComponent)
-	comps.POST("/:id/measurements", s.addMeasurement)
-	comps.GET("/:id/measurements", s.listMeasurements)
+	// The token check goes on each route, not on the group: echo answers
+	// every unrouted method and path under a group with middleware 404,
+	// where a known path with another method must be 405.
+	comps := v1.Group("/components")
+	comps.GET("", s.listComponents, s.requireUser)
+	comps.POST("", s.createComponent, s.requireUser)
+	comps.GET("/:id", s.getComponent, s.requireUser)
+	comps.PUT("/:id", s.replaceComponent, s.requireUser)
+	comps.PATCH("/:id", s.patchComponent, s.requireUser)
+	comps.DELETE("/:id", s.deleteComponent, s.requireUser)
+	comps.POST("/:id/measurements", s.addMeasurement, s.requireUser)
+	comps.GET("/:id/measurements", s.listMeasurements, s.requireUser)
 }
 
 // ComponentPage is one page of a component listing.
@@ -56,7 +58,7 @@ type ShelfView struct {
 // is seen at once; the revision is also in the ETag, and a kiosk polling
 // with If-None-Match gets a 304 without a body.
 func (s *server) getShelf(c echo.Context) error {
-	key, after, err := shelfQuery(c)
+	key, after, err := shelfQuery(c, s.cursors)
 	if err != nil {
 		return err
 	}
@@ -91,7 +93,7 @@ func (s *server) getShelf(c echo.Context) error {
 
 // shelfQuery reads ?limit= and ?cursor= (the next of an earlier page).
 // Neither means the whole shelf: limit 0 in the key.
-func shelfQuery(c echo.Context) (shelfKey, *store.ShelfCursor, error) {
+func shelfQuery(c echo.Context, cursors cursorCodec) (shelfKey, *store.ShelfCursor, error) {
 	limitParam, cursorParam := c.QueryParam("limit"), c.QueryParam("cursor")
 	if limitParam == "" && cursorParam == "" {
 		return shelfKey{}, nil, nil
@@ -107,7 +109,7 @@ func shelfQuery(c echo.Context) (shelfKey, *store.ShelfCursor, error) {
 	if cursorParam == "" {
 		return key, nil, nil
 	}
-	cur, err := decodeShelfCursor(cursorParam)
+	cur, err := cursors.decodeShelf(cursorParam)
 	if err != nil {
 		return key, nil, queryProblem("/cursor", "is not a cursor this service issued")
 	}
@@ -133,30 +135,9 @@ func (s *server) shelfView(ctx context.Context, key shelfKey, after *store.Shelf
 	}
 	if more {
 		last := items[len(items)-1]
-		view.Next = encodeShelfCursor(store.ShelfCursor{Bin: last.Bin, Name: last.Name, ID: last.ID})
+		view.Next = s.cursors.encodeShelf(store.ShelfCursor{Bin: last.Bin, Name: last.Name, ID: last.ID})
 	}
 	return view, nil
-}
-
-// Shelf cursors carry the last item's place in shelf order, opaquely.
-func encodeShelfCursor(cur store.ShelfCursor) string {
-	raw, _ := encodeJSON(cur) // two strings and a number always encode
-	return base64.RawURLEncoding.EncodeToString(raw)
-}
-
-func decodeShelfCursor(s string) (store.ShelfCursor, error) {
-	var cur store.ShelfCursor
-	raw, err := base64.RawURLEncoding.DecodeString(s)
-	if err != nil {
-		return cur, err
-	}
-	if err := domain.DecodeStrict(raw, &cur); err != nil {
-		return cur, err
-	}
-	if cur.ID < 1 {
-		return cur, fmt.Errorf("shelf cursor id %d", cur.ID)
-	}
-	return cur, nil
 }
 
 func queryProblem(pointer, format string, args ...any) error {
@@ -165,7 +146,7 @@ func queryProblem(pointer, format string, args ...any) error {
 }
 
 // parseComponentFilter reads the listing's query parameters.
-func parseComponentFilter(q func(string) string) (store.ComponentFilter, error) {
+func parseComponentFilter(q func(string) string, cursors cursorCodec) (store.ComponentFilter, error) {
 	f := store.ComponentFilter{
 		Kind: q("kind"), Bin: q("bin"), Query: q("q"), Limit: defaultPageSize,
 	}
@@ -193,7 +174,7 @@ func parseComponentFilter(q func(string) string) (store.ComponentFilter, error) 
 		f.FitsV = &x
 	}
 	if v := q("cursor"); v != "" {
-		id, err := decodeCursor(v)
+		id, err := cursors.decodeID(v)
 		if err != nil {
 			return f, queryProblem("/cursor", "is not a cursor this service issued")
 		}
@@ -202,29 +183,8 @@ func parseComponentFilter(q func(string) string) (store.ComponentFilter, error) 
 	return f, nil
 }
 
-// Cursors are opaque to clients so the paging scheme can change.
-func encodeCursor(afterID int64) string {
-	return base64.RawURLEncoding.EncodeToString([]byte("after:" + strconv.FormatInt(afterID, 10)))
-}
-
-func decodeCursor(s string) (int64, error) {
-	raw, err := base64.RawURLEncoding.DecodeString(s)
-	if err != nil {
-		return 0, err
-	}
-	num, ok := strings.CutPrefix(string(raw), "after:")
-	if !ok {
-		return 0, fmt.Errorf("cursor without prefix")
-	}
-	id, err := strconv.ParseInt(num, 10, 64)
-	if err != nil || id < 0 {
-		return 0, fmt.Errorf("cursor id %q", num)
-	}
-	return id, nil
-}
-
 func (s *server) listComponents(c echo.Context) error {
-	f, err := parseComponentFilter(c.QueryParam)
+	f, err := parseComponentFilter(c.QueryParam, s.cursors)
 	if err != nil {
 		return err
 	}
@@ -237,18 +197,31 @@ func (s *server) listComponents(c echo.Context) error {
 		page.Items = []domain.Component{}
 	}
 	if more {
-		page.Next = encodeCursor(items[len(items)-1].ID)
+		page.Next = s.cursors.encodeID(items[len(items)-1].ID)
 	}
 	return c.JSON(http.StatusOK, page)
 }
 
-// pathID reads a positive integer id from the route.
+// pathID reads a positive id from the route; ids are bigint columns.
 func pathID(c echo.Context, name string) (int64, error) {
-	id, err := strconv.ParseInt(c.Param(name), 10, 64)
-	if err != nil || id < 1 {
-		return 0, newProblem("not-found", "%s %q is not an id this service issues", name, c.Param(name))
+	return pathNumber(c, name, 64)
+}
+
+// pathNumber reads a positive whole number from the route that must fit a
+// column of bits bits (32 for integer, 64 for bigint). A number past the
+// column's range is the client's mistake (400), not a record that is
+// missing; the database would refuse it as a parameter, a 500.
+func pathNumber(c echo.Context, name string, bits int) (int64, error) {
+	raw := c.Param(name)
+	n, err := strconv.ParseInt(raw, 10, bits)
+	if errors.Is(err, strconv.ErrRange) {
+		return 0, &problemError{kind: "bad-path", detail: "a path parameter is out of range",
+			fields: []domain.FieldProblem{{Pointer: "/" + name, Detail: fmt.Sprintf("must be a whole number from 1 to %d", int64(1)<<(bits-1)-1)}}}
 	}
-	return id, nil
+	if err != nil || n < 1 {
+		return 0, newProblem("not-found", "%s %q is not an id this service issues", name, raw)
+	}
+	return n, nil
 }
 
 func etagOf(version int64) string { return `"` + strconv.FormatInt(version, 10) + `"` }
@@ -260,30 +233,12 @@ func jsonWithETag(c echo.Context, status int, version int64, v any) error {
 	return c.JSON(status, v)
 }
 
-// ifMatchVersion reads the version a client last saw from If-Match, which
-// writes require; "*" matches any version.
-func ifMatchVersion(c echo.Context) (int64, error) {
-	h := strings.TrimSpace(c.Request().Header.Get("If-Match"))
-	if h == "" {
-		return 0, newProblem("precondition-required", "send If-Match with the ETag from your last GET")
+// componentVersion reads the version component id is at now.
+func (s *server) componentVersion(c echo.Context, id int64) currentVersion {
+	return func() (int64, error) {
+		comp, err := s.store.Component(c.Request().Context(), id)
+		return comp.Version, err
 	}
-	if h == "*" {
-		return 0, nil
-	}
-	v, err := strconv.ParseInt(strings.Trim(strings.TrimPrefix(h, "W/"), `"`), 10, 64)
-	if err != nil || v < 1 {
-		return 0, &problemError{kind: "precondition-failed", detail: "If-Match does not hold an ETag this service issued"}
-	}
-	return v, nil
-}
-
-// optionalIfMatchVersion is ifMatchVersion for deletes, which honour
-// If-Match when sent but do not require it.
-func optionalIfMatchVersion(c echo.Context) (int64, error) {
-	if c.Request().Header.Get("If-Match") == "" {
-		return 0, nil
-	}
-	return ifMatchVersion(c)
 }
 
 func (s *server) createComponent(c echo.Context) error {
@@ -320,7 +275,7 @@ func (s *server) replaceComponent(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	version, err := ifMatchVersion(c)
+	version, err := ifMatchVersion(c, s.componentVersion(c, id))
 	if err != nil {
 		return err
 	}
@@ -346,7 +301,7 @@ func (s *server) patchComponent(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	version, err := ifMatchVersion(c)
+	version, err := ifMatchVersion(c, s.componentVersion(c, id))
 	if err != nil {
 		return err
 	}
@@ -443,7 +398,7 @@ func (s *server) deleteComponent(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	version, err := optionalIfMatchVersion(c)
+	version, err := optionalIfMatchVersion(c, s.componentVersion(c, id))
 	if err != nil {
 		return err
 	}

@@ -19,18 +19,19 @@ func (s *server) registerDesignRoutes(e *echo.Echo, v1 *echo.Group) {
 	s.limits = newLimitsCache(s.store, time.Now)
 	s.reviewLimiter = newClientLimiter(s.cfg.ReviewsPerMinute, s.cfg.ReviewBurst)
 
-	designs := v1.Group("/designs", requireUser)
-	designs.GET("", s.listDesigns)
-	designs.POST("", s.createDesign)
-	designs.GET("/:id", s.getDesign)
-	designs.PUT("/:id", s.replaceDesign)
-	designs.PATCH("/:id", s.patchDesign)
-	designs.DELETE("/:id", s.deleteDesign)
-	designs.POST("/:id/reviews", s.reviewStoredDesign)
-	designs.GET("/:id/reviews", s.listDesignReviews)
+	// Per route, not on the group, as for components.
+	designs := v1.Group("/designs")
+	designs.GET("", s.listDesigns, s.requireUser)
+	designs.POST("", s.createDesign, s.requireUser)
+	designs.GET("/:id", s.getDesign, s.requireUser)
+	designs.PUT("/:id", s.replaceDesign, s.requireUser)
+	designs.PATCH("/:id", s.patchDesign, s.requireUser)
+	designs.DELETE("/:id", s.deleteDesign, s.requireUser)
+	designs.POST("/:id/reviews", s.reviewStoredDesign, s.requireUser)
+	designs.GET("/:id/reviews", s.listDesignReviews, s.requireUser)
 
 	v1.POST("/reviews", s.reviewDocument)
-	v1.GET("/components/:id/motor-fit", s.motorFit, requireUser)
+	v1.GET("/components/:id/motor-fit", s.motorFit, s.requireUser)
 	s.registerLimitsRoutes(v1)
 	e.GET("/openapi.yaml", serveOpenAPI)
 	v1.GET("/schemas/design.json", serveDesignSchema)
@@ -87,7 +88,7 @@ func (s *server) listDesigns(c echo.Context) error {
 		f.Limit = n
 	}
 	if v := c.QueryParam("cursor"); v != "" {
-		id, err := decodeCursor(v)
+		id, err := s.cursors.decodeID(v)
 		if err != nil {
 			return queryProblem("/cursor", "is not a cursor this service issued")
 		}
@@ -102,7 +103,7 @@ func (s *server) listDesigns(c echo.Context) error {
 		page.Items = []store.DesignSummary{}
 	}
 	if more {
-		page.Next = encodeCursor(items[len(items)-1].ID)
+		page.Next = s.cursors.encodeID(items[len(items)-1].ID)
 	}
 	return c.JSON(http.StatusOK, page)
 }
@@ -152,12 +153,21 @@ func (s *server) getDesign(c echo.Context) error {
 	return jsonWithETag(c, http.StatusOK, d.Version, d)
 }
 
+// designVersion reads the version design id is at now, if the caller may
+// use it.
+func (s *server) designVersion(c echo.Context, id int64) currentVersion {
+	return func() (int64, error) {
+		d, err := s.usableDesign(c, id)
+		return d.Version, err
+	}
+}
+
 func (s *server) replaceDesign(c echo.Context) error {
 	id, err := pathID(c, "id")
 	if err != nil {
 		return err
 	}
-	version, err := ifMatchVersion(c)
+	version, err := ifMatchVersion(c, s.designVersion(c, id))
 	if err != nil {
 		return err
 	}
@@ -171,7 +181,11 @@ func (s *server) replaceDesign(c echo.Context) error {
 // patchDesign applies a JSON merge patch (RFC 7386) to the stored
 // document. Arrays such as nodes are replaced whole, as the RFC says.
 func (s *server) patchDesign(c echo.Context) error {
-	version, err := ifMatchVersion(c)
+	id, err := pathID(c, "id")
+	if err != nil {
+		return err
+	}
+	version, err := ifMatchVersion(c, s.designVersion(c, id))
 	if err != nil {
 		return err
 	}
@@ -216,7 +230,7 @@ func (s *server) deleteDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	version, err := optionalIfMatchVersion(c)
+	version, err := optionalIfMatchVersion(c, s.designVersion(c, id))
 	if err != nil {
 		return err
 	}

@@ -23,8 +23,8 @@ import (
 )
 
 // fuzzRouter is the real router on a database of the fuzz run's own,
-// with a staff token.
-func fuzzRouter(f *testing.F) (*echo.Echo, string) {
+// with a staff token and the router's cursor codec.
+func fuzzRouter(f *testing.F) (*echo.Echo, string, cursorCodec) {
 	f.Helper()
 	st, _ := storetest.NewStore(f)
 	router, err := New(Config{Store: st, Logger: slog.New(slog.NewTextHandler(io.Discard, nil)), Registry: prometheus.NewRegistry()})
@@ -35,7 +35,11 @@ func fuzzRouter(f *testing.F) (*echo.Echo, string) {
 	if err != nil {
 		f.Fatal(err)
 	}
-	return router, token
+	key, err := st.CursorKey(context.Background())
+	if err != nil {
+		f.Fatal(err)
+	}
+	return router, token, cursorCodec{key: key}
 }
 
 // fuzzCall sends a request for path with the query exactly as given.
@@ -60,7 +64,7 @@ func fuzzCall(router *echo.Echo, token, method, path, rawQuery string, body []by
 // same.
 func FuzzComponentPayload(f *testing.F) {
 	f.Add([]byte(`{"name": "Gear motor", "kind": "motor", "rated_v": 7.2, "stall_a": 9.5}`))
-	router, token := fuzzRouter(f)
+	router, token, _ := fuzzRouter(f)
 	target := fuzzCall(router, token, http.MethodPost, "/v1/components", "", []byte(`{"name": "Patch target", "kind": "light"}`))
 	if target.Code != http.StatusCreated {
 		f.Fatalf("create the patch target: %d %s", target.Code, target.Body)
@@ -111,7 +115,7 @@ func FuzzComponentPayload(f *testing.F) {
 // lists (200); anything else is a 400 problem, never a 5xx.
 func FuzzComponentFilter(f *testing.F) {
 	f.Add("kind=motor&fits_v=12&q=gear&limit=20")
-	router, token := fuzzRouter(f)
+	router, token, cursors := fuzzRouter(f)
 	for _, c := range []string{
 		`{"name": "Gear motor", "kind": "motor", "bin": "M1", "rated_v": 12, "min_v": 4, "max_v": 13.8}`,
 		`{"name": "100% duty fan", "kind": "motor", "bin": "M_2", "description": "quote ' and backslash \\"}`,
@@ -124,7 +128,7 @@ func FuzzComponentFilter(f *testing.F) {
 	f.Fuzz(func(t *testing.T, rawQuery string) {
 		values, parseErr := url.ParseQuery(rawQuery)
 		if parseErr == nil {
-			filter, err := parseComponentFilter(values.Get)
+			filter, err := parseComponentFilter(values.Get, cursors)
 			if err == nil {
 				if filter.Limit < 1 || filter.Limit > maxPageSize {
 					t.Fatalf("limit %d out of bounds", filter.Limit)
@@ -149,7 +153,7 @@ func FuzzComponentFilter(f *testing.F) {
 				t.Fatalf("GET %s?%s answered %d: %s", path, rawQuery, rec.Code, rec.Body)
 			}
 			if rec.Code == http.StatusOK && path == "/v1/components" && parseErr == nil {
-				if _, err := parseComponentFilter(values.Get); err != nil {
+				if _, err := parseComponentFilter(values.Get, cursors); err != nil {
 					t.Fatalf("GET %s?%s listed although the filter is refused: %v", path, rawQuery, err)
 				}
 			}

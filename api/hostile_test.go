@@ -110,7 +110,8 @@ func TestSQLMetacharactersInEveryFilterAreInert(t *testing.T) {
 }
 
 // TestMalformedTokensAreRefused sends Authorization headers that are not
-// a live bearer token: each is 401 on a private and on a public route.
+// a live bearer token: each is 401 on a private route and ignored on a
+// public one.
 func TestMalformedTokensAreRefused(t *testing.T) {
 	a := startShelfAPI(t)
 	live := a.owner
@@ -132,8 +133,9 @@ func TestMalformedTokensAreRefused(t *testing.T) {
 		"prefix without token": "Bearer wsh_",
 	} {
 		t.Run(name, func(t *testing.T) {
-			for _, path := range []string{"/v1/components", "/v1/shelf"} {
-				wantProblem(t, a.do(http.MethodGet, path, "", nil, "Authorization", header), http.StatusUnauthorized, "unauthorized")
+			wantProblem(t, a.do(http.MethodGet, "/v1/components", "", nil, "Authorization", header), http.StatusUnauthorized, "unauthorized")
+			if r := a.do(http.MethodGet, "/v1/shelf", "", nil, "Authorization", header); r.status != http.StatusOK {
+				t.Errorf("public shelf: %d, want 200", r.status)
 			}
 		})
 	}

@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"net/http"
-	"strconv"
 	"sync"
 	"time"
 
@@ -17,10 +16,14 @@ import (
 	"wattshelf/domain/store"
 )
 
+// limitsVersionBits is the size of limits.version, an integer column
+// (migration 0001).
+const limitsVersionBits = 32
+
 func (s *server) registerLimitsRoutes(v1 *echo.Group) {
-	v1.GET("/limits", s.getCurrentLimits, requireUser)
-	v1.GET("/limits/:version", s.getLimitsVersion, requireUser)
-	v1.PUT("/limits", s.putLimits, requireStaff)
+	v1.GET("/limits", s.getCurrentLimits, s.requireUser)
+	v1.GET("/limits/:version", s.getLimitsVersion, s.requireUser)
+	v1.PUT("/limits", s.putLimits, s.requireStaff)
 }
 
 // LimitsInput is what staff send to replace the limits: the whole set and
@@ -39,11 +42,11 @@ func (s *server) getCurrentLimits(c echo.Context) error {
 }
 
 func (s *server) getLimitsVersion(c echo.Context) error {
-	v, err := strconv.Atoi(c.Param("version"))
-	if err != nil || v < 1 {
-		return newProblem("not-found", "limits version %q is not a version number", c.Param("version"))
+	v, err := pathNumber(c, "version", limitsVersionBits)
+	if err != nil {
+		return err
 	}
-	l, err := s.store.Limits(c.Request().Context(), v)
+	l, err := s.store.Limits(c.Request().Context(), int(v))
 	if err != nil {
 		return err
 	}
@@ -54,7 +57,10 @@ func (s *server) getLimitsVersion(c echo.Context) error {
 // the change was made from, so one staff member cannot unknowingly undo
 // another's change.
 func (s *server) putLimits(c echo.Context) error {
-	expect, err := ifMatchVersion(c)
+	expect, err := ifMatchVersion(c, func() (int64, error) {
+		v, err := s.store.CurrentLimitsVersion(c.Request().Context())
+		return int64(v), err
+	})
 	if err != nil {
 		return err
 	}

@@ -38,6 +38,7 @@ func problemKinds() map[string]problemKind {
 	return map[string]problemKind{
 		"malformed":           {http.StatusBadRequest, "The request body is not well-formed JSON"},
 		"bad-query":           {http.StatusBadRequest, "A query parameter is not understood"},
+		"bad-path":            {http.StatusBadRequest, "A number in the path is out of range"},
 		"unauthorized":        {http.StatusUnauthorized, "A valid bearer token is required"},
 		"forbidden":           {http.StatusForbidden, "This token may not do that"},
 		"not-found":           {http.StatusNotFound, "Nothing is here"},
@@ -148,6 +149,9 @@ func errorHandler(logger *slog.Logger, isUnavailable unavailabilityCheck) echo.H
 		}
 		if pe.retry > 0 {
 			c.Response().Header().Set("Retry-After", strconv.Itoa(pe.retry))
+		}
+		if p.Status == http.StatusMethodNotAllowed {
+			allowHead(c.Response().Header())
 		}
 		if p.Status == http.StatusUnauthorized {
 			// RFC 9110 section 15.5.2: a 401 names the scheme to use.

@@ -68,7 +68,7 @@ func TestProblemKinds(t *testing.T) {
 		{"not a bearer token", "GET", "/v1/components", "", nil, []string{"Authorization", "Basic YWRhOnB3"}, 401, "unauthorized", nil},
 		{"bearer without a token", "GET", "/v1/components", "", nil, []string{"Authorization", "Bearer"}, 401, "unauthorized", nil},
 		{"oversized token", "GET", "/v1/components", strings.Repeat("x", 300), nil, nil, 401, "unauthorized", nil},
-		{"bad token on a public route", "GET", "/v1/shelf", "wsh_nope", nil, nil, 401, "unauthorized", nil},
+		{"bad token where one is needed", "GET", "/v1/designs", "wsh_nope", nil, nil, 401, "unauthorized", nil},
 		{"member changes another's record", "PUT", minePath, a.other, valid, []string{"If-Match", `"1"`}, 403, "forbidden", nil},
 		{"member deletes staff's record", "DELETE", staffPath, a.owner, nil, nil, 403, "forbidden", nil},
 		{"stale If-Match", "PUT", minePath, a.owner, valid, []string{"If-Match", `"7"`}, 412, "precondition-failed", nil},

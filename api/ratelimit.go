@@ -101,31 +101,42 @@ func (l *clientLimiter) tracked() int {
 	return len(l.clients)
 }
 
-// clientKey names the client behind a request by the address the
-// connection came from. IPv6 clients are keyed by their /64, the block one
-// site gets. X-Forwarded-For counts only when the connection comes from a
-// trusted proxy: anyone can write the header, and honouring it from
-// anyone would let a client pick a fresh bucket per request. Behind
-// trusted proxies, the client is the rightmost address in the header that
-// is not itself a trusted proxy.
+// clientKey names the client behind a request for the rate limit: its
+// address (clientAddr), and for IPv6 clients their /64, the block one
+// site gets.
 func clientKey(r *http.Request, trusted []netip.Prefix) string {
-	host, _, err := net.SplitHostPort(r.RemoteAddr)
-	if err != nil {
-		host = r.RemoteAddr
-	}
-	addr, err := netip.ParseAddr(host)
-	if err != nil {
-		return host
-	}
-	addr = addr.Unmap()
-	if isTrusted(addr, trusted) {
-		addr = forwardedClient(r.Header.Values("X-Forwarded-For"), addr, trusted)
+	addr, ok := clientAddr(r, trusted)
+	if !ok {
+		return r.RemoteAddr
 	}
 	if addr.Is6() {
 		prefix, _ := addr.Prefix(64)
 		return prefix.String()
 	}
 	return addr.String()
+}
+
+// clientAddr is the address of the client behind a request: the address
+// the connection came from. X-Forwarded-For counts only when the
+// connection comes from a trusted proxy: anyone can write the header, and
+// honouring it from anyone would let a client pick a fresh rate-limit
+// bucket per request, or an address for the access log. Behind trusted
+// proxies, the client is the rightmost address in the header that is not
+// itself a trusted proxy. X-Real-IP is never read.
+func clientAddr(r *http.Request, trusted []netip.Prefix) (netip.Addr, bool) {
+	host, _, err := net.SplitHostPort(r.RemoteAddr)
+	if err != nil {
+		host = r.RemoteAddr
+	}
+	addr, err := netip.ParseAddr(host)
+	if err != nil {
+		return netip.Addr{}, false
+	}
+	addr = addr.Unmap()
+	if isTrusted(addr, trusted) {
+		addr = forwardedClient(r.Header.Values("X-Forwarded-For"), addr, trusted)
+	}
+	return addr, true
 }
 
 // forwardedClient walks the X-Forwarded-For chain from the nearest hop

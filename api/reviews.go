@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"net/http"
 	"strconv"
 	"time"
@@ -39,11 +40,11 @@ func limitsVersionParam(c echo.Context) (int, error) {
 	if v == "" {
 		return 0, nil
 	}
-	n, err := strconv.Atoi(v)
+	n, err := strconv.ParseInt(v, 10, limitsVersionBits)
 	if err != nil || n < 1 {
-		return 0, queryProblem("/limits_version", "must be a limits version number, 1 or more")
+		return 0, queryProblem("/limits_version", "must be a limits version number from 1 to %d", math.MaxInt32)
 	}
-	return n, nil
+	return int(n), nil
 }
 
 // review decodes and reviews a document against limits version v (0:
@@ -70,9 +71,14 @@ func (s *server) review(ctx context.Context, document []byte, v int) (review.Rep
 // reviewDocument reviews the document sent as the body and stores
 // nothing. It needs no token, so anonymous clients are rate-limited by
 // address. A token holder is not: the token names who is calling and can
-// be revoked, and scripts reviewing a folder of designs hold one.
+// be revoked, and scripts reviewing a folder of designs hold one. So a
+// bearer token that does not check out is a 401 here, while any other
+// Authorization (a proxy's Basic auth) is ignored, as public routes do.
 func (s *server) reviewDocument(c echo.Context) error {
-	if _, ok := c.Get(userKey).(domain.User); !ok {
+	if _, err := s.identify(c); err != nil {
+		if sentBearer(c) {
+			return err
+		}
 		if ok, wait := s.reviewLimiter.allow("addr:"+clientKey(c.Request(), s.cfg.TrustedProxies), time.Now()); !ok {
 			return &problemError{kind: "rate-limited", retry: wait,
 				detail: fmt.Sprintf("too many reviews from this client; try again in %d s", wait)}
@@ -173,7 +179,7 @@ func (s *server) listDesignReviews(c echo.Context) error {
 	}
 	var before int64
 	if v := c.QueryParam("cursor"); v != "" {
-		if before, err = decodeCursor(v); err != nil {
+		if before, err = s.cursors.decodeID(v); err != nil {
 			return queryProblem("/cursor", "is not a cursor this service issued")
 		}
 	}
@@ -186,7 +192,7 @@ func (s *server) listDesignReviews(c echo.Context) error {
 		page.Items = append(page.Items, s.reviewView(r))
 	}
 	if more {
-		page.Next = encodeCursor(list[len(list)-1].ID)
+		page.Next = s.cursors.encodeID(list[len(list)-1].ID)
 	}
 	return c.JSON(http.StatusOK, page)
 }

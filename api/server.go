@@ -45,7 +45,7 @@ type Config struct {
 	ReviewsPerMinute float64
 	ReviewBurst      int
 	// TrustedProxies are the reverse proxies whose X-Forwarded-For names
-	// the client for the rate limit; none by default.
+	// the client for the rate limit and the access log; none by default.
 	TrustedProxies []netip.Prefix
 }
 
@@ -66,6 +66,8 @@ type server struct {
 	designs       *designCache
 	writes        writes
 	reviewLimiter *clientLimiter
+	cursors       cursorCodec
+	tokens        authenticator
 }
 
 // New builds the router with every route and middleware.
@@ -78,6 +80,11 @@ func New(cfg Config) (*echo.Echo, error) {
 		return nil, err
 	}
 	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache(), designs: newDesignCache()}
+	keyCtx, cancel := context.WithTimeout(context.Background(), DatabaseWaitLimit)
+	defer cancel()
+	if s.cursors.key, err = cfg.Store.CursorKey(keyCtx); err != nil {
+		return nil, err
+	}
 
 	metrics, err := newHTTPMetrics(cfg.Registry)
 	if err != nil {
@@ -99,22 +106,24 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.HideBanner, e.HidePort = true, true
 	e.JSONSerializer = jsonSerializer{}
 	e.HTTPErrorHandler = errorHandler(cfg.Logger, store.IsUnavailable)
+	e.Pre(routeHeadAsGet)
+	e.Use(answerHeadAsGet)
 	e.Use(middleware.RequestID())
+	e.Use(securityHeaders)
 	e.Use(metrics.middleware)
-	e.Use(accessLog(cfg.Logger))
+	e.Use(accessLog(cfg.Logger, cfg.TrustedProxies))
 	e.Use(recoverPanics(cfg.Logger))
 	e.Use(requestDeadline(DatabaseWaitLimit))
 	e.Use(refuseUnstorableText)
 	e.Use(middleware.BodyLimit(fmt.Sprint(MaxBodyBytes)))
-	tokens := cfg.Tokens
-	if tokens == nil {
-		tokens = cfg.Store
+	s.tokens = cfg.Tokens
+	if s.tokens == nil {
+		s.tokens = cfg.Store
 	}
 	s.writes = cfg.Writes
 	if s.writes == nil {
 		s.writes = cfg.Store
 	}
-	e.Use(identify(tokens))
 
 	e.GET("/healthz", s.healthz)
 	e.GET("/readyz", s.readyz)

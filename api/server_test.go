@@ -223,7 +223,7 @@ func TestAccessLogNeverHoldsTheToken(t *testing.T) {
 		{"GET", path, a.owner, nil, 200},
 		{"PUT", path, a.other, `{"name": "x", "kind": "light"}`, 403},
 		{"GET", "/v1/components", revoked, nil, 401},
-		{"GET", "/v1/shelf", unknown, nil, 401},
+		{"GET", "/v1/designs", unknown, nil, 401},
 		{"POST", "/v1/components", a.staff, `{"bad json`, 400},
 		{"GET", "/test/panic", a.staff, nil, 500},
 	} {

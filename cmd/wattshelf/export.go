@@ -1,9 +1,9 @@
 package main
 
 import (
+	"bufio"
 	"bytes"
 	"context"
-	"encoding/csv"
 	"encoding/json"
 	"flag"
 	"fmt"
@@ -131,19 +131,21 @@ func electricalCSVColumns() []string {
 }
 
 // writeShelfCSV writes the public shelf: a header row, then one component
-// per row; a field the part lacks is an empty cell.
+// per row; a field the part lacks is an empty cell. encoding/csv quotes a
+// cell only when it holds a comma, a quote or a line break, and cannot be
+// told to quote more, so the rows are written here: every text cell goes
+// through spreadsheetCell, and the other cells are numbers, booleans and
+// times, which hold nothing to quote.
 func writeShelfCSV(w io.Writer, items []domain.ShelfItem) error {
-	cw := csv.NewWriter(w)
+	bw := bufio.NewWriter(w)
 	header := append(shelfCSVTextColumns(), electricalCSVColumns()...)
 	header = append(header, "updated_at")
-	if err := cw.Write(header); err != nil {
-		return fmt.Errorf("write shelf csv: %w", err)
-	}
+	writeCSVRow(bw, header)
 	for _, it := range items {
 		row := []string{
-			strconv.FormatInt(it.ID, 10), spreadsheetText(it.Name), it.Kind, spreadsheetText(it.Bin),
-			strconv.Itoa(it.Quantity), it.Condition, it.SpecSource, spreadsheetText(it.Origin),
-			strconv.FormatBool(it.MainsOrigin), spreadsheetText(it.Description),
+			strconv.FormatInt(it.ID, 10), spreadsheetCell(it.Name), spreadsheetCell(it.Kind), spreadsheetCell(it.Bin),
+			strconv.Itoa(it.Quantity), spreadsheetCell(it.Condition), spreadsheetCell(it.SpecSource), spreadsheetCell(it.Origin),
+			strconv.FormatBool(it.MainsOrigin), spreadsheetCell(it.Description),
 		}
 		fields, err := electricalCells(it.Electrical)
 		if err != nil {
@@ -151,15 +153,24 @@ func writeShelfCSV(w io.Writer, items []domain.ShelfItem) error {
 		}
 		row = append(row, fields...)
 		row = append(row, it.UpdatedAt.UTC().Format(time.RFC3339))
-		if err := cw.Write(row); err != nil {
-			return fmt.Errorf("write shelf csv: %w", err)
-		}
+		writeCSVRow(bw, row)
 	}
-	cw.Flush()
-	if err := cw.Error(); err != nil {
+	if err := bw.Flush(); err != nil {
 		return fmt.Errorf("write shelf csv: %w", err)
 	}
 	return nil
+}
+
+// writeCSVRow writes cells already made safe, comma-separated, as one
+// line; bufio keeps the first write error for Flush to report.
+func writeCSVRow(w *bufio.Writer, cells []string) {
+	for i, c := range cells {
+		if i > 0 {
+			w.WriteByte(',')
+		}
+		w.WriteString(c)
+	}
+	w.WriteByte('\n')
 }
 
 // electricalCells renders e in electricalCSVColumns order. Going through
@@ -184,7 +195,7 @@ func electricalCells(e domain.Electrical) ([]string, error) {
 			if err := json.Unmarshal(v, &s); err != nil {
 				return nil, err
 			}
-			cells = append(cells, spreadsheetText(s))
+			cells = append(cells, spreadsheetCell(s))
 		default:
 			cells = append(cells, string(v))
 		}
@@ -192,12 +203,36 @@ func electricalCells(e domain.Electrical) ([]string, error) {
 	return cells, nil
 }
 
-// spreadsheetText keeps a member's free text from being run as a formula
-// when the file is opened in a spreadsheet: a cell that starts like one
-// gets a leading apostrophe, which spreadsheets show as plain text.
-func spreadsheetText(s string) string {
-	if s != "" && strings.ContainsRune("=+-@\t\r", rune(s[0])) {
-		return "'" + s
+// spreadsheetCell makes a member's free text one safe CSV cell. A
+// spreadsheet may split a line on commas, semicolons or tabs (which one
+// depends on its locale), and reads a cell that starts with =, +, - or @
+// as a formula: so wherever a cell could start (the text's start, or
+// after any separator or line break in it), text that starts like a
+// formula, past quotes and spaces, gets an apostrophe, which spreadsheets
+// show as plain text; so does a leading tab or carriage return (OWASP's
+// CSV injection advice, from memory). A cell holding a separator, a quote
+// or a line break is then quoted as RFC 4180 section 2 says.
+func spreadsheetCell(s string) string {
+	var b strings.Builder
+	cellStart := true
+	for i := 0; i < len(s); i++ {
+		if cellStart && (startsLikeFormula(s[i:]) || s[i] == '\t' || s[i] == '\r') {
+			b.WriteByte('\'')
+		}
+		cellStart = strings.IndexByte(csvSplitters, s[i]) >= 0
+		b.WriteByte(s[i])
 	}
-	return s
+	text := b.String()
+	if !strings.ContainsAny(text, csvSplitters+`"`) {
+		return text
+	}
+	return `"` + strings.ReplaceAll(text, `"`, `""`) + `"`
+}
+
+// csvSplitters are where a spreadsheet may start a new cell.
+const csvSplitters = ",;\t\r\n"
+
+func startsLikeFormula(s string) bool {
+	s = strings.TrimLeft(s, `" `)
+	return s != "" && strings.IndexByte("=+-@", s[0]) >= 0
 }

@@ -17,8 +17,23 @@ import (
 	"wattshelf/domain/store"
 )
 
-// shutdownGrace bounds how long in-flight requests may take to finish.
-const shutdownGrace = 15 * time.Second
+// How long a request may last. A client gets headerTimeout to send its
+// headers and readTimeout for the whole request, so a trickle of bytes
+// cannot hold a connection open; the answer must be written within
+// writeTimeout of the headers' end. So no request lasts longer than
+// headerTimeout + writeTimeout (readTimeout is shorter), and the database
+// waits inside it are bounded by api.DatabaseWaitLimit.
+const (
+	headerTimeout = 5 * time.Second
+	readTimeout   = 20 * time.Second
+	writeTimeout  = 20 * time.Second
+)
+
+// shutdownGrace is how long a stop waits for requests in flight: longer
+// than any request may last, so every one of them is finished. The compose
+// file's stop_grace_period and the systemd unit's TimeoutStopSec are longer
+// still, so neither kills serve while it waits; a test holds them to that.
+const shutdownGrace = headerTimeout + writeTimeout + 5*time.Second
 
 // The collector's settings for serve, unless GOGC or GOMEMLIMIT is set. A
 // review allocates about 100 KB and the live heap is a few megabytes, so at
@@ -115,7 +130,10 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	shutdownCtx, cancel := context.WithTimeout(context.Background(), shutdownGrace)
 	defer cancel()
 	if err := srv.Shutdown(shutdownCtx); err != nil {
-		return fmt.Errorf("shut down: %w", err)
+		// Only a handler that ignores every timeout gets here; cut it off
+		// rather than leave the process hanging.
+		_ = srv.Close()
+		return fmt.Errorf("shut down: requests still running after %s: %w", shutdownGrace, err)
 	}
 	if err := <-served; err != nil && !errors.Is(err, http.ErrServerClosed) {
 		return fmt.Errorf("serve: %w", err)
@@ -170,15 +188,13 @@ func statsCounters(stats func() (uint64, uint64), first, firstHelp, second, seco
 	}
 }
 
-// newHTTPServer wraps handler with the timeouts that cut off slow or
-// stalled clients: a client gets 5 s to send its headers and 30 s for the
-// whole request, so a trickle of bytes cannot hold a connection open.
+// newHTTPServer wraps handler with the timeouts that bound every request.
 func newHTTPServer(handler http.Handler) *http.Server {
 	return &http.Server{
 		Handler:           handler,
-		ReadHeaderTimeout: 5 * time.Second,
-		ReadTimeout:       30 * time.Second,
-		WriteTimeout:      60 * time.Second,
+		ReadHeaderTimeout: headerTimeout,
+		ReadTimeout:       readTimeout,
+		WriteTimeout:      writeTimeout,
 		IdleTimeout:       120 * time.Second,
 		MaxHeaderBytes:    64 << 10,
 	}

@@ -130,7 +130,9 @@ func ExportedColumns() map[string][]string {
 // NotExportedTables are the tables a snapshot leaves out on purpose:
 // secrets, and bookkeeping the database rebuilds (an import bumps the
 // shelf revision itself).
-func NotExportedTables() []string { return []string{"tokens", "schema_migrations", "shelf_revision"} }
+func NotExportedTables() []string {
+	return []string{"tokens", "schema_migrations", "shelf_revision", "cursor_key"}
+}
 
 // Export reads the whole database in one read-only, repeatable-read
 // transaction, so the snapshot is consistent even while the service
