@@ -313,6 +313,7 @@ func TestConcurrentPatchesLoseNothing(t *testing.T) {
 			req, _ := http.NewRequest(http.MethodPatch, a.url(path), strings.NewReader(fmt.Sprintf(`{%q: %d}`, f, i+1)))
 			req.Header.Set("Authorization", "Bearer "+a.owner)
 			req.Header.Set("If-Match", "*")
+			req.Header.Set("Content-Type", "application/merge-patch+json")
 			resp, err := http.DefaultClient.Do(req)
 			if err != nil {
 				t.Error(err)

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"io"
+	"mime"
 	"net/http"
 
 	"github.com/go-json-experiment/json"
@@ -16,6 +17,9 @@ import (
 // readBody reads the whole request body; the body-limit middleware turns
 // an oversized one into 413 before this returns.
 func readBody(c echo.Context) ([]byte, error) {
+	if !isJSON(c.Request().Header.Get(echo.HeaderContentType)) {
+		return nil, echo.ErrUnsupportedMediaType
+	}
 	body, err := io.ReadAll(c.Request().Body)
 	if err != nil {
 		var he *echo.HTTPError
@@ -32,6 +36,13 @@ func readBody(c echo.Context) ([]byte, error) {
 		return nil, &domain.DecodeError{Reason: "the request body did not arrive whole in time"}
 	}
 	return body, nil
+}
+
+// isJSON tells whether a Content-Type names JSON: application/json, or
+// a merge patch (RFC 7386), with any parameters (a charset).
+func isJSON(contentType string) bool {
+	mt, _, err := mime.ParseMediaType(contentType)
+	return err == nil && (mt == echo.MIMEApplicationJSON || mt == "application/merge-patch+json")
 }
 
 // bindStrict reads and strictly decodes the request body into v: broken

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"net/http"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/labstack/echo/v4"
@@ -115,7 +116,7 @@ func (s *server) createDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	d, err := s.store.CreateDesign(c.Request().Context(), currentUser(c), doc.Name, body)
+	d, err := s.store.CreateDesign(c.Request().Context(), currentUser(c), strings.TrimSpace(doc.Name), body)
 	if err != nil {
 		return err
 	}
@@ -175,7 +176,7 @@ func (s *server) replaceDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	return s.saveDesign(c, id, version, doc.Name, body)
+	return s.saveDesign(c, id, version, strings.TrimSpace(doc.Name), body)
 }
 
 // patchDesign applies a JSON merge patch (RFC 7386) to the stored
@@ -213,7 +214,7 @@ func (s *server) patchDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	return s.saveDesign(c, current.ID, version, checked.Name, merged)
+	return s.saveDesign(c, current.ID, version, strings.TrimSpace(checked.Name), merged)
 }
 
 func (s *server) saveDesign(c echo.Context, id, version int64, name string, document []byte) error {

@@ -51,3 +51,33 @@ func TestEveryBodyRouteRefusesRepeatedAndMiscasedNames(t *testing.T) {
 		}
 	}
 }
+
+// A body is JSON only when it says so: text, forms and images are 415,
+// whatever they hold; a charset parameter and a merge patch are fine.
+func TestBodiesMustBeJSON(t *testing.T) {
+	a := startShelfAPI(t)
+	c := a.created(a.owner, component("Target motor", "motor"))
+	body := `{"name": "Fan", "kind": "motor"}`
+	for _, tt := range []struct {
+		method, path, contentType string
+		want                      int
+	}{
+		{http.MethodPost, "/v1/components", "text/plain", http.StatusUnsupportedMediaType},
+		{http.MethodPost, "/v1/components", "application/x-www-form-urlencoded", http.StatusUnsupportedMediaType},
+		{http.MethodPost, "/v1/components", "image/png", http.StatusUnsupportedMediaType},
+		{http.MethodPost, "/v1/components", "", http.StatusUnsupportedMediaType},
+		{http.MethodPost, "/v1/reviews", "text/plain", http.StatusUnsupportedMediaType},
+		{http.MethodPost, "/v1/designs", "multipart/form-data; boundary=x", http.StatusUnsupportedMediaType},
+		{http.MethodPost, "/v1/components", "application/json; charset=utf-8", http.StatusCreated},
+		{http.MethodPatch, fmt.Sprintf("/v1/components/%d", c.ID), "application/merge-patch+json", http.StatusOK},
+	} {
+		b := body
+		if tt.method == http.MethodPatch {
+			b = `{"quantity": 3}`
+		}
+		r := a.do(tt.method, tt.path, a.staff, strings.NewReader(b), "Content-Type", tt.contentType, "If-Match", "*")
+		if r.status != tt.want {
+			t.Errorf("%s %s as %q: %d %s, want %d", tt.method, tt.path, tt.contentType, r.status, r.body, tt.want)
+		}
+	}
+}

@@ -3,6 +3,7 @@ package domain
 import (
 	"reflect"
 	"slices"
+	"strings"
 	"time"
 )
 
@@ -65,6 +66,7 @@ type Component struct {
 
 // Defaults fills what a client may leave out.
 func (c *ComponentInput) Defaults() {
+	c.Name, c.Bin = strings.TrimSpace(c.Name), strings.TrimSpace(c.Bin)
 	if c.Condition == "" {
 		c.Condition = "untested"
 	}
@@ -83,6 +85,8 @@ func (c ComponentInput) Validate() error {
 	p.CheckText("/description", c.Description, MaxTextLen, false)
 	p.CheckText("/origin", c.Origin, MaxNameLen*2, false)
 	p.CheckText("/bin", c.Bin, MaxShortFieldLen, false)
+	p.CheckVisible("/name", c.Name)
+	p.CheckVisible("/bin", c.Bin)
 	p.CheckText("/notes", c.Notes, MaxTextLen, false)
 	if c.Quantity < 0 || c.Quantity > MaxQuantity {
 		p.Add("/quantity", "must be between 0 and %d", MaxQuantity)

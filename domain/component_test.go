@@ -270,3 +270,30 @@ func TestComponentJSONIsFlat(t *testing.T) {
 		t.Errorf("absent electrical fields are encoded: %s", body)
 	}
 }
+
+// A name or bin may not hide characters that render as nothing or turn
+// the text around (Unicode categories Cc and Cf), and the space around it
+// is trimmed.
+func TestNamesAreVisibleText(t *testing.T) {
+	for _, bad := range []string{"Fan\u200b", "\u202eevil", "Tab\there", "Bell\a"} {
+		in := validComponent()
+		in.Name, in.Bin = bad, bad
+		if got := problemPointers(t, in.Validate()); !slices.Equal(got, []string{"/name", "/bin"}) {
+			t.Errorf("%q: problems at %v, want /name and /bin", bad, got)
+		}
+	}
+	in := validComponent()
+	in.Name, in.Bin = "  Gear motor \n", " M1 "
+	in.Defaults()
+	if in.Name != "Gear motor" || in.Bin != "M1" {
+		t.Errorf("trimmed to %q and %q", in.Name, in.Bin)
+	}
+	if err := in.Validate(); err != nil {
+		t.Error(err)
+	}
+	in.Name = "   "
+	in.Defaults()
+	if got := problemPointers(t, in.Validate()); !slices.Equal(got, []string{"/name"}) {
+		t.Errorf("a blank name: problems at %v", got)
+	}
+}

@@ -149,6 +149,7 @@ func (d Design) Validate() error {
 		p.Add("/nodes", "is empty: a design needs at least a source and something it feeds")
 	}
 	checkDeclared(&p, "", reflect.ValueOf(&d).Elem(), "", "")
+	p.CheckVisible("/name", d.Name)
 	if p.Len() > 0 && (len(d.Nodes) == 0 || len(d.Nodes) > MaxDesignNodes) {
 		return p.Err()
 	}
@@ -265,6 +266,7 @@ func (n *Node) CheckValues(p *Problems, ptr string) {
 	if strings.TrimSpace(n.ID) == "" {
 		p.Add(ptr+"/id", "is required")
 	}
+	p.CheckVisible(ptr+"/id", n.ID)
 	checkDeclared(p, ptr, reflect.ValueOf(n).Elem(), n.Type, n.Topology)
 	if n.Series != nil && n.Parallel != nil && *n.Series >= 1 && *n.Parallel >= 1 &&
 		*n.Series**n.Parallel > MaxPackCells {

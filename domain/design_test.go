@@ -346,3 +346,15 @@ func TestComponentIDs(t *testing.T) {
 		t.Errorf("empty design: %v", got)
 	}
 }
+
+// Node ids and the design's name are shown on pages: no hidden characters.
+func TestDesignNamesAreVisibleText(t *testing.T) {
+	d := decodeValid(t)
+	d.Name = "cart\u200b"
+	d.Nodes[4].ID = "brain\u202e"
+	d.Nodes[4].Feed = nil
+	ps := problemsOf(t, d.Validate())
+	if !hasProblem(ps, "/name", "U+200B") || !hasProblem(ps, "/nodes/4/id", "U+202E") {
+		t.Errorf("got %v", ps)
+	}
+}

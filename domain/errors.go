@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"unicode"
 )
 
 // The kinds of failure a caller can act on. Store and service code wrap
@@ -101,6 +102,20 @@ func (p *Problems) CheckText(pointer, s string, max int, required bool) {
 	// reaching the database as a 500.
 	if strings.IndexByte(s, 0) >= 0 {
 		p.Add(pointer, "must not contain the NUL character (\\u0000)")
+	}
+}
+
+// CheckVisible records a problem when s, a name or bin shown to people,
+// holds a control or format character: a zero-width space or a
+// right-to-left override renders as nothing, or turns what follows
+// around, and lets one part pass for another on the kiosk.
+// Space around it is left to the caller, which trims it.
+func (p *Problems) CheckVisible(pointer, s string) {
+	for _, r := range strings.TrimSpace(s) {
+		if r != 0 && (unicode.IsControl(r) || unicode.Is(unicode.Cf, r)) {
+			p.Add(pointer, "must not contain the control or invisible character U+%04X", r)
+			return
+		}
 	}
 }
 
