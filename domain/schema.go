@@ -62,7 +62,7 @@ func DesignSchema() []byte {
 		panic(fmt.Sprintf("encode the design schema: %v", err)) // maps of plain values always encode
 	}
 	v := jsontext.Value(out)
-	if err := v.Indent(); err != nil {
+	if err := v.Indent(jsontext.WithIndent("  ")); err != nil {
 		panic(fmt.Sprintf("indent the design schema: %v", err))
 	}
 	return append(v, '\n')

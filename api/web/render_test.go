@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"io/fs"
 	"math"
+	"os"
 	"path"
 	"regexp"
 	"slices"
@@ -237,5 +238,33 @@ func TestReportWithoutItsDocument(t *testing.T) {
 	}
 	if n := len(plotSVG.FindAllString(html, -1)); n != len(in.Report.Runtime) {
 		t.Errorf("%d discharge plots for %d batteries", n, len(in.Report.Runtime))
+	}
+}
+
+// A review stored as a format 1 report (each check with its own basis and
+// one threshold) still renders as it was stored: every finding, its value
+// and threshold, and its basis.
+func TestFormat1ReportStillRenders(t *testing.T) {
+	raw, err := os.ReadFile("../../domain/review/testdata/format1/fume-fan.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep, err := review.ReadStored(raw)
+	if err != nil {
+		t.Fatal(err)
+	}
+	html := renderReportHTML(t, mustViews(t), ReportInput{DesignName: "Fume fan", Report: rep})
+	for _, want := range []string{
+		"pack lasts about",                         // a message
+		"33 CFR 183.455",                           // a basis
+		"review engine 1",                          // the engine that made it
+		`data-status="warn"`, `data-status="pass"`, // its findings
+	} {
+		if !strings.Contains(html, want) {
+			t.Errorf("the page of a format 1 report lacks %q", want)
+		}
+	}
+	if got := strings.Count(html, "<tr data-status="); got != rep.Counts.Pass+rep.Counts.Warn+rep.Counts.Fail {
+		t.Errorf("%d findings drawn, the report counts %d", got, rep.Counts.Pass+rep.Counts.Warn+rep.Counts.Fail)
 	}
 }
