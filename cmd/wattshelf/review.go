@@ -14,6 +14,8 @@ import (
 	"strconv"
 	"strings"
 	"time"
+
+	apiclient "wattshelf/api/client"
 )
 
 // Exit statuses of `wattshelf review`, worst last: the command exits with
@@ -137,16 +139,6 @@ type reviewReport struct {
 	} `json:"checks"`
 }
 
-// problemReply is the part of an RFC 9457 problem document worth showing.
-type problemReply struct {
-	Title  string `json:"title"`
-	Detail string `json:"detail"`
-	Errors []struct {
-		Pointer string `json:"pointer"`
-		Detail  string `json:"detail"`
-	} `json:"errors"`
-}
-
 // reviewFile reviews one file and returns its exit status.
 func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, file string, stdin io.Reader, stdout, stderr io.Writer) int {
 	var doc []byte
@@ -161,16 +153,17 @@ func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, fi
 		return reviewExitRejected
 	}
 	status, body, err := postForReview(ctx, client, opts, doc)
-	if err != nil {
+	var problem *apiclient.Problem
+	if err != nil && !errors.As(err, &problem) {
 		fmt.Fprintf(stderr, "%s: cannot reach %s: %v\n", file, opts.server, err)
 		return reviewExitUnreachable
 	}
 	switch {
 	case status >= 500 || status == http.StatusTooManyRequests:
-		fmt.Fprintf(stderr, "%s: the service could not review it (HTTP %d)%s\n", file, status, describeProblem(body))
+		fmt.Fprintf(stderr, "%s: the service could not review it (HTTP %d)%s\n", file, status, describeProblem(err))
 		return reviewExitUnreachable
 	case status >= 400:
-		fmt.Fprintf(stderr, "%s: rejected (HTTP %d)%s\n", file, status, describeProblem(body))
+		fmt.Fprintf(stderr, "%s: rejected (HTTP %d)%s\n", file, status, describeProblem(err))
 		return reviewExitRejected
 	case status != http.StatusOK:
 		fmt.Fprintf(stderr, "%s: unexpected answer HTTP %d\n", file, status)
@@ -195,24 +188,28 @@ func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, fi
 	return reviewExitClean
 }
 
-// postForReview sends one document, waiting out rate limits, and returns
-// the answer's status and body; err is set only when no answer came.
-func postForReview(ctx context.Context, client *http.Client, opts reviewOptions, doc []byte) (int, []byte, error) {
-	target := opts.server + "/v1/reviews"
+// postForReview sends one document through the API client, waiting out
+// rate limits, and returns the answer's status and body; err is set only
+// when no answer came.
+func postForReview(ctx context.Context, httpc *http.Client, opts reviewOptions, doc []byte) (int, []byte, error) {
+	api, err := apiclient.NewClient(opts.server, apiclient.WithHTTPClient(httpc),
+		apiclient.WithRequestEditorFn(func(_ context.Context, req *http.Request) error {
+			req.Header.Set("Accept", "application/json, application/problem+json")
+			if opts.token != "" {
+				req.Header.Set("Authorization", "Bearer "+opts.token)
+			}
+			return nil
+		}))
+	if err != nil {
+		return 0, nil, err
+	}
+	var params apiclient.PostV1ReviewsParams
 	if opts.limitsVersion > 0 {
-		target += "?limits_version=" + strconv.Itoa(opts.limitsVersion)
+		v := apiclient.ReviewAgainstLimitsVersion(opts.limitsVersion)
+		params.LimitsVersion = &v
 	}
 	for attempt := 0; ; attempt++ {
-		req, err := http.NewRequestWithContext(ctx, http.MethodPost, target, bytes.NewReader(doc))
-		if err != nil {
-			return 0, nil, err
-		}
-		req.Header.Set("Content-Type", "application/json")
-		req.Header.Set("Accept", "application/json, application/problem+json")
-		if opts.token != "" {
-			req.Header.Set("Authorization", "Bearer "+opts.token)
-		}
-		resp, err := client.Do(req)
+		resp, err := api.PostV1ReviewsWithBody(ctx, &params, "application/json", bytes.NewReader(doc))
 		if err != nil {
 			return 0, nil, err
 		}
@@ -222,6 +219,9 @@ func postForReview(ctx context.Context, client *http.Client, opts reviewOptions,
 			return 0, nil, fmt.Errorf("read the answer: %w", err)
 		}
 		if resp.StatusCode != http.StatusTooManyRequests || attempt == reviewRetries {
+			if p := apiclient.ProblemOf(resp, body); p != nil {
+				return resp.StatusCode, body, p
+			}
 			return resp.StatusCode, body, nil
 		}
 		wait, err := strconv.Atoi(resp.Header.Get("Retry-After"))
@@ -236,24 +236,13 @@ func postForReview(ctx context.Context, client *http.Client, opts reviewOptions,
 	}
 }
 
-func describeProblem(body []byte) string {
-	var p problemReply
-	if json.Unmarshal(body, &p) != nil || (p.Title == "" && p.Detail == "") {
+// describeProblem says what a problem document told, one field a line.
+func describeProblem(err error) string {
+	var p *apiclient.Problem
+	if !errors.As(err, &p) {
 		return ""
 	}
-	var b strings.Builder
-	b.WriteString(": " + p.Title)
-	if p.Detail != "" {
-		b.WriteString(" (" + p.Detail + ")")
-	}
-	for _, e := range p.Errors {
-		ptr := e.Pointer
-		if ptr == "" {
-			ptr = "(document)"
-		}
-		fmt.Fprintf(&b, "\n  %s: %s", ptr, e.Detail)
-	}
-	return b.String()
+	return ": " + p.Error()
 }
 
 // statusRank orders statuses; out_of_scope ranks with fail, since such a
