@@ -255,9 +255,40 @@ func (s *Store) DeleteComponent(ctx context.Context, actor domain.User, id, expe
 	})
 }
 
+// ShelfFilter narrows the public shelf. Zero values do not filter.
+type ShelfFilter struct {
+	// Query's words must each appear, in any case, somewhere in a part's
+	// name, kind, bin, description or origin.
+	Query string
+	Kind  string
+	Bin   string
+}
+
+// shelfWhere is the filter's condition on components, its parameters
+// numbered from first. The patterns are bound as one array, so any
+// number of words costs one parameter.
+func (f ShelfFilter) shelfWhere(first int) (string, []any) {
+	words := strings.Fields(f.Query)
+	patterns := make([]string, len(words))
+	for i, w := range words {
+		patterns[i] = "%" + escapeLike(w) + "%"
+	}
+	where := fmt.Sprintf(`($%d = '' OR kind = $%d) AND ($%d = '' OR bin = $%d)
+		AND (name || ' ' || kind || ' ' || bin || ' ' || description || ' ' || origin) ILIKE ALL ($%d::text[])`,
+		first, first, first+1, first+1, first+2)
+	return where, []any{f.Kind, f.Bin, patterns}
+}
+
 // Shelf returns the public view of every component, by bin then name.
 func (s *Store) Shelf(ctx context.Context) ([]domain.ShelfItem, error) {
-	rows, err := s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components ORDER BY bin, name, id`)
+	return s.ShelfMatching(ctx, ShelfFilter{})
+}
+
+// ShelfMatching returns the public view of every component that f lets
+// through, by bin then name.
+func (s *Store) ShelfMatching(ctx context.Context, f ShelfFilter) ([]domain.ShelfItem, error) {
+	where, args := f.shelfWhere(1)
+	rows, err := s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components WHERE `+where+` ORDER BY bin, name, id`, args...)
 	if err != nil {
 		return nil, fmt.Errorf("read shelf: %w", err)
 	}
@@ -266,6 +297,29 @@ func (s *Store) Shelf(ctx context.Context) ([]domain.ShelfItem, error) {
 		return nil, fmt.Errorf("read shelf: %w", err)
 	}
 	return items, nil
+}
+
+// ShelfKindCounts counts, per kind, the parts that f's query and bin let
+// through; f.Kind is left out, so a kiosk can show what each kind would
+// hold. Kinds with no such part are absent.
+func (s *Store) ShelfKindCounts(ctx context.Context, f ShelfFilter) (map[string]int, error) {
+	f.Kind = ""
+	where, args := f.shelfWhere(1)
+	rows, err := s.pool.Query(ctx, `SELECT kind, count(*) FROM components WHERE `+where+` GROUP BY kind`, args...)
+	if err != nil {
+		return nil, fmt.Errorf("count shelf kinds: %w", err)
+	}
+	counts := map[string]int{}
+	var kind string
+	var n int
+	_, err = pgx.ForEachRow(rows, []any{&kind, &n}, func() error {
+		counts[kind] = n
+		return nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("count shelf kinds: %w", err)
+	}
+	return counts, nil
 }
 
 // ShelfCursor is where a page of the shelf ends, in shelf order.
@@ -294,19 +348,18 @@ func scanShelfItem(row pgx.Row) (domain.ShelfItem, error) {
 	return it, nil
 }
 
-// ShelfPage returns up to limit shelf items after cursor (nil: from the
-// start) in shelf order, and whether more follow. It walks the (bin,
-// name, id) index, so every page costs the same however deep it is.
-func (s *Store) ShelfPage(ctx context.Context, after *ShelfCursor, limit int) ([]domain.ShelfItem, bool, error) {
-	var rows pgx.Rows
-	var err error
+// ShelfPage returns up to limit shelf items that f lets through after
+// cursor (nil: from the start) in shelf order, and whether more follow.
+// Unfiltered, it walks the (bin, name, id) index, so every page costs the
+// same however deep it is.
+func (s *Store) ShelfPage(ctx context.Context, f ShelfFilter, after *ShelfCursor, limit int) ([]domain.ShelfItem, bool, error) {
+	where, args := f.shelfWhere(1)
 	if after == nil {
-		rows, err = s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components ORDER BY bin, name, id LIMIT $1`, limit+1)
-	} else {
-		rows, err = s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components
-			WHERE (bin, name, id) > ($1, $2, $3) ORDER BY bin, name, id LIMIT $4`,
-			after.Bin, after.Name, after.ID, limit+1)
+		after = &ShelfCursor{} // every row sorts after ('', '', 0): ids start at 1
 	}
+	args = append(args, after.Bin, after.Name, after.ID, limit+1)
+	rows, err := s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components
+		WHERE `+where+` AND (bin, name, id) > ($4, $5, $6) ORDER BY bin, name, id LIMIT $7`, args...)
 	if err != nil {
 		return nil, false, fmt.Errorf("read shelf page: %w", err)
 	}
