@@ -15,7 +15,6 @@ import (
 	"net/http"
 	"strconv"
 	"strings"
-	"time"
 	"unicode/utf8"
 
 	"github.com/labstack/echo/v4"
@@ -26,7 +25,8 @@ import (
 
 // Source is what the pages read; *store.Store provides it.
 type Source interface {
-	Shelf(ctx context.Context) ([]domain.ShelfItem, error)
+	ShelfPage(ctx context.Context, f store.ShelfFilter, after *store.ShelfCursor, limit int) ([]domain.ShelfItem, bool, error)
+	ShelfKindCounts(ctx context.Context, f store.ShelfFilter) (map[string]int, error)
 	Component(ctx context.Context, id int64) (domain.Component, error)
 	ComponentsByID(ctx context.Context, ids []int64) (map[int64]domain.Component, error)
 	ReviewByShareID(ctx context.Context, shareID string) (store.SharedReview, error)
@@ -39,15 +39,10 @@ type Deps struct {
 	// PublicBaseURL is printed into QR codes; empty means the scheme and
 	// host the request came to.
 	PublicBaseURL string
+	// WallByDefault makes /shelf the wall screen; ?wall=0 still shows the
+	// ordinary page.
+	WallByDefault bool
 }
-
-// Kiosk refresh bounds. A test may ask for a shorter interval with
-// ?refresh_s=N; nobody can make the kiosk poll faster than once a second.
-const (
-	defaultRefresh = 15 * time.Second
-	minRefresh     = time.Second
-	maxRefresh     = 30 * time.Second
-)
 
 type pages struct {
 	deps  Deps
@@ -96,24 +91,20 @@ func securityHeaders(next echo.HandlerFunc) echo.HandlerFunc {
 	}
 }
 
-// shelfFilter is what the kiosk's search form asks for.
-type shelfFilter struct {
-	Query string
-	Kind  string
-}
-
 func (p *pages) kiosk(c echo.Context) error {
-	items, err := p.deps.Source.Shelf(c.Request().Context())
+	q := parseKioskQuery(c.QueryParams(), p.deps.WallByDefault)
+	ctx := c.Request().Context()
+	items, more, err := p.deps.Source.ShelfPage(ctx, q.filter, q.after, q.options.Limit)
 	if err != nil {
 		return p.failure(c, err)
 	}
-	f := shelfFilter{Query: limitText(c.QueryParam("q"), domain.MaxNameLen), Kind: c.QueryParam("kind")}
-	refresh := defaultRefresh
-	if s, err := strconv.Atoi(c.QueryParam("refresh_s")); err == nil {
-		refresh = min(max(time.Duration(s)*time.Second, minRefresh), maxRefresh)
+	counts, err := p.deps.Source.ShelfKindCounts(ctx, q.filter)
+	if err != nil {
+		return p.failure(c, err)
 	}
+	c.Response().Header().Set("Cache-Control", "no-cache")
 	return p.html(c, http.StatusOK, func(w *strings.Builder) error {
-		return p.views.renderKiosk(w, kioskView(items, f, refresh))
+		return p.views.renderKiosk(w, kioskView(items, more, counts, q))
 	})
 }
 
