@@ -264,19 +264,30 @@ type ShelfFilter struct {
 	Bin   string
 }
 
-// shelfWhere is the filter's condition on components, its parameters
-// numbered from first. The patterns are bound as one array, so any
-// number of words costs one parameter.
-func (f ShelfFilter) shelfWhere(first int) (string, []any) {
-	words := strings.Fields(f.Query)
-	patterns := make([]string, len(words))
-	for i, w := range words {
-		patterns[i] = "%" + escapeLike(w) + "%"
+// shelfSearchText is what a shelf search looks in; migration 0010 keeps
+// a trigram index on this very expression, so a word of three letters or
+// more is found without reading the whole table.
+const shelfSearchText = `(name || ' ' || kind || ' ' || bin || ' ' || description || ' ' || origin)`
+
+// shelfWhere is the filter's condition on components, with its arguments
+// appended to args (numbered on from them). Only the filters in use are
+// written, one ILIKE per word, so each can use its index.
+func (f ShelfFilter) shelfWhere(args []any) (string, []any) {
+	conds := []string{"true"}
+	add := func(cond string, arg any) {
+		args = append(args, arg)
+		conds = append(conds, fmt.Sprintf(cond, len(args)))
 	}
-	where := fmt.Sprintf(`($%d = '' OR kind = $%d) AND ($%d = '' OR bin = $%d)
-		AND (name || ' ' || kind || ' ' || bin || ' ' || description || ' ' || origin) ILIKE ALL ($%d::text[])`,
-		first, first, first+1, first+1, first+2)
-	return where, []any{f.Kind, f.Bin, patterns}
+	if f.Kind != "" {
+		add("kind = $%d", f.Kind)
+	}
+	if f.Bin != "" {
+		add("bin = $%d", f.Bin)
+	}
+	for _, w := range strings.Fields(f.Query) {
+		add(shelfSearchText+" ILIKE $%d", "%"+escapeLike(w)+"%")
+	}
+	return strings.Join(conds, " AND "), args
 }
 
 // Shelf returns the public view of every component, by bin then name.
@@ -287,7 +298,7 @@ func (s *Store) Shelf(ctx context.Context) ([]domain.ShelfItem, error) {
 // ShelfMatching returns the public view of every component that f lets
 // through, by bin then name.
 func (s *Store) ShelfMatching(ctx context.Context, f ShelfFilter) ([]domain.ShelfItem, error) {
-	where, args := f.shelfWhere(1)
+	where, args := f.shelfWhere(nil)
 	rows, err := s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components WHERE `+where+` ORDER BY bin, name, id`, args...)
 	if err != nil {
 		return nil, fmt.Errorf("read shelf: %w", err)
@@ -304,7 +315,7 @@ func (s *Store) ShelfMatching(ctx context.Context, f ShelfFilter) ([]domain.Shel
 // hold. Kinds with no such part are absent.
 func (s *Store) ShelfKindCounts(ctx context.Context, f ShelfFilter) (map[string]int, error) {
 	f.Kind = ""
-	where, args := f.shelfWhere(1)
+	where, args := f.shelfWhere(nil)
 	rows, err := s.pool.Query(ctx, `SELECT kind, count(*) FROM components WHERE `+where+` GROUP BY kind`, args...)
 	if err != nil {
 		return nil, fmt.Errorf("count shelf kinds: %w", err)
@@ -353,13 +364,12 @@ func scanShelfItem(row pgx.Row) (domain.ShelfItem, error) {
 // Unfiltered, it walks the (bin, name, id) index, so every page costs the
 // same however deep it is.
 func (s *Store) ShelfPage(ctx context.Context, f ShelfFilter, after *ShelfCursor, limit int) ([]domain.ShelfItem, bool, error) {
-	where, args := f.shelfWhere(1)
 	if after == nil {
 		after = &ShelfCursor{} // every row sorts after ('', '', 0): ids start at 1
 	}
-	args = append(args, after.Bin, after.Name, after.ID, limit+1)
+	where, args := f.shelfWhere([]any{after.Bin, after.Name, after.ID, limit + 1})
 	rows, err := s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components
-		WHERE `+where+` AND (bin, name, id) > ($4, $5, $6) ORDER BY bin, name, id LIMIT $7`, args...)
+		WHERE (bin, name, id) > ($1, $2, $3) AND `+where+` ORDER BY bin, name, id LIMIT $4`, args...)
 	if err != nil {
 		return nil, false, fmt.Errorf("read shelf page: %w", err)
 	}

@@ -1,0 +1,1 @@
+DROP INDEX components_shelf_text_idx;
