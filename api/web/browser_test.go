@@ -75,6 +75,12 @@ func newSite(t *testing.T) *site { return newSiteAt(t, "") }
 // codes; "" means the address each request came to.
 func newSiteAt(t *testing.T, publicBaseURL string) *site {
 	t.Helper()
+	return newSiteWith(t, func(cfg *api.Config) { cfg.PublicBaseURL = publicBaseURL })
+}
+
+// newSiteWith is newSite with the router's configuration changed.
+func newSiteWith(t *testing.T, configure func(*api.Config)) *site {
+	t.Helper()
 	ctx := context.Background()
 	st, _ := storetest.NewStore(t)
 	demo := store.DemoData{ShelfKeeper: "demo-shelf-keeper"}
@@ -102,8 +108,9 @@ func newSiteAt(t *testing.T, publicBaseURL string) *site {
 	if err != nil {
 		t.Fatal(err)
 	}
-	router, err := api.New(api.Config{Store: st, Logger: slog.New(slog.NewTextHandler(io.Discard, nil)),
-		Registry: prometheus.NewRegistry(), PublicBaseURL: publicBaseURL})
+	cfg := api.Config{Store: st, Logger: slog.New(slog.NewTextHandler(io.Discard, nil)), Registry: prometheus.NewRegistry()}
+	configure(&cfg)
+	router, err := api.New(cfg)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -898,6 +905,25 @@ func TestQRCodesUseTheConfiguredAddress(t *testing.T) {
 		res.Body.Close()
 		if got, want := decodeQR(t, body), "http://shelf.local:8080/shelf/"+id; got != want {
 			t.Errorf("code reads %q, want %q", got, want)
+		}
+	}
+}
+
+// With the wall made the default, /shelf is the wall screen, and
+// ?wall=0 still gives the ordinary page; without it, the reverse.
+func TestKioskWallSetting(t *testing.T) {
+	for _, byDefault := range []bool{false, true} {
+		s := newSiteWith(t, func(cfg *api.Config) { cfg.KioskWall = byDefault })
+		for query, want := range map[string]bool{"": byDefault, "?wall=1": true, "?wall=0": false} {
+			res, err := http.Get(s.srv.URL + "/shelf" + query)
+			if err != nil {
+				t.Fatal(err)
+			}
+			body, _ := io.ReadAll(res.Body)
+			res.Body.Close()
+			if got := bytes.Contains(body, []byte(`<body class="kiosk wall">`)); got != want || res.StatusCode != http.StatusOK {
+				t.Errorf("wall by default %t, /shelf%s: %d, wall %t, want %t", byDefault, query, res.StatusCode, got, want)
+			}
 		}
 	}
 }

@@ -9,6 +9,7 @@ import (
 	"net"
 	"net/http"
 	"runtime/debug"
+	"strconv"
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
@@ -45,6 +46,12 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	proxies, err := api.ParseTrustedProxies(env.trustedProxies)
 	if err != nil {
 		return &exitError{code: 2, msg: "WATTSHELF_TRUSTED_PROXIES: " + err.Error()}
+	}
+	kioskWall := false
+	if env.kioskWall != "" {
+		if kioskWall, err = strconv.ParseBool(env.kioskWall); err != nil {
+			return &exitError{code: 2, msg: "WATTSHELF_KIOSK_WALL: want true or false, not " + strconv.Quote(env.kioskWall)}
+		}
 	}
 	if !env.gcTuned {
 		debug.SetGCPercent(serveGCPercent)
@@ -85,7 +92,7 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	}
 	handler, err := api.New(api.Config{
 		Store: st, Tokens: tokens, Writes: writer, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
-		TrustedProxies: proxies,
+		TrustedProxies: proxies, KioskWall: kioskWall,
 	})
 	if err != nil {
 		return err
