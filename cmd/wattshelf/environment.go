@@ -20,7 +20,7 @@ type environment struct {
 	trustedProxies string
 	// kioskWall: WATTSHELF_KIOSK_WALL, parsed by serve.
 	kioskWall string
-	logLevel       slog.Level
+	logLevel  slog.Level
 	// gcTuned: the operator set GOGC or GOMEMLIMIT, and serve leaves the
 	// collector as they said.
 	gcTuned bool
