@@ -16,7 +16,7 @@ type ComponentFilter struct {
 	Kind    string
 	Query   string // matched in name and description
 	Bin     string
-	FitsV   *float64 // components whose voltage window contains this
+	FitsV   *float64 // components whose supply window (domain.Electrical.SupplyWindow) holds this
 	AfterID int64    // cursor: list ids above this
 	Limit   int
 }
@@ -163,6 +163,16 @@ func escapeLike(s string) string {
 	return strings.NewReplacer(`\`, `\\`, `%`, `\%`, `_`, `\_`).Replace(s)
 }
 
+// supplyWindowHolds is domain.Electrical.SupplyWindow in SQL: the window
+// holds $5 volts, with the tolerance around a rated or nominal voltage in
+// $7. Where the high end is unknown the comparison is NULL, so the part
+// is not listed. TestFitsVoltageAgreesWithTheDomain holds the two alike.
+const supplyWindowHolds = `(
+	coalesce((electrical ->> 'min_v')::double precision, (electrical ->> 'min_input_v')::double precision,
+		coalesce((electrical ->> 'rated_v')::double precision, (electrical ->> 'nominal_v')::double precision) * (1 - $7::double precision), 0) <= $5
+	AND $5 <= coalesce((electrical ->> 'max_v')::double precision, (electrical ->> 'max_input_v')::double precision,
+		coalesce((electrical ->> 'rated_v')::double precision, (electrical ->> 'nominal_v')::double precision) * (1 + $7::double precision)))`
+
 // ListComponents returns up to f.Limit components in id order after
 // f.AfterID, and whether more follow.
 func (s *Store) ListComponents(ctx context.Context, f ComponentFilter) ([]domain.Component, bool, error) {
@@ -179,9 +189,9 @@ func (s *Store) ListComponents(ctx context.Context, f ComponentFilter) ([]domain
 		  AND ($2 = '' OR kind = $2)
 		  AND ($3 = '' OR bin = $3)
 		  AND ($4 = '' OR (name || ' ' || description) ILIKE '%' || $4 || '%')
-		  AND ($5::double precision IS NULL OR (window_low_v <= $5 AND window_high_v >= $5))
+		  AND ($5::double precision IS NULL OR `+supplyWindowHolds+`)
 		ORDER BY id LIMIT $6`,
-		f.AfterID, f.Kind, f.Bin, escapeLike(f.Query), fits, limit+1)
+		f.AfterID, f.Kind, f.Bin, escapeLike(f.Query), fits, limit+1, domain.RatedVoltageTolerance)
 	if err != nil {
 		return nil, false, fmt.Errorf("list components: %w", err)
 	}

@@ -1,1 +1,0 @@
-DROP INDEX components_shelf_text_idx;
