@@ -352,6 +352,28 @@ func luminance(hex string) float64 {
 	return 0.2126*channel(0) + 0.7152*channel(1) + 0.0722*channel(2)
 }
 
+// The report's headline counts in words that agree with the count.
+func TestHeadlineCounts(t *testing.T) {
+	cases := []struct {
+		status           review.Status
+		pass, warn, fail int
+		want             string
+	}{
+		{review.Fail, 3, 0, 1, "1 check failed. Do not connect the battery until it is put right."},
+		{review.Fail, 3, 0, 2, "2 checks failed. Do not connect the battery until they are put right."},
+		{review.Warn, 3, 1, 0, "No check failed, but 1 finding needs a look before you connect the battery."},
+		{review.Warn, 3, 4, 0, "No check failed, but 4 findings need a look before you connect the battery."},
+		{review.Pass, 1, 0, 0, "The one check passed. Inspect the build before you connect the battery all the same."},
+	}
+	for _, tc := range cases {
+		rep := review.Report{Status: tc.status}
+		rep.Counts.Pass, rep.Counts.Warn, rep.Counts.Fail = tc.pass, tc.warn, tc.fail
+		if got := headline(rep); got != tc.want {
+			t.Errorf("%s %d/%d/%d: %q, want %q", tc.status, tc.pass, tc.warn, tc.fail, got, tc.want)
+		}
+	}
+}
+
 func TestFormatNumber(t *testing.T) {
 	cases := map[float64]string{0: "0", 0.0815: "0.0815", 1.3249: "1.32", 14.4: "14.4", 14800: "14800",
 		-2.5: "-2.5", 100: "100", 0.5: "0.5", 12.0: "12"}
