@@ -549,7 +549,8 @@ const wholeParts = `(() => {
 // network or a server that goes away leaves the last page up with a
 // notice, and paging carries on when they are back.
 func TestWallInBrowser(t *testing.T) {
-	s := newSite(t)
+	// A wall set up as the README says, with the address phones use.
+	s := newSiteAt(t, "http://shelf.example:8080")
 	b := newBrowser(t)
 	all := make([]string, len(s.components))
 	for i, c := range s.components {
@@ -905,6 +906,38 @@ func TestQRCodesUseTheConfiguredAddress(t *testing.T) {
 		res.Body.Close()
 		if got, want := decodeQR(t, body), "http://shelf.local:8080/shelf/"+id; got != want {
 			t.Errorf("code reads %q, want %q", got, want)
+		}
+	}
+}
+
+// GET / leads to the shelf; the kiosk tells the staff when its codes
+// carry an address only this machine can open.
+func TestHomeAndLoopbackNotice(t *testing.T) {
+	client := &http.Client{CheckRedirect: func(*http.Request, []*http.Request) error { return http.ErrUseLastResponse }}
+	for _, tc := range []struct {
+		public string
+		notice bool
+	}{{"", true}, {"http://localhost:8080", true}, {"http://shelf.example:8080", false}} {
+		s := newSiteAt(t, tc.public)
+		res, err := client.Get(s.srv.URL + "/")
+		if err != nil {
+			t.Fatal(err)
+		}
+		res.Body.Close()
+		if res.StatusCode != http.StatusSeeOther || res.Header.Get("Location") != "/shelf" {
+			t.Errorf("GET /: %d to %q, want 303 to /shelf", res.StatusCode, res.Header.Get("Location"))
+		}
+		res, err = http.Get(s.srv.URL + "/shelf?wall=1")
+		if err != nil {
+			t.Fatal(err)
+		}
+		body, _ := io.ReadAll(res.Body)
+		res.Body.Close()
+		if got := bytes.Contains(body, []byte(`id="staff-notice"`)); got != tc.notice {
+			t.Errorf("public address %q: staff notice %t, want %t", tc.public, got, tc.notice)
+		}
+		if tc.notice && !bytes.Contains(body, []byte("WATTSHELF_PUBLIC_URL")) {
+			t.Errorf("public address %q: the notice does not name the setting", tc.public)
 		}
 	}
 }

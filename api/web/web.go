@@ -61,6 +61,7 @@ func Register(e *echo.Echo, deps Deps) error {
 	p := &pages{deps: deps, views: v}
 	// Per route, not a group: a group's middleware would also claim every
 	// unmatched path of the whole service.
+	e.GET("/", p.home, securityHeaders)
 	e.GET("/shelf", p.kiosk, securityHeaders)
 	e.GET("/shelf/:id", p.component, securityHeaders)
 	e.GET("/shelf/:id/qr.svg", p.qrSVG, securityHeaders)
@@ -91,6 +92,11 @@ func securityHeaders(next echo.HandlerFunc) echo.HandlerFunc {
 	}
 }
 
+// home sends a visitor at the bare address to the shelf.
+func (p *pages) home(c echo.Context) error {
+	return c.Redirect(http.StatusSeeOther, "/shelf")
+}
+
 func (p *pages) kiosk(c echo.Context) error {
 	q := parseKioskQuery(c.QueryParams(), p.deps.WallByDefault)
 	ctx := c.Request().Context()
@@ -102,9 +108,14 @@ func (p *pages) kiosk(c echo.Context) error {
 	if err != nil {
 		return p.failure(c, err)
 	}
+	page := kioskView(items, more, counts, q)
+	if base := p.publicBase(c.Scheme(), c.Request().Host); LoopbackURL(base) {
+		page.StaffNotice = "the codes on this screen open " + base + ", which no phone can reach. " +
+			"Set WATTSHELF_PUBLIC_URL to the address phones reach this server by, and restart it."
+	}
 	c.Response().Header().Set("Cache-Control", "no-cache")
 	return p.html(c, http.StatusOK, func(w *strings.Builder) error {
-		return p.views.renderKiosk(w, kioskView(items, more, counts, q))
+		return p.views.renderKiosk(w, page)
 	})
 }
 
@@ -200,11 +211,7 @@ func (p *pages) reportInput(ctx context.Context, rec store.SharedReview) (Report
 
 // componentAddress is the public address of a component's page.
 func (p *pages) componentAddress(c echo.Context, id int64) string {
-	base := strings.TrimRight(p.deps.PublicBaseURL, "/")
-	if base == "" {
-		base = c.Scheme() + "://" + c.Request().Host
-	}
-	return base + "/shelf/" + strconv.FormatInt(id, 10)
+	return p.publicBase(c.Scheme(), c.Request().Host) + "/shelf/" + strconv.FormatInt(id, 10)
 }
 
 // html renders into a buffer first, so a template error becomes an error

@@ -103,6 +103,9 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	}
 	srv := newHTTPServer(handler)
 	logger.Info("serving", "addr", "http://"+ln.Addr().String(), "demo", *demo)
+	if warning := publicAddressWarning(env.publicURL, ln.Addr().String()); warning != "" {
+		logger.Warn(warning)
+	}
 	if *debugAddr != "" {
 		stopDebug, err := serveDebug(*debugAddr, logger)
 		if err != nil {
