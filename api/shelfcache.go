@@ -7,8 +7,7 @@ import (
 )
 
 // Bounds of the shelf cache: a page of 200 items encodes to about 120 KB,
-// and a kiosk polls the whole shelf, so a few megabytes hold every page
-// anyone reads between two changes.
+// so a few megabytes hold every page anyone reads between two changes.
 const (
 	shelfCacheMaxBytes   = 8 << 20
 	shelfCacheMaxEntries = 512
