@@ -758,6 +758,10 @@ func TestPagesAt360InBrowser(t *testing.T) {
 				.slice(0, 5).map(e => e.tagName + '.' + e.className)`))
 			t.Errorf("%s at 360 px is %.0f px wide: %q", path, width, wide)
 		}
+		// A wall's address on a phone is the ordinary page, which scrolls.
+		if strings.Contains(path, "wall=1") && !get(t, b, chromedp.Evaluate[bool](`(`+visibleNames+`).length >= 5 && document.documentElement.scrollHeight > innerHeight`)) {
+			t.Errorf("%s at 360 px does not show the page's parts to scroll through", path)
+		}
 		text := get(t, b, chromedp.Evaluate[textReport](textCheck+"(true)"))
 		if text.Smallest < 14 { // common practice: no text under 14 px on a phone
 			t.Errorf("%s at 360 px: %q is %.1f px", path, text.SmallestText, text.Smallest)

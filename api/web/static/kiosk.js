@@ -17,7 +17,10 @@
   var kindSelect = form.querySelector('select[name="kind"]');
   var stateLine = document.getElementById('shelf-state');
   var pausedLine = document.getElementById('shelf-paused');
-  var wall = main.getAttribute('data-wall') === '1';
+  // A wall's address opened on a screen too small for a wall (a phone)
+  // behaves as the ordinary page; site.css asks the same question.
+  var wallScreen = window.matchMedia('(min-width: 48em) and (min-height: 32em)');
+  var wall = main.getAttribute('data-wall') === '1' && wallScreen.matches;
   var refreshMs = Number(main.getAttribute('data-refresh-ms')) || 15000;
   var everyMs = Number(main.getAttribute('data-every-ms')) || 12000;
   var idleMs = Number(main.getAttribute('data-idle-ms')) || 60000;
