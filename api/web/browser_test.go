@@ -676,7 +676,7 @@ func TestFocusStaysInViewInBrowser(t *testing.T) {
 	b.do(t, chromedp.EmulateViewport(1920, 1080))
 	b.do(t, chromedp.Navigate(s.srv.URL+"/shelf?limit=100"), chromedp.WaitVisible(chromedp.CSS("#shelf-list li.card")))
 	// The ordinary page reads from two metres too.
-	if text := get(t, b, chromedp.Evaluate[textReport](textCheck + "(false)")); text.Smallest < 18 || len(text.Italic) > 0 || text.Lowest < 4.5 {
+	if text := get(t, b, chromedp.Evaluate[textReport](textCheck+"(false)")); text.Smallest < 18 || len(text.Italic) > 0 || text.Lowest < 4.5 {
 		t.Errorf("ordinary page at 1920×1080: smallest %q %.1f px, italic %q, lowest contrast %q %.2f:1",
 			text.SmallestText, text.Smallest, text.Italic, text.LowestText, text.Lowest)
 	}
