@@ -306,6 +306,7 @@
   }
 
   if (wall) {
+    document.documentElement.classList.add('paging');
     ['pointerdown', 'keydown', 'wheel', 'touchstart'].forEach(function (name) {
       document.addEventListener(name, pause, { passive: true });
     });
