@@ -10,6 +10,7 @@ import (
 	"io"
 	"io/fs"
 	"log/slog"
+	"math"
 	"net/http"
 	"net/http/httptest"
 	"net/url"
@@ -664,6 +665,26 @@ func TestWallInBrowser(t *testing.T) {
 	b.mu.Lock()
 	b.problems = slices.DeleteFunc(b.problems, func(p string) bool { return strings.Contains(p, "network") })
 	b.mu.Unlock()
+	b.checkStayedHome(t, s.srv.URL)
+}
+
+// The wall's text follows the screen's long edge, with no cap: the same
+// in portrait as in landscape, twice as large on a 4K screen.
+func TestWallTextFollowsTheLongEdgeInBrowser(t *testing.T) {
+	s := newSiteAt(t, "http://shelf.example:8080")
+	b := newBrowser(t)
+	size := map[string]float64{}
+	for _, screen := range []struct {
+		name string
+		w, h int64
+	}{{"landscape", 1920, 1080}, {"portrait", 1080, 1920}, {"4K", 3840, 2160}} {
+		b.do(t, chromedp.EmulateViewport(screen.w, screen.h))
+		b.do(t, chromedp.Navigate(s.srv.URL+"/shelf?wall=1"), chromedp.WaitVisible(chromedp.CSS("#shelf-list li.card")))
+		size[screen.name] = get(t, b, chromedp.Evaluate[float64](`parseFloat(getComputedStyle(document.body).fontSize)`))
+	}
+	if size["portrait"] != size["landscape"] || math.Abs(size["4K"]-2*size["landscape"]) > 0.5 || size["landscape"] < 18 {
+		t.Errorf("body text: %v px; want portrait as landscape, 4K twice that", size)
+	}
 	b.checkStayedHome(t, s.srv.URL)
 }
 
