@@ -6,6 +6,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"maps"
 	"math"
 	"net/http"
 	"slices"
@@ -91,14 +92,29 @@ func (s *server) getShelf(c echo.Context) error {
 	return c.JSONBlob(http.StatusOK, page.body)
 }
 
-// shelfQuery reads ?limit= and ?cursor= (the next of an earlier page).
-// Neither means the whole shelf: limit 0 in the key.
+// shelfParams are the query parameters GET /v1/shelf knows; any other is
+// refused, so a misspelt filter is not silently ignored.
+func shelfParams() []string { return []string{"q", "kind", "bin", "limit", "cursor"} }
+
+// shelfQuery reads the filters (?q=, ?kind=, ?bin=), ?limit= and ?cursor=
+// (the next of an earlier page). Neither limit nor cursor means the whole
+// shelf: limit 0 in the key.
 func shelfQuery(c echo.Context, cursors cursorCodec) (shelfKey, *store.ShelfCursor, error) {
-	limitParam, cursorParam := c.QueryParam("limit"), c.QueryParam("cursor")
-	if limitParam == "" && cursorParam == "" {
-		return shelfKey{}, nil, nil
+	params := c.QueryParams()
+	for _, name := range slices.Sorted(maps.Keys(params)) {
+		if !slices.Contains(shelfParams(), name) {
+			return shelfKey{}, nil, queryProblem("/"+name, "is not a parameter of the shelf; it knows %v", shelfParams())
+		}
 	}
-	key := shelfKey{limit: defaultPageSize, cursor: cursorParam}
+	key := shelfKey{filter: store.ShelfFilter{Query: params.Get("q"), Kind: params.Get("kind"), Bin: params.Get("bin")}}
+	if err := checkShelfFilter(key.filter); err != nil {
+		return key, nil, err
+	}
+	limitParam, cursorParam := params.Get("limit"), params.Get("cursor")
+	if limitParam == "" && cursorParam == "" {
+		return key, nil, nil
+	}
+	key.limit, key.cursor = defaultPageSize, cursorParam
 	if limitParam != "" {
 		n, err := strconv.Atoi(limitParam)
 		if err != nil || n < 1 || n > maxPageSize {
@@ -116,16 +132,31 @@ func shelfQuery(c echo.Context, cursors cursorCodec) (shelfKey, *store.ShelfCurs
 	return key, &cur, nil
 }
 
+// checkShelfFilter holds the shelf's filters to the bounds the component
+// listing's filters have.
+func checkShelfFilter(f store.ShelfFilter) error {
+	if f.Kind != "" && !slices.Contains(domain.ComponentKinds(), f.Kind) {
+		return queryProblem("/kind", "must be one of %v", domain.ComponentKinds())
+	}
+	if len(f.Query) > domain.MaxNameLen {
+		return queryProblem("/q", "is longer than %d bytes", domain.MaxNameLen)
+	}
+	if len(f.Bin) > domain.MaxShortFieldLen {
+		return queryProblem("/bin", "is longer than %d bytes", domain.MaxShortFieldLen)
+	}
+	return nil
+}
+
 // shelfView reads the whole shelf or one page of it in shelf order.
 func (s *server) shelfView(ctx context.Context, key shelfKey, after *store.ShelfCursor) (ShelfView, error) {
 	if key.limit == 0 {
-		items, err := s.store.Shelf(ctx)
+		items, err := s.store.ShelfMatching(ctx, key.filter)
 		if items == nil {
 			items = []domain.ShelfItem{}
 		}
 		return ShelfView{Items: items}, err
 	}
-	items, more, err := s.store.ShelfPage(ctx, after, key.limit)
+	items, more, err := s.store.ShelfPage(ctx, key.filter, after, key.limit)
 	if err != nil {
 		return ShelfView{}, err
 	}

@@ -135,10 +135,12 @@ func TestComponentListFiltersAndPages(t *testing.T) {
 		{"q=relay_board", []string{"relay_board"}},
 		{"q=DASHCAM", []string{"Buck board"}},
 		{"q=" + url.QueryEscape("' OR ''='"), nil},
-		{"fits_v=5", []string{"Mixer motor", "Winder motor", "Buck board"}},
+		// Rated 12 V, ±10 % (domain.RatedVoltageTolerance): 10.8–13.2 V.
+		{"fits_v=5", []string{"Mixer motor", "Buck board"}},
 		{"fits_v=12", []string{"Winder motor", "Buck board"}},
 		{"fits_v=30", nil},
-		{"kind=motor&fits_v=10", []string{"Winder motor"}},
+		{"kind=motor&fits_v=10", nil},
+		{"kind=motor&fits_v=11", []string{"Winder motor"}},
 	} {
 		if got := names(tt.query); !slices.Equal(got, tt.want) {
 			t.Errorf("?%s: %q, want %q", tt.query, got, tt.want)

@@ -43,6 +43,30 @@ type VoltageReadings struct {
 	Points   int     `json:"points"`
 }
 
+// fitDigits is how many significant digits a fitted figure keeps: bench
+// meters read three or four, so more would be noise (and a mean such as
+// 5.000000000000001 V would show its floating-point tail).
+const fitDigits = 4
+
+// significant rounds x to n significant decimal digits.
+func significant(x float64, n int) float64 {
+	r, err := strconv.ParseFloat(strconv.FormatFloat(x, 'g', n, 64), 64)
+	if err != nil { // FormatFloat always writes a number ParseFloat reads
+		return x
+	}
+	return r
+}
+
+// atPlaceOf rounds x to the last decimal place that like keeps with n
+// significant digits.
+func atPlaceOf(x, like float64, n int) float64 {
+	if like == 0 || math.IsInf(like, 0) || math.IsNaN(like) {
+		return x
+	}
+	step := math.Pow(10, math.Floor(math.Log10(math.Abs(like)))-float64(n-1))
+	return math.Round(x/step) * step
+}
+
 func (s *server) motorFit(c echo.Context) error {
 	id, err := pathID(c, "id")
 	if err != nil {
@@ -95,6 +119,12 @@ func (s *server) motorFit(c echo.Context) error {
 	fit, err := electric.FitMotor(chosen)
 	if err != nil {
 		return newProblem("motor-fit-needs-readings", "component %d: %v", id, err)
+	}
+	// The residual is in the speed's unit and keeps the speed's last
+	// decimal place, so a perfect fit's 1e-13 rpm reads 0.
+	fit.ResidualRPM = significant(atPlaceOf(fit.ResidualRPM, fit.IdealNoLoadRPM, fitDigits), fitDigits)
+	for _, x := range []*float64{&fit.VoltageV, &fit.StallA, &fit.ResistanceOhm, &fit.KvRPMPerV, &fit.IdealNoLoadRPM} {
+		*x = significant(*x, fitDigits)
 	}
 	return c.JSON(http.StatusOK, MotorFitView{
 		ComponentID: id,
@@ -152,7 +182,7 @@ func describeVoltages(groups [][]electric.BenchPoint) string {
 		if i > 0 {
 			s += ", "
 		}
-		s += fmt.Sprintf("%g V (%d readings)", v.VoltageV, v.Points)
+		s += fmt.Sprintf("%g V (%s)", v.VoltageV, domain.CountOf(v.Points, "reading", "readings"))
 	}
 	return s
 }

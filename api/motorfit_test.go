@@ -48,7 +48,22 @@ func TestMotorFit(t *testing.T) {
 	for _, tc := range cases {
 		t.Run("fit"+tc.query, func(t *testing.T) {
 			var fit MotorFitView
-			h.expect(h.call(http.MethodGet, fmt.Sprintf("/v1/components/%d/motor-fit%s", wiper, tc.query), "bo", nil), http.StatusOK, &fit)
+			rec := h.call(http.MethodGet, fmt.Sprintf("/v1/components/%d/motor-fit%s", wiper, tc.query), "bo", nil)
+			h.expect(rec, http.StatusOK, &fit)
+			// Fitted figures keep four significant digits: no float tails.
+			var raw map[string]any
+			dec := json.NewDecoder(strings.NewReader(rec.Body.String()))
+			dec.UseNumber()
+			if err := dec.Decode(&raw); err != nil {
+				t.Fatal(err)
+			}
+			for _, k := range []string{"voltage_v", "stall_a", "resistance_ohm", "kv_rpm_per_v", "ideal_no_load_rpm", "residual_rpm"} {
+				num, _ := raw[k].(json.Number)
+				mantissa, exponent, _ := strings.Cut(strings.ToLower(string(num)), "e")
+				if digits := len(strings.TrimLeft(strings.NewReplacer(".", "", "-", "").Replace(mantissa), "0")); num == "" || digits > 4 || exponent != "" && !strings.HasPrefix(exponent, "+") {
+					t.Errorf("%s is %q, want at most four significant digits", k, num)
+				}
+			}
 			within := func(name string, got, want float64) {
 				if math.Abs(got-want) > 0.02*want {
 					t.Errorf("%s = %g, want %g within 2 %%", name, got, want)
@@ -78,6 +93,7 @@ func TestMotorFit(t *testing.T) {
 		{"one reading", fmt.Sprintf("/v1/components/%d/motor-fit", single), "measure"},
 		{"speed rising with current", fmt.Sprintf("/v1/components/%d/motor-fit", rising), "heavier load"},
 		{"no readings near the voltage asked", fmt.Sprintf("/v1/components/%d/motor-fit?voltage_v=24", wiper), "12 V (3 readings)"},
+		{"one reading at the voltage named", fmt.Sprintf("/v1/components/%d/motor-fit?voltage_v=30", single), "12 V (1 reading)"},
 	}
 	for _, tc := range unfit {
 		t.Run(tc.name, func(t *testing.T) {

@@ -84,7 +84,7 @@ func problemFor(err error, isUnavailable unavailabilityCheck) (Problem, *problem
 	switch {
 	case errors.As(err, &pe):
 	case errors.As(err, &ve):
-		pe = &problemError{kind: "validation", detail: fmt.Sprintf("%d field(s) are invalid", len(ve.Problems)), fields: ve.Problems}
+		pe = &problemError{kind: "validation", detail: domain.CountOf(len(ve.Problems), "field is invalid", "fields are invalid"), fields: ve.Problems}
 	case errors.As(err, &de):
 		pe = &problemError{kind: "malformed", detail: de.Error()}
 	case errors.Is(err, domain.ErrNotFound):

@@ -40,6 +40,8 @@ type Config struct {
 	// PublicBaseURL is the address printed into QR codes and links, e.g.
 	// "http://shelf.local:8080"; empty means the address the request came to.
 	PublicBaseURL string
+	// KioskWall makes /shelf the self-paging wall screen by default.
+	KioskWall bool
 	// ReviewsPerMinute and ReviewBurst bound POST /v1/reviews per client;
 	// zero means 60 a minute in bursts of 20.
 	ReviewsPerMinute float64

@@ -2,20 +2,28 @@ package api
 
 import (
 	"sync"
+
+	"wattshelf/domain/store"
 )
 
 // Bounds of the shelf cache: a page of 200 items encodes to about 120 KB,
-// and a kiosk polls the whole shelf, so a few megabytes hold every page
-// anyone reads between two changes.
+// so a few megabytes hold every page anyone reads between two changes.
 const (
 	shelfCacheMaxBytes   = 8 << 20
 	shelfCacheMaxEntries = 512
 )
 
-// shelfKey names one shelf view: the whole shelf (limit 0) or a page.
+// shelfKey names one shelf view: the whole filtered shelf (limit 0) or a
+// page of it.
 type shelfKey struct {
+	filter store.ShelfFilter
 	limit  int
 	cursor string
+}
+
+// size is about what the key itself holds in memory.
+func (k shelfKey) size() int {
+	return len(k.cursor) + len(k.filter.Query) + len(k.filter.Kind) + len(k.filter.Bin)
 }
 
 // shelfPage is an encoded shelf view and its ETag.
@@ -54,7 +62,7 @@ func (sc *shelfCache) get(rev int64, key shelfKey) (shelfPage, bool) {
 // fresher than rev, never older). A revision older than the one cached is
 // not stored: the cache only moves forward.
 func (sc *shelfCache) put(rev int64, key shelfKey, p shelfPage) {
-	size := len(p.body) + len(key.cursor) + len(p.etag)
+	size := len(p.body) + key.size() + len(p.etag)
 	if size > shelfCacheMaxBytes/2 {
 		return
 	}
@@ -69,7 +77,7 @@ func (sc *shelfCache) put(rev int64, key shelfKey, p shelfPage) {
 		sc.bytes = 0
 	}
 	if old, ok := sc.pages[key]; ok {
-		sc.bytes -= len(old.body) + len(key.cursor) + len(old.etag)
+		sc.bytes -= len(old.body) + key.size() + len(old.etag)
 	}
 	if sc.bytes+size > shelfCacheMaxBytes || len(sc.pages) >= shelfCacheMaxEntries {
 		clear(sc.pages)

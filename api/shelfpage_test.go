@@ -4,6 +4,7 @@ import (
 	"net/http"
 	"net/url"
 	"slices"
+	"strings"
 	"testing"
 )
 
@@ -73,6 +74,69 @@ func TestShelfPagesWalkTheWholeShelf(t *testing.T) {
 		p := wantProblem(t, a.do(http.MethodGet, "/v1/shelf?"+q, "", nil), http.StatusBadRequest, "bad-query")
 		if len(p.Errors) != 1 {
 			t.Errorf("?%s: problems %v", q, p.Errors)
+		}
+	}
+}
+
+// The public shelf filters on the server, whole or in pages, and refuses
+// a parameter it does not know rather than ignore it.
+func TestShelfFiltersAndUnknownParameters(t *testing.T) {
+	a := startShelfAPI(t)
+	for _, c := range []struct{ name, kind, bin string }{
+		{"Gear motor", "motor", "M1"}, {"Fan motor", "motor", "M1"}, {"Wiper motor", "motor", "M2"},
+		{"Buck board", "regulator", "R1"}, {"Mixer switch", "switch", "S1"},
+	} {
+		a.created(a.owner, component(c.name, c.kind, "bin", c.bin))
+	}
+	names := func(query string) []string {
+		t.Helper()
+		var out []string
+		for {
+			var p struct {
+				Items []struct {
+					Name string `json:"name"`
+				} `json:"items"`
+				Next string `json:"next"`
+			}
+			r := a.do(http.MethodGet, "/v1/shelf?"+query, "", nil)
+			if r.status != http.StatusOK {
+				t.Fatalf("?%s: %d %s", query, r.status, r.body)
+			}
+			r.decode(t, &p)
+			for _, it := range p.Items {
+				out = append(out, it.Name)
+			}
+			if p.Next == "" {
+				return out
+			}
+			v, _ := url.ParseQuery(query)
+			v.Set("cursor", p.Next)
+			query = v.Encode()
+		}
+	}
+	cases := []struct {
+		query string
+		want  []string
+	}{
+		{"kind=motor", []string{"Fan motor", "Gear motor", "Wiper motor"}},
+		{"kind=motor&limit=1", []string{"Fan motor", "Gear motor", "Wiper motor"}},
+		{"bin=M1", []string{"Fan motor", "Gear motor"}},
+		{"q=MOTOR+m2", []string{"Wiper motor"}},
+		{"q=mixer&kind=motor", nil},
+		{"q=board&limit=2", []string{"Buck board"}},
+	}
+	for _, tc := range cases {
+		if got := names(tc.query); !slices.Equal(got, tc.want) {
+			t.Errorf("?%s: %q, want %q", tc.query, got, tc.want)
+		}
+	}
+	for q, pointer := range map[string]string{
+		"fits_v=5": "/fits_v", "kind=motor&sort=name": "/sort", "Kind=motor": "/Kind", "kind=spaceship": "/kind",
+		"q=" + strings.Repeat("x", 201): "/q", "bin=" + strings.Repeat("b", 101): "/bin",
+	} {
+		p := wantProblem(t, a.do(http.MethodGet, "/v1/shelf?"+q, "", nil), http.StatusBadRequest, "bad-query")
+		if len(p.Errors) != 1 || p.Errors[0].Pointer != pointer {
+			t.Errorf("?%.40s: problems %+v, want one at %s", q, p.Errors, pointer)
 		}
 	}
 }

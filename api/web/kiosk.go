@@ -2,7 +2,7 @@ package web
 
 import (
 	"net/http"
-	"slices"
+	"net/url"
 	"strconv"
 	"strings"
 	"time"
@@ -10,19 +10,36 @@ import (
 	"github.com/labstack/echo/v4"
 
 	"wattshelf/domain"
+	"wattshelf/domain/store"
 )
 
-// kioskPage is the wall screen: the shelf grouped by bin, with the
-// search and kind filter applied by hiding what does not match, so the
-// page's script can change the filter without asking the server again.
+// kioskPage is one page of the shelf as the kiosk shows it: the parts that
+// match the filter from a place in shelf order on, never the whole shelf.
+// In wall mode the page fills the screen it is on and its script pages
+// through the shelf by itself.
 type kioskPage struct {
-	Query     string
-	Kind      string
-	RefreshMS int64
-	Kinds     []kindChoice
-	Bins      []binGroup
+	Filter store.ShelfFilter
+	Wall   bool
+	Kinds  []kindChoice
+	// KindTotal counts every part the query and bin let through, of any
+	// kind; Total those the kind lets through as well.
+	KindTotal int
 	Total     int
-	Shown     int
+	// First is the position of the first card in the filtered shelf,
+	// from 1; Last that of the last card, 0 with no card.
+	First, Last int
+	Cards       []shelfCard
+	// FirstURL and NextURL lead to the start and to the next page; empty
+	// when this page is the start, or the end.
+	FirstURL, NextURL string
+	// AllBinsURL is the same search in every bin, when a bin is chosen.
+	AllBinsURL string
+	Options    kioskOptions
+	// Hidden form fields that keep the options when a search is sent.
+	Keep []keptParam
+	// StaffNotice is shown to the staff when the screen cannot do its job
+	// as set up, such as QR codes that no phone can open.
+	StaffNotice string
 }
 
 type kindChoice struct {
@@ -31,11 +48,7 @@ type kindChoice struct {
 	Selected bool
 }
 
-type binGroup struct {
-	Name   string
-	Cards  []shelfCard
-	Hidden bool
-}
+type keptParam struct{ Name, Value string }
 
 // shelfCard is one component on the kiosk.
 type shelfCard struct {
@@ -44,6 +57,8 @@ type shelfCard struct {
 	Kind        string
 	Description string
 	Origin      string
+	Bin         string
+	BinURL      string
 	Mains       bool
 	Quantity    int
 	Condition   string
@@ -51,11 +66,11 @@ type shelfCard struct {
 	Specs       []specLine
 	Page        string
 	QR          string
-	// Search is the lower-case text the filter matches; Rev changes
-	// whenever the card's content does, so a refresh keeps unchanged cards.
-	Search string
-	Rev    string
-	Hidden bool
+	// Rev changes whenever the card's content does, so a refresh keeps
+	// unchanged cards; After is the place just past this card, so a wall
+	// screen that shows up to here asks for the page after it.
+	Rev   string
+	After string
 }
 
 type specLine struct {
@@ -65,65 +80,56 @@ type specLine struct {
 
 const noBin = "No bin recorded"
 
-func kioskView(items []domain.ShelfItem, f shelfFilter, refresh time.Duration) kioskPage {
-	page := kioskPage{Query: f.Query, Kind: f.Kind, RefreshMS: refresh.Milliseconds(), Total: len(items)}
-	kinds := map[string]int{}
-	byBin := map[string]int{}
-	for _, it := range items {
-		kinds[it.Kind]++
-		card := shelfCardOf(it)
-		card.Hidden = !matches(card, f)
-		if !card.Hidden {
-			page.Shown++
-		}
-		bin := it.Bin
-		if strings.TrimSpace(bin) == "" {
-			bin = noBin
-		}
-		i, ok := byBin[bin]
-		if !ok {
-			i = len(page.Bins)
-			byBin[bin] = i
-			page.Bins = append(page.Bins, binGroup{Name: bin})
-		}
-		page.Bins[i].Cards = append(page.Bins[i].Cards, card)
+func kioskView(items []domain.ShelfItem, more bool, counts map[string]int, q kioskQuery) kioskPage {
+	page := kioskPage{Filter: q.filter, Wall: q.wall, Options: q.options, First: q.offset + 1, Keep: q.kept()}
+	for _, n := range counts {
+		page.KindTotal += n
 	}
-	slices.SortStableFunc(page.Bins, func(a, b binGroup) int { return strings.Compare(a.Name, b.Name) })
-	for i := range page.Bins {
-		page.Bins[i].Hidden = !slices.ContainsFunc(page.Bins[i].Cards, func(c shelfCard) bool { return !c.Hidden })
+	page.Total = page.KindTotal
+	if q.filter.Kind != "" {
+		page.Total = counts[q.filter.Kind]
 	}
 	for _, k := range domain.ComponentKinds() {
-		if kinds[k] > 0 || k == f.Kind {
-			page.Kinds = append(page.Kinds, kindChoice{Name: k, Count: kinds[k], Selected: k == f.Kind})
+		if counts[k] > 0 || k == q.filter.Kind {
+			page.Kinds = append(page.Kinds, kindChoice{Name: k, Count: counts[k], Selected: k == q.filter.Kind})
 		}
+	}
+	for i, it := range items {
+		card := shelfCardOf(it)
+		if strings.TrimSpace(it.Bin) != "" {
+			card.BinURL = q.with(func(v url.Values) { v.Set("bin", it.Bin); v.Del("after") })
+		}
+		card.After = shelfPlace{Bin: it.Bin, Name: it.Name, ID: it.ID, Offset: q.offset + i + 1}.encode()
+		page.Cards = append(page.Cards, card)
+	}
+	if len(items) > 0 {
+		page.Last = q.offset + len(items)
+	}
+	if q.offset > 0 {
+		page.FirstURL = q.with(func(v url.Values) { v.Del("after") })
+	}
+	if more && len(page.Cards) > 0 {
+		next := page.Cards[len(page.Cards)-1].After
+		page.NextURL = q.with(func(v url.Values) { v.Set("after", next) })
+	}
+	if q.filter.Bin != "" {
+		page.AllBinsURL = q.with(func(v url.Values) { v.Del("bin"); v.Del("after") })
 	}
 	return page
-}
-
-// matches is the same test the kiosk's script applies: every word of the
-// query appears in the card's text, and the kind is the one chosen.
-func matches(c shelfCard, f shelfFilter) bool {
-	if f.Kind != "" && c.Kind != f.Kind {
-		return false
-	}
-	for _, word := range strings.Fields(strings.ToLower(f.Query)) {
-		if !strings.Contains(c.Search, word) {
-			return false
-		}
-	}
-	return true
 }
 
 func shelfCardOf(it domain.ShelfItem) shelfCard {
 	id := strconv.FormatInt(it.ID, 10)
 	c := shelfCard{
 		ID: it.ID, Name: it.Name, Kind: it.Kind, Description: it.Description, Origin: it.Origin,
-		Mains: it.MainsOrigin, Quantity: it.Quantity, Condition: it.Condition,
+		Bin: it.Bin, Mains: it.MainsOrigin, Quantity: it.Quantity, Condition: it.Condition,
 		SpecSource: specSourceLabel(it.SpecSource), Specs: specLines(it.Kind, it.Electrical),
 		Page: "/shelf/" + id, QR: "/shelf/" + id + "/qr.svg",
 		Rev: id + "-" + strconv.FormatInt(it.UpdatedAt.UnixNano(), 36),
 	}
-	c.Search = strings.ToLower(strings.Join([]string{it.Name, it.Kind, it.Bin, it.Description, it.Origin}, " "))
+	if strings.TrimSpace(c.Bin) == "" {
+		c.Bin = noBin
+	}
 	return c
 }
 

@@ -6,11 +6,11 @@ import (
 	"image"
 	_ "image/png"
 	"math"
+	"net/url"
 	"regexp"
 	"strconv"
 	"strings"
 	"testing"
-	"time"
 
 	"github.com/makiuchi-d/gozxing"
 	gozxingqr "github.com/makiuchi-d/gozxing/qrcode"
@@ -30,10 +30,25 @@ func shelfItems(t *testing.T) []domain.ShelfItem {
 	return items
 }
 
-func renderKioskHTML(t *testing.T, v *views, items []domain.ShelfItem, f shelfFilter) string {
+// kindCounts counts items by kind, as the store does for the kiosk.
+func kindCounts(items []domain.ShelfItem) map[string]int {
+	counts := map[string]int{}
+	for _, it := range items {
+		counts[it.Kind]++
+	}
+	return counts
+}
+
+// renderKioskHTML renders items as the first page of the shelf, asked
+// for with the query parameters given.
+func renderKioskHTML(t *testing.T, v *views, items []domain.ShelfItem, query string) string {
 	t.Helper()
+	params, err := url.ParseQuery(query)
+	if err != nil {
+		t.Fatal(err)
+	}
 	var b strings.Builder
-	if err := v.renderKiosk(&b, kioskView(items, f, defaultRefresh)); err != nil {
+	if err := v.renderKiosk(&b, kioskView(items, false, kindCounts(items), parseKioskQuery(params, false))); err != nil {
 		t.Fatal(err)
 	}
 	return b.String()
@@ -56,7 +71,7 @@ func TestHostileTextIsEscaped(t *testing.T) {
 	in.DesignName = hostileName
 	in.Report.Checks[0].Message = hostileName
 	pages := map[string]string{
-		"kiosk":     renderKioskHTML(t, v, items, shelfFilter{}),
+		"kiosk":     renderKioskHTML(t, v, items, ""),
 		"component": comp.String(),
 		"report":    renderReportHTML(t, v, in),
 	}
@@ -73,16 +88,19 @@ func TestHostileTextIsEscaped(t *testing.T) {
 }
 
 var (
-	tagRE    = regexp.MustCompile(`<span class="tag tag-([a-z]+)"><svg class="sym" aria-hidden="true" focusable="false"><use href="#(sym-[a-z]+)"/></svg>([^<]+)</span>`)
+	tagRE    = regexp.MustCompile(`<span class="tag tag-([a-z]+)"><svg class="sym" aria-hidden="true" focusable="false"><use href="#(sym-[a-z-]+)"/></svg>([^<]+)</span>`)
 	anyTagRE = regexp.MustCompile(`class="tag `)
 )
 
 // Every status on every page shows a word and a symbol as well as its
 // colour, and each status has a word and a symbol of its own.
 func TestEveryStatusHasWordAndSymbol(t *testing.T) {
+	// A part's condition shares neither symbol nor colour class with a
+	// review's status: a pass mark on a shelf part would read as
+	// "approved for your build".
 	statuses := []string{"pass", "warn", "fail", "out_of_scope", "working", "untested", "faulty"}
-	seenSymbol := map[string]string{}
-	for _, s := range []string{"pass", "warn", "fail", "out_of_scope"} {
+	seenSymbol, seenKey := map[string]string{}, map[string]string{}
+	for _, s := range statuses {
 		look := statusOf(s)
 		if look.Word == "" || look.Symbol == "" {
 			t.Fatalf("%s has no word or symbol: %+v", s, look)
@@ -90,10 +108,13 @@ func TestEveryStatusHasWordAndSymbol(t *testing.T) {
 		if other, dup := seenSymbol[look.Symbol]; dup {
 			t.Errorf("%s and %s share the symbol %s", s, other, look.Symbol)
 		}
-		seenSymbol[look.Symbol] = s
+		if other, dup := seenKey[look.Key]; dup {
+			t.Errorf("%s and %s share the colour class %s", s, other, look.Key)
+		}
+		seenSymbol[look.Symbol], seenKey[look.Key] = s, s
 	}
 	v := mustViews(t)
-	sprite := renderKioskHTML(t, v, nil, shelfFilter{})
+	sprite := renderKioskHTML(t, v, nil, "")
 	for _, s := range statuses {
 		if !strings.Contains(sprite, `<symbol id="`+statusOf(s).Symbol+`"`) {
 			t.Errorf("the page sprite lacks the symbol for %s", s)
@@ -102,7 +123,7 @@ func TestEveryStatusHasWordAndSymbol(t *testing.T) {
 
 	items := shelfItems(t)
 	var pages []string
-	pages = append(pages, renderKioskHTML(t, v, items, shelfFilter{}))
+	pages = append(pages, renderKioskHTML(t, v, items, ""))
 	for _, name := range demoDesignNames(t) {
 		pages = append(pages, renderReportHTML(t, v, demoReport(t, name)))
 	}
@@ -144,44 +165,89 @@ func TestReportBannerForEachStatus(t *testing.T) {
 	}
 }
 
-func TestKioskFilterHidesWhatDoesNotMatch(t *testing.T) {
+// A page of the shelf says where it is in the filtered shelf and leads to
+// the next page, and its links keep the filter and the screen's options.
+func TestKioskPagePlaceAndLinks(t *testing.T) {
 	items := shelfItems(t)
+	counts := kindCounts(items)
+	first := parseKioskQuery(url.Values{"kind": {"motor"}, "wall": {"1"}, "every_s": {"5"}, "limit": {"2"}, "junk": {"x"}}, false)
+	page := kioskView(items[:2], true, counts, first)
+	if page.First != 1 || page.Last != 2 || page.Total != counts["motor"] || page.KindTotal != len(items) {
+		t.Errorf("first page: parts %d–%d of %d (%d of any kind), want 1–2 of %d (%d)",
+			page.First, page.Last, page.Total, page.KindTotal, counts["motor"], len(items))
+	}
+	if page.FirstURL != "" || page.NextURL == "" {
+		t.Fatalf("first page: first %q, next %q", page.FirstURL, page.NextURL)
+	}
+	next, err := url.Parse(page.NextURL)
+	if err != nil {
+		t.Fatal(err)
+	}
+	params := next.Query()
+	for name, want := range map[string]string{"kind": "motor", "wall": "1", "every_s": "5", "limit": "2", "junk": ""} {
+		if got := params.Get(name); got != want {
+			t.Errorf("next page link %s=%q, want %q", name, got, want)
+		}
+	}
+	second := parseKioskQuery(params, false)
+	if second.after == nil || second.after.ID != items[1].ID || second.offset != 2 {
+		t.Fatalf("the next page starts after %+v at %d, want after id %d at 2", second.after, second.offset, items[1].ID)
+	}
+	page = kioskView(items[2:3], false, counts, second)
+	if page.First != 3 || page.Last != 3 || page.NextURL != "" || page.FirstURL == "" {
+		t.Errorf("last page: parts %d–%d, next %q, first %q", page.First, page.Last, page.NextURL, page.FirstURL)
+	}
+	// Every card links to its bin, and the bin's page leads back to every bin.
+	binPage := parseKioskQuery(mustQuery(t, page.Cards[0].BinURL), false)
+	if binPage.filter.Bin != items[2].Bin || binPage.filter.Kind != "motor" || binPage.after != nil {
+		t.Errorf("bin link %q asks for %+v", page.Cards[0].BinURL, binPage.filter)
+	}
+	if kioskView(nil, false, counts, binPage).AllBinsURL == "" {
+		t.Error("a page of one bin has no way back to every bin")
+	}
+}
+
+// The kiosk's options are held within bounds, and a place it cannot read
+// starts from the beginning.
+func TestKioskQueryBounds(t *testing.T) {
 	cases := []struct {
-		f        shelfFilter
-		wantName string
+		query                      string
+		wallByDefault, wall        bool
+		refreshMS, everyMS, idleMS int64
+		limit                      int
+		after                      bool
 	}{
-		{shelfFilter{Query: "MIXER"}, "Gear motor from a cordless hand mixer"},
-		{shelfFilter{Query: "blind winder", Kind: "motor"}, "Blind-winder gear motor"},
-		{shelfFilter{Query: "winder", Kind: "battery"}, ""},
+		{"", false, false, 15000, 12000, 60000, defaultPageParts, false},
+		{"", true, true, 15000, 12000, 60000, defaultWallParts, false},
+		{"wall=0", true, false, 15000, 12000, 60000, defaultPageParts, false},
+		{"wall=1&every_s=1&idle_s=2&refresh_s=3&limit=13", false, true, 3000, 1000, 2000, 13, false},
+		{"every_s=0&idle_s=-5&refresh_s=0&limit=0", false, false, 1000, 1000, 1000, 1, false},
+		{"every_s=99999&idle_s=99999&refresh_s=99999&limit=100000", false, false, 30000, 600000, 3600000, maxPageParts, false},
+		{"every_s=x&limit=ten", false, false, 15000, 12000, 60000, defaultPageParts, false},
+		{"after=" + shelfPlace{Bin: "B", Name: "N", ID: 7, Offset: 40}.encode(), false, false, 15000, 12000, 60000, defaultPageParts, true},
+		{"after=not-a-place", false, false, 15000, 12000, 60000, defaultPageParts, false},
+		{"after=" + shelfPlace{Bin: "B", Name: "N", ID: 0, Offset: 4}.encode(), false, false, 15000, 12000, 60000, defaultPageParts, false},
 	}
 	for _, tc := range cases {
-		page := kioskView(items, tc.f, time.Second)
-		var shown []string
-		for _, b := range page.Bins {
-			visible := false
-			for _, c := range b.Cards {
-				if !c.Hidden {
-					shown = append(shown, c.Name)
-					visible = true
-				}
-			}
-			if visible == b.Hidden {
-				t.Errorf("%+v: bin %q hidden=%v with visible cards=%v", tc.f, b.Name, b.Hidden, visible)
-			}
+		q := parseKioskQuery(mustQuery(t, "/shelf?"+tc.query), tc.wallByDefault)
+		got := q.options
+		if q.wall != tc.wall || got.RefreshMS != tc.refreshMS || got.EveryMS != tc.everyMS || got.IdleMS != tc.idleMS ||
+			got.Limit != tc.limit || (q.after != nil) != tc.after {
+			t.Errorf("%q (wall by default %t): wall %t, %+v, after %v", tc.query, tc.wallByDefault, q.wall, got, q.after)
 		}
-		if page.Shown != len(shown) || page.Total != len(items) {
-			t.Errorf("%+v: counts %d of %d, want %d of %d", tc.f, page.Shown, page.Total, len(shown), len(items))
-		}
-		if tc.wantName == "" {
-			if len(shown) != 0 {
-				t.Errorf("%+v: shows %v, want nothing", tc.f, shown)
-			}
-			continue
-		}
-		if len(shown) == 0 || !contains(shown, tc.wantName) {
-			t.Errorf("%+v: shows %v, want %q among them", tc.f, shown, tc.wantName)
+		if !tc.after && q.values.Get("after") != "" {
+			t.Errorf("%q: links would carry the unreadable place on", tc.query)
 		}
 	}
+}
+
+func mustQuery(t *testing.T, address string) url.Values {
+	t.Helper()
+	u, err := url.Parse(address)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return u.Query()
 }
 
 func contains(list []string, s string) bool {
@@ -247,7 +313,7 @@ func TestPaletteContrast(t *testing.T) {
 		min    float64
 	}
 	pairs := []pair{{"ink", "paper", 4.5}, {"muted", "paper", 4.5}, {"link", "paper", 4.5}, {"ink", "panel", 4.5}, {"muted", "panel", 4.5}}
-	for _, s := range []string{"pass", "warn", "fail", "scope", "none"} {
+	for _, s := range []string{"pass", "warn", "fail", "scope", "none", "working", "untested", "faulty"} {
 		pairs = append(pairs,
 			pair{s + "-ink", s + "-tint", 4.5}, pair{s + "-ink", "paper", 4.5},
 			pair{s + "-edge", "paper", 3}, pair{s + "-edge", s + "-tint", 3})
@@ -284,6 +350,28 @@ func luminance(hex string) float64 {
 		return math.Pow((c+0.055)/1.055, 2.4)
 	}
 	return 0.2126*channel(0) + 0.7152*channel(1) + 0.0722*channel(2)
+}
+
+// The report's headline counts in words that agree with the count.
+func TestHeadlineCounts(t *testing.T) {
+	cases := []struct {
+		status           review.Status
+		pass, warn, fail int
+		want             string
+	}{
+		{review.Fail, 3, 0, 1, "1 check failed. Do not connect the battery until it is put right."},
+		{review.Fail, 3, 0, 2, "2 checks failed. Do not connect the battery until they are put right."},
+		{review.Warn, 3, 1, 0, "No check failed, but 1 finding needs a look before you connect the battery."},
+		{review.Warn, 3, 4, 0, "No check failed, but 4 findings need a look before you connect the battery."},
+		{review.Pass, 1, 0, 0, "The one check passed. Inspect the build before you connect the battery all the same."},
+	}
+	for _, tc := range cases {
+		rep := review.Report{Status: tc.status}
+		rep.Counts.Pass, rep.Counts.Warn, rep.Counts.Fail = tc.pass, tc.warn, tc.fail
+		if got := headline(rep); got != tc.want {
+			t.Errorf("%s %d/%d/%d: %q, want %q", tc.status, tc.pass, tc.warn, tc.fail, got, tc.want)
+		}
+	}
 }
 
 func TestFormatNumber(t *testing.T) {

@@ -97,11 +97,17 @@ func reportView(in ReportInput) reportPage {
 func headline(rep review.Report) string {
 	switch rep.Status {
 	case review.Pass:
+		if rep.Counts.Pass == 1 {
+			return "The one check passed. Inspect the build before you connect the battery all the same."
+		}
 		return fmt.Sprintf("Every one of the %d checks passed. Inspect the build before you connect the battery all the same.", rep.Counts.Pass)
 	case review.Warn:
-		return fmt.Sprintf("No check failed, but %d finding(s) need a look before you connect the battery.", rep.Counts.Warn)
+		return fmt.Sprintf("No check failed, but %s before you connect the battery.", domain.CountOf(rep.Counts.Warn, "finding needs a look", "findings need a look"))
 	case review.Fail:
-		return fmt.Sprintf("%d check(s) failed. Do not connect the battery until they are put right.", rep.Counts.Fail)
+		if rep.Counts.Fail == 1 {
+			return "1 check failed. Do not connect the battery until it is put right."
+		}
+		return fmt.Sprintf("%d checks failed. Do not connect the battery until they are put right.", rep.Counts.Fail)
 	case review.OutOfScope:
 		return "This design includes mains or a source above the voltage these checks are written for. It is out of scope and can never pass here: read the cautions."
 	}

@@ -110,6 +110,7 @@ type statusLook struct {
 }
 
 // statusOf maps a review status, or a component condition, to its look.
+// Conditions have keys and symbols of their own, none of a review's.
 func statusOf(s string) statusLook {
 	switch s {
 	case "pass":
@@ -121,11 +122,11 @@ func statusOf(s string) statusLook {
 	case "out_of_scope":
 		return statusLook{"scope", "Out of scope", "sym-scope"}
 	case "working":
-		return statusLook{"pass", "Working", "sym-pass"}
+		return statusLook{"working", "Working", "sym-cond-working"}
 	case "faulty":
-		return statusLook{"fail", "Faulty", "sym-fail"}
+		return statusLook{"faulty", "Faulty", "sym-cond-faulty"}
 	case "untested":
-		return statusLook{"none", "Untested", "sym-none"}
+		return statusLook{"untested", "Untested", "sym-cond-untested"}
 	}
 	return statusLook{"none", "Not checked", "sym-none"}
 }

@@ -15,7 +15,6 @@ import (
 	"net/http"
 	"strconv"
 	"strings"
-	"time"
 	"unicode/utf8"
 
 	"github.com/labstack/echo/v4"
@@ -27,7 +26,8 @@ import (
 
 // Source is what the pages read; *store.Store provides it.
 type Source interface {
-	Shelf(ctx context.Context) ([]domain.ShelfItem, error)
+	ShelfPage(ctx context.Context, f store.ShelfFilter, after *store.ShelfCursor, limit int) ([]domain.ShelfItem, bool, error)
+	ShelfKindCounts(ctx context.Context, f store.ShelfFilter) (map[string]int, error)
 	Component(ctx context.Context, id int64) (domain.Component, error)
 	ComponentsByID(ctx context.Context, ids []int64) (map[int64]domain.Component, error)
 	ReviewByShareID(ctx context.Context, shareID string) (store.SharedReview, error)
@@ -40,15 +40,10 @@ type Deps struct {
 	// PublicBaseURL is printed into QR codes; empty means the scheme and
 	// host the request came to.
 	PublicBaseURL string
+	// WallByDefault makes /shelf the wall screen; ?wall=0 still shows the
+	// ordinary page.
+	WallByDefault bool
 }
-
-// Kiosk refresh bounds. A test may ask for a shorter interval with
-// ?refresh_s=N; nobody can make the kiosk poll faster than once a second.
-const (
-	defaultRefresh = 15 * time.Second
-	minRefresh     = time.Second
-	maxRefresh     = 30 * time.Second
-)
 
 type pages struct {
 	deps  Deps
@@ -67,6 +62,7 @@ func Register(e *echo.Echo, deps Deps) error {
 	p := &pages{deps: deps, views: v}
 	// Per route, not a group: a group's middleware would also claim every
 	// unmatched path of the whole service.
+	e.GET("/", p.home, securityHeaders)
 	e.GET("/shelf", p.kiosk, securityHeaders)
 	e.GET("/shelf/:id", p.component, securityHeaders)
 	e.GET("/shelf/:id/qr.svg", p.qrSVG, securityHeaders)
@@ -97,24 +93,30 @@ func securityHeaders(next echo.HandlerFunc) echo.HandlerFunc {
 	}
 }
 
-// shelfFilter is what the kiosk's search form asks for.
-type shelfFilter struct {
-	Query string
-	Kind  string
+// home sends a visitor at the bare address to the shelf.
+func (p *pages) home(c echo.Context) error {
+	return c.Redirect(http.StatusSeeOther, "/shelf")
 }
 
 func (p *pages) kiosk(c echo.Context) error {
-	items, err := p.deps.Source.Shelf(c.Request().Context())
+	q := parseKioskQuery(c.QueryParams(), p.deps.WallByDefault)
+	ctx := c.Request().Context()
+	items, more, err := p.deps.Source.ShelfPage(ctx, q.filter, q.after, q.options.Limit)
 	if err != nil {
 		return p.failure(c, err)
 	}
-	f := shelfFilter{Query: limitText(c.QueryParam("q"), domain.MaxNameLen), Kind: c.QueryParam("kind")}
-	refresh := defaultRefresh
-	if s, err := strconv.Atoi(c.QueryParam("refresh_s")); err == nil {
-		refresh = min(max(time.Duration(s)*time.Second, minRefresh), maxRefresh)
+	counts, err := p.deps.Source.ShelfKindCounts(ctx, q.filter)
+	if err != nil {
+		return p.failure(c, err)
 	}
+	page := kioskView(items, more, counts, q)
+	if base := p.publicBase(c.Scheme(), c.Request().Host); LoopbackURL(base) {
+		page.StaffNotice = "the codes on this screen open " + base + ", which no phone can reach. " +
+			"Set WATTSHELF_PUBLIC_URL to the address phones reach this server by, and restart it."
+	}
+	c.Response().Header().Set("Cache-Control", "no-cache")
 	return p.html(c, http.StatusOK, func(w *strings.Builder) error {
-		return p.views.renderKiosk(w, kioskView(items, f, refresh))
+		return p.views.renderKiosk(w, page)
 	})
 }
 
@@ -210,11 +212,7 @@ func (p *pages) reportInput(ctx context.Context, rec store.SharedReview) (Report
 
 // componentAddress is the public address of a component's page.
 func (p *pages) componentAddress(c echo.Context, id int64) string {
-	base := strings.TrimRight(p.deps.PublicBaseURL, "/")
-	if base == "" {
-		base = c.Scheme() + "://" + c.Request().Host
-	}
-	return base + "/shelf/" + strconv.FormatInt(id, 10)
+	return p.publicBase(c.Scheme(), c.Request().Host) + "/shelf/" + strconv.FormatInt(id, 10)
 }
 
 // html renders into a buffer first, so a template error becomes an error

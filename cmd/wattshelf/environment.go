@@ -18,7 +18,9 @@ type environment struct {
 	publicURL   string
 	// trustedProxies: WATTSHELF_TRUSTED_PROXIES, parsed by serve.
 	trustedProxies string
-	logLevel       slog.Level
+	// kioskWall: WATTSHELF_KIOSK_WALL, parsed by serve.
+	kioskWall string
+	logLevel  slog.Level
 	// gcTuned: the operator set GOGC or GOMEMLIMIT, and serve leaves the
 	// collector as they said.
 	gcTuned bool
@@ -29,6 +31,7 @@ func newEnvironment(getenv func(string) string) environment {
 		databaseURL:    getenv("DATABASE_URL"),
 		publicURL:      strings.TrimRight(getenv("WATTSHELF_PUBLIC_URL"), "/"),
 		trustedProxies: getenv("WATTSHELF_TRUSTED_PROXIES"),
+		kioskWall:      getenv("WATTSHELF_KIOSK_WALL"),
 		gcTuned:        getenv("GOGC") != "" || getenv("GOMEMLIMIT") != "",
 	}
 	if env.databaseURL == "" {

@@ -48,9 +48,7 @@ func exportCommand(ctx context.Context, args []string, env environment, stdout, 
 			return err
 		}
 		if *out != "" {
-			fmt.Fprintf(stderr, "exported %d components, %d measurements, %d designs, %d reviews, %d limits versions, %d users, %d audit entries\n",
-				len(snap.Components), len(snap.Measurements), len(snap.Designs), len(snap.Reviews), len(snap.Limits),
-				len(snap.Users), len(snap.Audit))
+			fmt.Fprintf(stderr, "exported %s\n", snapshotCounts(snap))
 		}
 	case "csv":
 		items, err := st.Shelf(ctx)

@@ -47,9 +47,7 @@ func importCommand(ctx context.Context, args []string, env environment, stdout i
 		}
 		return err
 	}
-	fmt.Fprintf(stdout, "imported %d components, %d measurements, %d designs, %d reviews, %d limits versions, %d users, %d audit entries into %s\n",
-		len(snap.Components), len(snap.Measurements), len(snap.Designs), len(snap.Reviews), len(snap.Limits),
-		len(snap.Users), len(snap.Audit), redactURL(env.databaseURL))
+	fmt.Fprintf(stdout, "imported %s into %s\n", snapshotCounts(snap), redactURL(env.databaseURL))
 	if len(snap.Users) > 0 {
 		fmt.Fprintln(stdout, "tokens are not part of an export: mint new ones with `wattshelf token create --name NAME --role ROLE`")
 	}

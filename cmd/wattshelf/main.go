@@ -56,6 +56,8 @@ Environment:
   DATABASE_URL          PostgreSQL URL (default ` + defaultDatabaseURL + `)
   WATTSHELF_PUBLIC_URL  address printed into QR codes and links (default: the request's own)
   WATTSHELF_LOG_LEVEL   debug, info, warn or error (default info)
+  WATTSHELF_KIOSK_WALL  true: /shelf is the self-paging wall screen (/shelf?wall=0
+                        still shows the ordinary page; default false)
   WATTSHELF_TRUSTED_PROXIES
                         reverse proxies whose X-Forwarded-For names the client
                         (addresses or CIDR blocks, comma-separated; default none)

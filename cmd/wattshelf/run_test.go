@@ -112,6 +112,19 @@ func TestServeRefusesBadTrustedProxies(t *testing.T) {
 	}
 }
 
+func TestServeRefusesABadKioskWallSetting(t *testing.T) {
+	getenv := func(key string) string {
+		if key == "WATTSHELF_KIOSK_WALL" {
+			return "sometimes"
+		}
+		return cliEnv("postgres://postgres@127.0.0.1:1/none?sslmode=disable&connect_timeout=1")(key)
+	}
+	_, _, err := runCLI(context.Background(), getenv, "serve")
+	if code := exitCode(err); code != 2 || !strings.Contains(err.Error(), `"sometimes"`) {
+		t.Errorf("serve with WATTSHELF_KIOSK_WALL=sometimes: exit %d, %v; want 2 naming the value", code, err)
+	}
+}
+
 func TestHelp(t *testing.T) {
 	for _, arg := range []string{"help", "-h", "--help"} {
 		stdout, _, err := runCLI(context.Background(), cliEnv(""), arg)

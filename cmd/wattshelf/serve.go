@@ -9,6 +9,7 @@ import (
 	"net"
 	"net/http"
 	"runtime/debug"
+	"strconv"
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
@@ -61,6 +62,12 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	if err != nil {
 		return &exitError{code: 2, msg: "WATTSHELF_TRUSTED_PROXIES: " + err.Error()}
 	}
+	kioskWall := false
+	if env.kioskWall != "" {
+		if kioskWall, err = strconv.ParseBool(env.kioskWall); err != nil {
+			return &exitError{code: 2, msg: "WATTSHELF_KIOSK_WALL: want true or false, not " + strconv.Quote(env.kioskWall)}
+		}
+	}
 	if !env.gcTuned {
 		debug.SetGCPercent(serveGCPercent)
 		debug.SetMemoryLimit(serveMemoryLimit)
@@ -100,7 +107,7 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	}
 	handler, err := api.New(api.Config{
 		Store: st, Tokens: tokens, Writes: writer, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
-		TrustedProxies: proxies,
+		TrustedProxies: proxies, KioskWall: kioskWall,
 	})
 	if err != nil {
 		return err
@@ -111,6 +118,9 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	}
 	srv := newHTTPServer(handler)
 	logger.Info("serving", "addr", "http://"+ln.Addr().String(), "demo", *demo)
+	if warning := publicAddressWarning(env.publicURL, ln.Addr().String()); warning != "" {
+		logger.Warn(warning)
+	}
 	if *debugAddr != "" {
 		stopDebug, err := serveDebug(*debugAddr, logger)
 		if err != nil {

@@ -205,7 +205,8 @@ func TestServeStartsAnswersAndStops(t *testing.T) {
 		t.Error("still answering after shutdown")
 	}
 	logs := s.logs.String()
-	for _, want := range []string{`"msg":"serving"`, `"msg":"stopped"`} {
+	// It listened on loopback with no public address: it says so.
+	for _, want := range []string{`"msg":"serving"`, `"msg":"stopped"`, `"level":"WARN","msg":"serving on loopback only`} {
 		if !strings.Contains(logs, want) {
 			t.Errorf("log lacks %s:\n%s", want, logs)
 		}

@@ -16,7 +16,7 @@ type ComponentFilter struct {
 	Kind    string
 	Query   string // matched in name and description
 	Bin     string
-	FitsV   *float64 // components whose voltage window contains this
+	FitsV   *float64 // components whose supply window (domain.Electrical.SupplyWindow) holds this
 	AfterID int64    // cursor: list ids above this
 	Limit   int
 }
@@ -163,6 +163,16 @@ func escapeLike(s string) string {
 	return strings.NewReplacer(`\`, `\\`, `%`, `\%`, `_`, `\_`).Replace(s)
 }
 
+// supplyWindowHolds is domain.Electrical.SupplyWindow in SQL: the window
+// holds $5 volts, with the tolerance around a rated or nominal voltage in
+// $7. Where the high end is unknown the comparison is NULL, so the part
+// is not listed. TestFitsVoltageAgreesWithTheDomain holds the two alike.
+const supplyWindowHolds = `(
+	coalesce((electrical ->> 'min_v')::double precision, (electrical ->> 'min_input_v')::double precision,
+		coalesce((electrical ->> 'rated_v')::double precision, (electrical ->> 'nominal_v')::double precision) * (1 - $7::double precision), 0) <= $5
+	AND $5 <= coalesce((electrical ->> 'max_v')::double precision, (electrical ->> 'max_input_v')::double precision,
+		coalesce((electrical ->> 'rated_v')::double precision, (electrical ->> 'nominal_v')::double precision) * (1 + $7::double precision)))`
+
 // ListComponents returns up to f.Limit components in id order after
 // f.AfterID, and whether more follow.
 func (s *Store) ListComponents(ctx context.Context, f ComponentFilter) ([]domain.Component, bool, error) {
@@ -179,9 +189,9 @@ func (s *Store) ListComponents(ctx context.Context, f ComponentFilter) ([]domain
 		  AND ($2 = '' OR kind = $2)
 		  AND ($3 = '' OR bin = $3)
 		  AND ($4 = '' OR (name || ' ' || description) ILIKE '%' || $4 || '%')
-		  AND ($5::double precision IS NULL OR (window_low_v <= $5 AND window_high_v >= $5))
+		  AND ($5::double precision IS NULL OR `+supplyWindowHolds+`)
 		ORDER BY id LIMIT $6`,
-		f.AfterID, f.Kind, f.Bin, escapeLike(f.Query), fits, limit+1)
+		f.AfterID, f.Kind, f.Bin, escapeLike(f.Query), fits, limit+1, domain.RatedVoltageTolerance)
 	if err != nil {
 		return nil, false, fmt.Errorf("list components: %w", err)
 	}
@@ -255,9 +265,51 @@ func (s *Store) DeleteComponent(ctx context.Context, actor domain.User, id, expe
 	})
 }
 
+// ShelfFilter narrows the public shelf. Zero values do not filter.
+type ShelfFilter struct {
+	// Query's words must each appear, in any case, somewhere in a part's
+	// name, kind, bin, description or origin.
+	Query string
+	Kind  string
+	Bin   string
+}
+
+// shelfSearchText is what a shelf search looks in; migration 0011 keeps
+// a trigram index on this very expression, so a word of three letters or
+// more is found without reading the whole table.
+const shelfSearchText = `(name || ' ' || kind || ' ' || bin || ' ' || description || ' ' || origin)`
+
+// shelfWhere is the filter's condition on components, with its arguments
+// appended to args (numbered on from them). Only the filters in use are
+// written, one ILIKE per word, so each can use its index.
+func (f ShelfFilter) shelfWhere(args []any) (string, []any) {
+	conds := []string{"true"}
+	add := func(cond string, arg any) {
+		args = append(args, arg)
+		conds = append(conds, fmt.Sprintf(cond, len(args)))
+	}
+	if f.Kind != "" {
+		add("kind = $%d", f.Kind)
+	}
+	if f.Bin != "" {
+		add("bin = $%d", f.Bin)
+	}
+	for _, w := range strings.Fields(f.Query) {
+		add(shelfSearchText+" ILIKE $%d", "%"+escapeLike(w)+"%")
+	}
+	return strings.Join(conds, " AND "), args
+}
+
 // Shelf returns the public view of every component, by bin then name.
 func (s *Store) Shelf(ctx context.Context) ([]domain.ShelfItem, error) {
-	rows, err := s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components ORDER BY bin, name, id`)
+	return s.ShelfMatching(ctx, ShelfFilter{})
+}
+
+// ShelfMatching returns the public view of every component that f lets
+// through, by bin then name.
+func (s *Store) ShelfMatching(ctx context.Context, f ShelfFilter) ([]domain.ShelfItem, error) {
+	where, args := f.shelfWhere(nil)
+	rows, err := s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components WHERE `+where+` ORDER BY bin, name, id`, args...)
 	if err != nil {
 		return nil, fmt.Errorf("read shelf: %w", err)
 	}
@@ -266,6 +318,29 @@ func (s *Store) Shelf(ctx context.Context) ([]domain.ShelfItem, error) {
 		return nil, fmt.Errorf("read shelf: %w", err)
 	}
 	return items, nil
+}
+
+// ShelfKindCounts counts, per kind, the parts that f's query and bin let
+// through; f.Kind is left out, so a kiosk can show what each kind would
+// hold. Kinds with no such part are absent.
+func (s *Store) ShelfKindCounts(ctx context.Context, f ShelfFilter) (map[string]int, error) {
+	f.Kind = ""
+	where, args := f.shelfWhere(nil)
+	rows, err := s.pool.Query(ctx, `SELECT kind, count(*) FROM components WHERE `+where+` GROUP BY kind`, args...)
+	if err != nil {
+		return nil, fmt.Errorf("count shelf kinds: %w", err)
+	}
+	counts := map[string]int{}
+	var kind string
+	var n int
+	_, err = pgx.ForEachRow(rows, []any{&kind, &n}, func() error {
+		counts[kind] = n
+		return nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("count shelf kinds: %w", err)
+	}
+	return counts, nil
 }
 
 // ShelfCursor is where a page of the shelf ends, in shelf order.
@@ -294,19 +369,17 @@ func scanShelfItem(row pgx.Row) (domain.ShelfItem, error) {
 	return it, nil
 }
 
-// ShelfPage returns up to limit shelf items after cursor (nil: from the
-// start) in shelf order, and whether more follow. It walks the (bin,
-// name, id) index, so every page costs the same however deep it is.
-func (s *Store) ShelfPage(ctx context.Context, after *ShelfCursor, limit int) ([]domain.ShelfItem, bool, error) {
-	var rows pgx.Rows
-	var err error
+// ShelfPage returns up to limit shelf items that f lets through after
+// cursor (nil: from the start) in shelf order, and whether more follow.
+// Unfiltered, it walks the (bin, name, id) index, so every page costs the
+// same however deep it is.
+func (s *Store) ShelfPage(ctx context.Context, f ShelfFilter, after *ShelfCursor, limit int) ([]domain.ShelfItem, bool, error) {
 	if after == nil {
-		rows, err = s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components ORDER BY bin, name, id LIMIT $1`, limit+1)
-	} else {
-		rows, err = s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components
-			WHERE (bin, name, id) > ($1, $2, $3) ORDER BY bin, name, id LIMIT $4`,
-			after.Bin, after.Name, after.ID, limit+1)
+		after = &ShelfCursor{} // every row sorts after ('', '', 0): ids start at 1
 	}
+	where, args := f.shelfWhere([]any{after.Bin, after.Name, after.ID, limit + 1})
+	rows, err := s.pool.Query(ctx, `SELECT `+shelfColumns+` FROM components
+		WHERE (bin, name, id) > ($1, $2, $3) AND `+where+` ORDER BY bin, name, id LIMIT $4`, args...)
 	if err != nil {
 		return nil, false, fmt.Errorf("read shelf page: %w", err)
 	}

@@ -267,13 +267,15 @@ func TestListComponentsFilters(t *testing.T) {
 		{"q backslash", store.ComponentFilter{Query: `probe\t`}, []string{`probe\tip`}},
 		{"q lone backslash", store.ComponentFilter{Query: `\`}, []string{`probe\tip`}},
 		{"q SQL injection attempt", store.ComponentFilter{Query: `' OR 1=1 --`}, nil},
-		{"fits inside a min/max window", store.ComponentFilter{FitsV: volts(5)}, []string{"Hand-mixer gear motor", "Blind winder motor", "Buck board", "Ring terminal"}},
-		{"fits at the window's top edge", store.ComponentFilter{FitsV: volts(8.4)}, []string{"Hand-mixer gear motor", "Blind winder motor", "Buck board", "Ring terminal"}},
-		{"fits above a motor's max_v", store.ComponentFilter{FitsV: volts(9)}, []string{"Blind winder motor", "Buck board", "Ring terminal"}},
-		{"fits below a regulator's input window", store.ComponentFilter{FitsV: volts(4)}, []string{"Hand-mixer gear motor", "Blind winder motor", "Ring terminal"}},
-		{"fits only a connector", store.ComponentFilter{FitsV: volts(48)}, []string{"Ring terminal"}},
+		// Rated 12 V with the ±10 % of domain.RatedVoltageTolerance: 10.8–13.2 V.
+		{"fits inside a min/max window", store.ComponentFilter{FitsV: volts(5)}, []string{"Hand-mixer gear motor", "Buck board"}},
+		{"fits at the window's top edge", store.ComponentFilter{FitsV: volts(8.4)}, []string{"Hand-mixer gear motor", "Buck board"}},
+		{"fits above a motor's max_v", store.ComponentFilter{FitsV: volts(9)}, []string{"Buck board"}},
+		{"fits below a regulator's input window", store.ComponentFilter{FitsV: volts(4)}, []string{"Hand-mixer gear motor"}},
+		{"fits around a rated voltage", store.ComponentFilter{FitsV: volts(13)}, []string{"Blind winder motor", "Buck board"}},
+		{"a connector's rating is no supply", store.ComponentFilter{FitsV: volts(48)}, nil},
 		{"fits nothing", store.ComponentFilter{FitsV: volts(61)}, nil},
-		{"kind and fits together", store.ComponentFilter{Kind: "motor", FitsV: volts(10)}, []string{"Blind winder motor"}},
+		{"kind and fits together", store.ComponentFilter{Kind: "motor", FitsV: volts(11)}, []string{"Blind winder motor"}},
 		{"bin and q together", store.ComponentFilter{Bin: "S2", Query: "rocker"}, []string{"OBrien rocker"}},
 	}
 	for _, tt := range tests {
