@@ -304,6 +304,24 @@ func (e GetReadyz200JSONResponseBodyStatus) Valid() bool {
 	}
 }
 
+// Defines values for GetShelfParamsWall.
+const (
+	N0 GetShelfParamsWall = 0
+	N1 GetShelfParamsWall = 1
+)
+
+// Valid indicates whether the value is a known member of the GetShelfParamsWall enum.
+func (e GetShelfParamsWall) Valid() bool {
+	switch e {
+	case N0:
+		return true
+	case N1:
+		return true
+	default:
+		return false
+	}
+}
+
 // Component defines model for Component.
 type Component struct {
 	Bin             *string             `json:"bin,omitempty"`
@@ -868,12 +886,32 @@ type GetReadyz200JSONResponseBodyStatus string
 
 // GetShelfParams defines parameters for GetShelf.
 type GetShelfParams struct {
+	// Q Words that must each appear in a part's name, kind, bin, description or origin.
 	Q    *string `form:"q,omitempty" json:"q,omitempty"`
 	Kind *string `form:"kind,omitempty" json:"kind,omitempty"`
+	Bin  *string `form:"bin,omitempty" json:"bin,omitempty"`
 
-	// RefreshS Seconds between refreshes (1 to 30).
+	// After The place a page ends at, from the page's Next link.
+	After *string `form:"after,omitempty" json:"after,omitempty"`
+
+	// Limit Parts on a page (1 to 100; 24, or 40 on a wall).
+	Limit *int `form:"limit,omitempty" json:"limit,omitempty"`
+
+	// Wall 1: the wall screen, which fits the screen and turns its pages; 0: the ordinary page. Without it, as WATTSHELF_KIOSK_WALL says.
+	Wall *GetShelfParamsWall `form:"wall,omitempty" json:"wall,omitempty"`
+
+	// EveryS Seconds a wall screen shows each page (1 to 600; 12).
+	EveryS *int `form:"every_s,omitempty" json:"every_s,omitempty"`
+
+	// IdleS Seconds untouched before a paused wall screen turns again (1 to 3600; 60).
+	IdleS *int `form:"idle_s,omitempty" json:"idle_s,omitempty"`
+
+	// RefreshS Seconds between refreshes of the ordinary page (1 to 30; 15).
 	RefreshS *int `form:"refresh_s,omitempty" json:"refresh_s,omitempty"`
 }
+
+// GetShelfParamsWall defines parameters for GetShelf.
+type GetShelfParamsWall int
 
 // GetV1ComponentsParams defines parameters for GetV1Components.
 type GetV1ComponentsParams struct {
@@ -883,7 +921,7 @@ type GetV1ComponentsParams struct {
 	Q   *string `form:"q,omitempty" json:"q,omitempty"`
 	Bin *string `form:"bin,omitempty" json:"bin,omitempty"`
 
-	// FitsV Only parts whose voltage window contains this voltage.
+	// FitsV Only parts whose supply window holds this voltage: their min_v/max_v, else their input window; an end left out is the rated (else nominal) voltage ±10 %, a low end still unknown 0 V. Parts with no supply voltage (wire, fuses, connectors) are not listed.
 	FitsV *float64 `form:"fits_v,omitempty" json:"fits_v,omitempty"`
 	Limit *Limit   `form:"limit,omitempty" json:"limit,omitempty"`
 
@@ -988,7 +1026,13 @@ type PostV1ReviewsParams struct {
 
 // GetV1ShelfParams defines parameters for GetV1Shelf.
 type GetV1ShelfParams struct {
-	Limit *Limit `form:"limit,omitempty" json:"limit,omitempty"`
+	// Q Words that must each appear, in any case, in a part's name, kind, bin, description or origin.
+	Q    *string        `form:"q,omitempty" json:"q,omitempty"`
+	Kind *ComponentKind `form:"kind,omitempty" json:"kind,omitempty"`
+
+	// Bin The bin exactly as recorded.
+	Bin   *string `form:"bin,omitempty" json:"bin,omitempty"`
+	Limit *Limit  `form:"limit,omitempty" json:"limit,omitempty"`
 
 	// Cursor The `next` of the previous page, as given; cursors are signed, so any other value is a 400.
 	Cursor      *Cursor `form:"cursor,omitempty" json:"cursor,omitempty"`
@@ -1102,6 +1146,11 @@ func WithRequestEditorFn(fn RequestEditorFn) ClientOption {
 // The interface specification for the client above.
 type ClientInterface interface {
 
+	// Get Leads to the shelf page
+	//
+	// Corresponds with GET / (the `Get` operationId).
+	Get(ctx context.Context, reqEditors ...RequestEditorFn) (*http.Response, error)
+
 	// GetAssetsName A stylesheet, script or icon the pages use
 	//
 	// Corresponds with GET /assets/{name} (the `GetAssetsName` operationId).
@@ -1134,7 +1183,9 @@ type ClientInterface interface {
 	// Corresponds with GET /reports/{share_id} (the `GetReportsShareId` operationId).
 	GetReportsShareId(ctx context.Context, shareId string, reqEditors ...RequestEditorFn) (*http.Response, error)
 
-	// GetShelf The shelf kiosk page
+	// GetShelf The shelf kiosk page, one page of the shelf at a time
+	//
+	// Filters and pages on the server. A value out of bounds is brought within them, and a place it cannot read starts from the first page.
 	//
 	// Corresponds with GET /shelf (the `GetShelf` operationId).
 	GetShelf(ctx context.Context, params *GetShelfParams, reqEditors ...RequestEditorFn) (*http.Response, error)
@@ -1415,10 +1466,25 @@ type ClientInterface interface {
 
 	// GetV1Shelf The public shelf, without owners or notes
 	//
-	// Carries an ETag over its content; send If-None-Match to poll cheaply. Without `limit` or `cursor` it is the whole shelf; with either, one page in bin-then-name order and a `next` cursor while more follow.
+	// Carries an ETag over its content; send If-None-Match to poll cheaply. Without `limit` or `cursor` it is the whole shelf; with either, one page in bin-then-name order and a `next` cursor while more follow. The filters apply on the server; a query parameter not listed here is refused (400).
 	//
 	// Corresponds with GET /v1/shelf (the `GetV1Shelf` operationId).
 	GetV1Shelf(ctx context.Context, params *GetV1ShelfParams, reqEditors ...RequestEditorFn) (*http.Response, error)
+}
+
+// Get Leads to the shelf page
+//
+// Corresponds with GET / (the `Get` operationId).
+func (c *Client) Get(ctx context.Context, reqEditors ...RequestEditorFn) (*http.Response, error) {
+	req, err := NewGetRequest(c.Server)
+	if err != nil {
+		return nil, err
+	}
+	req = req.WithContext(ctx)
+	if err := c.applyEditors(ctx, req, reqEditors); err != nil {
+		return nil, err
+	}
+	return c.Client.Do(req)
 }
 
 // GetAssetsName A stylesheet, script or icon the pages use
@@ -1513,7 +1579,9 @@ func (c *Client) GetReportsShareId(ctx context.Context, shareId string, reqEdito
 	return c.Client.Do(req)
 }
 
-// GetShelf The shelf kiosk page
+// GetShelf The shelf kiosk page, one page of the shelf at a time
+//
+// Filters and pages on the server. A value out of bounds is brought within them, and a place it cannot read starts from the first page.
 //
 // Corresponds with GET /shelf (the `GetShelf` operationId).
 func (c *Client) GetShelf(ctx context.Context, params *GetShelfParams, reqEditors ...RequestEditorFn) (*http.Response, error) {
@@ -2164,7 +2232,7 @@ func (c *Client) GetV1SchemasDesignJson(ctx context.Context, reqEditors ...Reque
 
 // GetV1Shelf The public shelf, without owners or notes
 //
-// Carries an ETag over its content; send If-None-Match to poll cheaply. Without `limit` or `cursor` it is the whole shelf; with either, one page in bin-then-name order and a `next` cursor while more follow.
+// Carries an ETag over its content; send If-None-Match to poll cheaply. Without `limit` or `cursor` it is the whole shelf; with either, one page in bin-then-name order and a `next` cursor while more follow. The filters apply on the server; a query parameter not listed here is refused (400).
 //
 // Corresponds with GET /v1/shelf (the `GetV1Shelf` operationId).
 func (c *Client) GetV1Shelf(ctx context.Context, params *GetV1ShelfParams, reqEditors ...RequestEditorFn) (*http.Response, error) {
@@ -2177,6 +2245,33 @@ func (c *Client) GetV1Shelf(ctx context.Context, params *GetV1ShelfParams, reqEd
 		return nil, err
 	}
 	return c.Client.Do(req)
+}
+
+// NewGetRequest constructs an http.Request for the Get method
+func NewGetRequest(server string) (*http.Request, error) {
+	var err error
+
+	serverURL, err := url.Parse(server)
+	if err != nil {
+		return nil, err
+	}
+
+	operationPath := fmt.Sprintf("/")
+	if operationPath[0] == '/' {
+		operationPath = "." + operationPath
+	}
+
+	queryURL, err := serverURL.Parse(operationPath)
+	if err != nil {
+		return nil, err
+	}
+
+	req, err := http.NewRequest(http.MethodGet, queryURL.String(), nil)
+	if err != nil {
+		return nil, err
+	}
+
+	return req, nil
 }
 
 // NewGetAssetsNameRequest constructs an http.Request for the GetAssetsName method
@@ -2398,6 +2493,78 @@ func NewGetShelfRequest(server string, params *GetShelfParams) (*http.Request, e
 		if params.Kind != nil {
 
 			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "kind", *params.Kind, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
+		if params.Bin != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "bin", *params.Bin, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
+		if params.After != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "after", *params.After, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
+		if params.Limit != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "limit", *params.Limit, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "integer", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
+		if params.Wall != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "wall", *params.Wall, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "integer", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
+		if params.EveryS != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "every_s", *params.EveryS, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "integer", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
+		if params.IdleS != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "idle_s", *params.IdleS, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "integer", Format: ""}); err != nil {
 				return nil, err
 			} else {
 				for _, qp := range strings.Split(queryFrag, "&") {
@@ -3747,6 +3914,42 @@ func NewGetV1ShelfRequest(server string, params *GetV1ShelfParams) (*http.Reques
 		// per the OpenAPI spec (e.g. "color=blue,black,brown").
 		var rawQueryFragments []string
 
+		if params.Q != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "q", *params.Q, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
+		if params.Kind != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "kind", *params.Kind, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
+		if params.Bin != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "bin", *params.Bin, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
 		if params.Limit != nil {
 
 			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "limit", *params.Limit, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "integer", Format: ""}); err != nil {
@@ -3844,6 +4047,13 @@ func WithBaseURL(baseURL string) ClientOption {
 // ClientWithResponsesInterface is the interface specification for the client with responses above.
 type ClientWithResponsesInterface interface {
 
+	// GetWithResponse Leads to the shelf page
+	//
+	// Returns a wrapper object for the known response body format(s).
+	//
+	// Corresponds with GET / (the `Get` operationId).
+	GetWithResponse(ctx context.Context, reqEditors ...RequestEditorFn) (*GetResponse, error)
+
 	// GetAssetsNameWithResponse A stylesheet, script or icon the pages use
 	//
 	// Returns a wrapper object for the known response body format(s).
@@ -3888,7 +4098,9 @@ type ClientWithResponsesInterface interface {
 	// Corresponds with GET /reports/{share_id} (the `GetReportsShareId` operationId).
 	GetReportsShareIdWithResponse(ctx context.Context, shareId string, reqEditors ...RequestEditorFn) (*GetReportsShareIdResponse, error)
 
-	// GetShelfWithResponse The shelf kiosk page
+	// GetShelfWithResponse The shelf kiosk page, one page of the shelf at a time
+	//
+	// Filters and pages on the server. A value out of bounds is brought within them, and a place it cannot read starts from the first page.
 	//
 	// Returns a wrapper object for the known response body format(s).
 	//
@@ -4203,12 +4415,53 @@ type ClientWithResponsesInterface interface {
 
 	// GetV1ShelfWithResponse The public shelf, without owners or notes
 	//
-	// Carries an ETag over its content; send If-None-Match to poll cheaply. Without `limit` or `cursor` it is the whole shelf; with either, one page in bin-then-name order and a `next` cursor while more follow.
+	// Carries an ETag over its content; send If-None-Match to poll cheaply. Without `limit` or `cursor` it is the whole shelf; with either, one page in bin-then-name order and a `next` cursor while more follow. The filters apply on the server; a query parameter not listed here is refused (400).
 	//
 	// Returns a wrapper object for the known response body format(s).
 	//
 	// Corresponds with GET /v1/shelf (the `GetV1Shelf` operationId).
 	GetV1ShelfWithResponse(ctx context.Context, params *GetV1ShelfParams, reqEditors ...RequestEditorFn) (*GetV1ShelfResponse, error)
+}
+
+// GetResponse303Headers the declared response headers of an HTTP 303 response for Get
+type GetResponse303Headers struct {
+	Location *string
+}
+
+type GetResponse struct {
+	Body         []byte
+	HTTPResponse *http.Response
+	// Headers303 the parsed response headers for an HTTP 303 response
+	Headers303 *GetResponse303Headers
+}
+
+// GetBody returns the raw response body bytes
+func (r GetResponse) GetBody() []byte {
+	return r.Body
+}
+
+// Status returns HTTPResponse.Status
+func (r GetResponse) Status() string {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.Status
+	}
+	return http.StatusText(0)
+}
+
+// StatusCode returns HTTPResponse.StatusCode
+func (r GetResponse) StatusCode() int {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.StatusCode
+	}
+	return 0
+}
+
+// ContentType is a convenience method to retrieve the Content-Type value from the HTTP response headers
+func (r GetResponse) ContentType() string {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.Header.Get("Content-Type")
+	}
+	return ""
 }
 
 type GetAssetsNameResponse struct {
@@ -6313,6 +6566,19 @@ func (r GetV1ShelfResponse) ContentType() string {
 	return ""
 }
 
+// GetWithResponse Leads to the shelf page
+//
+// Returns a wrapper object for the known response body format(s).
+//
+// Corresponds with GET / (the `Get` operationId).
+func (c *ClientWithResponses) GetWithResponse(ctx context.Context, reqEditors ...RequestEditorFn) (*GetResponse, error) {
+	rsp, err := c.Get(ctx, reqEditors...)
+	if err != nil {
+		return nil, err
+	}
+	return ParseGetResponse(rsp)
+}
+
 // GetAssetsNameWithResponse A stylesheet, script or icon the pages use
 //
 // Returns a wrapper object for the known response body format(s).
@@ -6393,7 +6659,9 @@ func (c *ClientWithResponses) GetReportsShareIdWithResponse(ctx context.Context,
 	return ParseGetReportsShareIdResponse(rsp)
 }
 
-// GetShelfWithResponse The shelf kiosk page
+// GetShelfWithResponse The shelf kiosk page, one page of the shelf at a time
+//
+// Filters and pages on the server. A value out of bounds is brought within them, and a place it cannot read starts from the first page.
 //
 // Returns a wrapper object for the known response body format(s).
 //
@@ -6930,7 +7198,7 @@ func (c *ClientWithResponses) GetV1SchemasDesignJsonWithResponse(ctx context.Con
 
 // GetV1ShelfWithResponse The public shelf, without owners or notes
 //
-// Carries an ETag over its content; send If-None-Match to poll cheaply. Without `limit` or `cursor` it is the whole shelf; with either, one page in bin-then-name order and a `next` cursor while more follow.
+// Carries an ETag over its content; send If-None-Match to poll cheaply. Without `limit` or `cursor` it is the whole shelf; with either, one page in bin-then-name order and a `next` cursor while more follow. The filters apply on the server; a query parameter not listed here is refused (400).
 //
 // Returns a wrapper object for the known response body format(s).
 //
@@ -6941,6 +7209,35 @@ func (c *ClientWithResponses) GetV1ShelfWithResponse(ctx context.Context, params
 		return nil, err
 	}
 	return ParseGetV1ShelfResponse(rsp)
+}
+
+// ParseGetResponse parses an HTTP response from a GetWithResponse call
+func ParseGetResponse(rsp *http.Response) (*GetResponse, error) {
+	bodyBytes, err := io.ReadAll(rsp.Body)
+	defer func() { _ = rsp.Body.Close() }()
+	if err != nil {
+		return nil, err
+	}
+
+	response := &GetResponse{
+		Body:         bodyBytes,
+		HTTPResponse: rsp,
+	}
+
+	switch {
+	case rsp.StatusCode == 303:
+		var headers GetResponse303Headers
+		if values := rsp.Header.Values("Location"); len(values) > 0 {
+			var value string
+			if err := runtime.BindStyledParameterWithOptions("simple", "Location", values[0], &value, runtime.BindStyledParameterOptions{ParamLocation: runtime.ParamLocationHeader, Explode: false, Required: false, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			}
+			headers.Location = &value
+		}
+		response.Headers303 = &headers
+	}
+
+	return response, nil
 }
 
 // ParseGetAssetsNameResponse parses an HTTP response from a GetAssetsNameWithResponse call
