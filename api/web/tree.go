@@ -28,7 +28,23 @@ type treeDiagram struct {
 	Width, Height int
 	Nodes         []treeBox
 	Links         []treeLink
+	// Outline is the same tree laid out top to bottom, each node under
+	// its parent and indented by its depth, for paper: the diagram,
+	// shrunk to a page's width, would print its labels too small to read.
+	Outline []outlineEntry
 }
+
+// outlineEntry is a node of the printed outline: its box's texts and the
+// labels of the feed that reaches it.
+type outlineEntry struct {
+	Indent int // the depth, up to maxOutlineIndent: a long chain still fits the page
+	Box    *treeBox
+	From   string // the node that feeds it
+	Feed   string // the feed's labels
+	Status string
+}
+
+const maxOutlineIndent = 8
 
 type treeBox struct {
 	ID     string
@@ -96,11 +112,13 @@ func layoutTree(rep review.Report, docNodes []domain.Node, worst map[string]revi
 	placed := make([]bool, len(nodes))
 	nextRow := 0
 	maxDepth := 0
+	var order []int // pre-order, each node after its parent
 	// place is iterative: a design may hold thousands of nodes in one chain.
 	place := func(root int) {
 		type frame struct{ node, next int }
 		stack := []frame{{root, 0}}
 		placed[root] = true
+		order = append(order, root)
 		for len(stack) > 0 {
 			top := &stack[len(stack)-1]
 			n := top.node
@@ -109,6 +127,7 @@ func layoutTree(rep review.Report, docNodes []domain.Node, worst map[string]revi
 				top.next++
 				if !placed[c] {
 					placed[c] = true
+					order = append(order, c)
 					depth[c] = depth[n] + 1
 					maxDepth = max(maxDepth, depth[c])
 					stack = append(stack, frame{c, 0})
@@ -148,6 +167,7 @@ func layoutTree(rep review.Report, docNodes []domain.Node, worst map[string]revi
 		Width:  2*treePad + (maxDepth+1)*boxW + maxDepth*colGap,
 		Height: 2*treePad + max(nextRow, 1)*boxH + max(nextRow-1, 0)*rowGap,
 	}
+	feedLabels := make([][]string, len(nodes)) // of the feed reaching each node
 	pos := func(i int) (int, int) {
 		return treePad + depth[i]*(boxW+colGap), treePad + int(row[i]*float64(boxH+rowGap)+0.5)
 	}
@@ -178,7 +198,19 @@ func layoutTree(rep review.Report, docNodes []domain.Node, worst map[string]revi
 		if known {
 			feed = dn.Feed
 		}
-		d.Links = append(d.Links, feedLink(px, py, x, y, feeds[n.ID], feed))
+		link := feedLink(px, py, x, y, feeds[n.ID], feed)
+		d.Links = append(d.Links, link)
+		for _, l := range link.Labels {
+			feedLabels[i] = append(feedLabels[i], l.Text)
+		}
+	}
+	for _, i := range order {
+		e := outlineEntry{Indent: min(depth[i], maxOutlineIndent), Box: &d.Nodes[i], Status: d.Nodes[i].Status,
+			Feed: strings.Join(feedLabels[i], "; ")}
+		if parent[i] >= 0 {
+			e.From = nodes[parent[i]].ID
+		}
+		d.Outline = append(d.Outline, e)
 	}
 	return d
 }
