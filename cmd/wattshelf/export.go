@@ -206,15 +206,17 @@ func electricalCells(e domain.Electrical) ([]string, error) {
 // depends on its locale), and reads a cell that starts with =, +, - or @
 // as a formula: so wherever a cell could start (the text's start, or
 // after any separator or line break in it), text that starts like a
-// formula, past quotes and spaces, gets an apostrophe, which spreadsheets
-// show as plain text; so does a leading tab or carriage return (OWASP's
-// CSV injection advice, from memory). A cell holding a separator, a quote
-// or a line break is then quoted as RFC 4180 section 2 says.
+// formula, past quotes, spaces and apostrophes, gets an apostrophe, which
+// spreadsheets show as plain text; so does a leading tab or carriage
+// return (OWASP's CSV injection advice, from memory). Counting the
+// apostrophes already there lets the import take exactly the added one
+// off again (unguardCell). A cell holding a separator, a quote or a line
+// break is then quoted as RFC 4180 section 2 says.
 func spreadsheetCell(s string) string {
 	var b strings.Builder
 	cellStart := true
 	for i := 0; i < len(s); i++ {
-		if cellStart && (startsLikeFormula(s[i:]) || s[i] == '\t' || s[i] == '\r') {
+		if cellStart && guarded(s[i:]) {
 			b.WriteByte('\'')
 		}
 		cellStart = strings.IndexByte(csvSplitters, s[i]) >= 0
@@ -225,6 +227,32 @@ func spreadsheetCell(s string) string {
 		return text
 	}
 	return `"` + strings.ReplaceAll(text, `"`, `""`) + `"`
+}
+
+// unguardCell takes off the apostrophes spreadsheetCell put in front of
+// text that starts like a formula, so a part named "+5 V fan" survives
+// the trip through a spreadsheet. s is the cell as the CSV reader gives
+// it, unquoted.
+func unguardCell(s string) string {
+	var b strings.Builder
+	cellStart := true
+	for i := 0; i < len(s); i++ {
+		if cellStart && s[i] == '\'' && guarded(s[i+1:]) {
+			cellStart = false
+			continue
+		}
+		cellStart = strings.IndexByte(csvSplitters, s[i]) >= 0
+		b.WriteByte(s[i])
+	}
+	return b.String()
+}
+
+// guarded tells whether text at the start of a cell needs the guard:
+// past any apostrophes, it starts like a formula or with a tab or a
+// carriage return.
+func guarded(s string) bool {
+	s = strings.TrimLeft(s, "'")
+	return startsLikeFormula(s) || strings.HasPrefix(s, "\t") || strings.HasPrefix(s, "\r")
 }
 
 // csvSplitters are where a spreadsheet may start a new cell.

@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"errors"
+	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -10,14 +11,23 @@ import (
 	"wattshelf/domain/store"
 )
 
-const importUsage = "usage: wattshelf import FILE   (a JSON file written by wattshelf export)"
+const importUsage = `usage: wattshelf import FILE                           (a JSON backup written by wattshelf export)
+       wattshelf import --format csv FILE [--dry-run]   (parts from a spreadsheet in the CSV export's columns)`
 
 // importCommand restores a JSON export into an empty database, creating
 // and migrating it first when it can.
 func importCommand(ctx context.Context, args []string, env environment, stdout io.Writer) error {
-	if len(args) != 1 {
+	fs := flag.NewFlagSet("import", flag.ContinueOnError)
+	fs.SetOutput(io.Discard)
+	format := fs.String("format", "json", "json or csv")
+	dryRun := fs.Bool("dry-run", false, "csv: show what would change, store nothing")
+	if err := fs.Parse(args); err != nil || fs.NArg() != 1 || (*format != "json" && *format != "csv") || (*dryRun && *format != "csv") {
 		return &exitError{code: 2, msg: importUsage}
 	}
+	if *format == "csv" {
+		return importShelfCSV(ctx, fs.Arg(0), *dryRun, env, stdout)
+	}
+	args = fs.Args()
 	f, err := os.Open(args[0])
 	if err != nil {
 		return fmt.Errorf("import: %w", err)
