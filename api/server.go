@@ -29,9 +29,6 @@ const MaxBodyBytes = 2 << 20
 type Config struct {
 	Store  *store.Store
 	Logger *slog.Logger
-	// Tokens checks bearer tokens; nil means asking Store every time.
-	// serve passes a store.TokenCache.
-	Tokens authenticator
 	// Writes stores reviews and creates components; nil means Store, one
 	// statement each. serve passes a store.Writer.
 	Writes writes
@@ -67,7 +64,6 @@ type server struct {
 	writes        writes
 	reviewLimiter *clientLimiter
 	cursors       cursorCodec
-	tokens        authenticator
 }
 
 // New builds the router with every route and middleware.
@@ -116,10 +112,6 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.Use(requestDeadline(DatabaseWaitLimit))
 	e.Use(refuseUnstorableText)
 	e.Use(middleware.BodyLimit(fmt.Sprint(MaxBodyBytes)))
-	s.tokens = cfg.Tokens
-	if s.tokens == nil {
-		s.tokens = cfg.Store
-	}
 	s.writes = cfg.Writes
 	if s.writes == nil {
 		s.writes = cfg.Store

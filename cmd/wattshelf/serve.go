@@ -75,17 +75,6 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 		return err
 	}
 
-	tokens := store.NewTokenCache(st, store.TokenCacheTTL)
-	listenCtx, stopListening := context.WithCancel(ctx)
-	listened := make(chan struct{})
-	go func() {
-		defer close(listened)
-		_ = tokens.Listen(listenCtx, time.Second, func(err error) {
-			logger.Warn("token cache off: its listening connection is gone; every token goes to the database until it is back", "err", err)
-		})
-	}()
-	defer func() { stopListening(); <-listened }()
-
 	// The writers outlive the signal: requests still being answered during
 	// the shutdown need them, so they stop only when serve returns.
 	writer := store.NewWriter(st, batchWriters, batchMax)
@@ -95,11 +84,11 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	defer func() { stopWriting(); <-written }()
 
 	registry := prometheus.NewRegistry()
-	if err := registerServeMetrics(registry, tokens, writer); err != nil {
+	if err := registerServeMetrics(registry, writer); err != nil {
 		return err
 	}
 	handler, err := api.New(api.Config{
-		Store: st, Tokens: tokens, Writes: writer, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
+		Store: st, Writes: writer, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
 		TrustedProxies: proxies,
 	})
 	if err != nil {
@@ -151,25 +140,12 @@ const (
 	batchMax     = 8
 )
 
-// registerServeMetrics exports how often a token was checked from memory
-// and how often the database was asked, whether the token cache is
-// listening, and how many statements carried how many batched writes.
-func registerServeMetrics(reg prometheus.Registerer, tokens *store.TokenCache, writer *store.Writer) error {
-	collectors := append(
-		statsCounters(writer.Stats,
-			"wattshelf_batched_write_statements_total", "Statements that stored reviews or created components; writes that arrive together share one.",
-			"wattshelf_batched_writes_total", "Reviews and components handed to those statements."),
-		statsCounters(tokens.Stats,
-			"wattshelf_token_checks_remembered_total", "Bearer tokens accepted from the server's memory of recent checks.",
-			"wattshelf_token_checks_database_total", "Bearer tokens checked against the database.")...)
-	collectors = append(collectors, prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: "wattshelf_token_cache_listening",
-		Help: "1 while the server listens for token changes and so may remember checked tokens, else 0."},
-		func() float64 {
-			if tokens.Listening() {
-				return 1
-			}
-			return 0
-		}))
+// registerServeMetrics exports how many statements carried how many
+// batched writes.
+func registerServeMetrics(reg prometheus.Registerer, writer *store.Writer) error {
+	collectors := statsCounters(writer.Stats,
+		"wattshelf_batched_write_statements_total", "Statements that stored reviews or created components; writes that arrive together share one.",
+		"wattshelf_batched_writes_total", "Reviews and components handed to those statements.")
 	for _, c := range collectors {
 		if err := reg.Register(c); err != nil {
 			return fmt.Errorf("register serve metrics: %w", err)
