@@ -221,7 +221,6 @@ func (s *server) saveDesign(c echo.Context, id, version int64, name string, docu
 	if err != nil {
 		return err
 	}
-	s.designs.forget(id) // not needed to stay correct, but the next review would find it stale
 	return jsonWithETag(c, http.StatusOK, d.Version, d)
 }
 
@@ -237,6 +236,5 @@ func (s *server) deleteDesign(c echo.Context) error {
 	if err := s.store.DeleteDesign(c.Request().Context(), currentUser(c), id, version); err != nil {
 		return err
 	}
-	s.designs.forget(id)
 	return c.NoContent(http.StatusNoContent)
 }

@@ -60,7 +60,6 @@ type server struct {
 	schemaVersion uint
 	limits        *limitsCache
 	shelf         *shelfCache
-	designs       *designCache
 	writes        writes
 	reviewLimiter *clientLimiter
 	cursors       cursorCodec
@@ -75,7 +74,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	if err != nil {
 		return nil, err
 	}
-	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache(), designs: newDesignCache()}
+	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache()}
 	keyCtx, cancel := context.WithTimeout(context.Background(), DatabaseWaitLimit)
 	defer cancel()
 	if s.cursors.key, err = cfg.Store.CursorKey(keyCtx); err != nil {
