@@ -250,7 +250,7 @@ func (s *server) createComponent(c echo.Context) error {
 	if err := in.Validate(); err != nil {
 		return err
 	}
-	comp, err := s.writes.CreateComponent(c.Request().Context(), currentUser(c), in)
+	comp, err := s.store.CreateComponent(c.Request().Context(), currentUser(c), in)
 	if err != nil {
 		return err
 	}

@@ -136,7 +136,7 @@ func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion
 	if err != nil {
 		return store.StoredReview{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
 	}
-	return s.writes.AddReview(ctx, currentUser(c), store.NewReview{
+	return s.store.AddReview(ctx, currentUser(c), store.NewReview{
 		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(report.Status),
 		LimitsVersion: report.LimitsVersion, Report: encoded,
 	})

@@ -18,7 +18,6 @@ import (
 	"github.com/prometheus/client_golang/prometheus/collectors"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
-	"wattshelf/domain"
 	"wattshelf/domain/store"
 )
 
@@ -29,9 +28,6 @@ const MaxBodyBytes = 2 << 20
 type Config struct {
 	Store  *store.Store
 	Logger *slog.Logger
-	// Writes stores reviews and creates components; nil means Store, one
-	// statement each. serve passes a store.Writer.
-	Writes writes
 	// Registry receives the HTTP and pool metrics and is served at /metrics.
 	Registry *prometheus.Registry
 	// PublicBaseURL is the address printed into QR codes and links, e.g.
@@ -47,12 +43,6 @@ type Config struct {
 }
 
 // server holds the dependencies the handlers share.
-// writes stores the writes that a store.Writer can batch.
-type writes interface {
-	AddReview(ctx context.Context, actor domain.User, in store.NewReview) (store.StoredReview, error)
-	CreateComponent(ctx context.Context, actor domain.User, in domain.ComponentInput) (domain.Component, error)
-}
-
 type server struct {
 	cfg           Config
 	store         *store.Store
@@ -60,7 +50,6 @@ type server struct {
 	schemaVersion uint
 	limits        *limitsCache
 	shelf         *shelfCache
-	writes        writes
 	reviewLimiter *clientLimiter
 	cursors       cursorCodec
 }
@@ -111,10 +100,6 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.Use(requestDeadline(DatabaseWaitLimit))
 	e.Use(refuseUnstorableText)
 	e.Use(middleware.BodyLimit(fmt.Sprint(MaxBodyBytes)))
-	s.writes = cfg.Writes
-	if s.writes == nil {
-		s.writes = cfg.Store
-	}
 
 	e.GET("/healthz", s.healthz)
 	e.GET("/readyz", s.readyz)

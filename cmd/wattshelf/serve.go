@@ -14,7 +14,6 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 
 	"wattshelf/api"
-	"wattshelf/domain/store"
 )
 
 // How long a request may last. A client gets headerTimeout to send its
@@ -75,20 +74,9 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 		return err
 	}
 
-	// The writers outlive the signal: requests still being answered during
-	// the shutdown need them, so they stop only when serve returns.
-	writer := store.NewWriter(st, batchWriters, batchMax)
-	writeCtx, stopWriting := context.WithCancel(context.WithoutCancel(ctx))
-	written := make(chan struct{})
-	go func() { defer close(written); writer.Run(writeCtx) }()
-	defer func() { stopWriting(); <-written }()
-
 	registry := prometheus.NewRegistry()
-	if err := registerServeMetrics(registry, writer); err != nil {
-		return err
-	}
 	handler, err := api.New(api.Config{
-		Store: st, Writes: writer, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
+		Store: st, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
 		TrustedProxies: proxies,
 	})
 	if err != nil {
@@ -129,39 +117,6 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	}
 	logger.Info("stopped")
 	return nil
-}
-
-// Stored reviews and new components are written by this many statements
-// at once, each carrying up to batchMax of one kind. On the 2-core build
-// machine two writers of up to 8 stored more reviews a second than four or
-// more; three were about even.
-const (
-	batchWriters = 2
-	batchMax     = 8
-)
-
-// registerServeMetrics exports how many statements carried how many
-// batched writes.
-func registerServeMetrics(reg prometheus.Registerer, writer *store.Writer) error {
-	collectors := statsCounters(writer.Stats,
-		"wattshelf_batched_write_statements_total", "Statements that stored reviews or created components; writes that arrive together share one.",
-		"wattshelf_batched_writes_total", "Reviews and components handed to those statements.")
-	for _, c := range collectors {
-		if err := reg.Register(c); err != nil {
-			return fmt.Errorf("register serve metrics: %w", err)
-		}
-	}
-	return nil
-}
-
-// statsCounters exports the two counts a Stats method returns.
-func statsCounters(stats func() (uint64, uint64), first, firstHelp, second, secondHelp string) []prometheus.Collector {
-	return []prometheus.Collector{
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: first, Help: firstHelp},
-			func() float64 { n, _ := stats(); return float64(n) }),
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: second, Help: secondHelp},
-			func() float64 { _, n := stats(); return float64(n) }),
-	}
 }
 
 // newHTTPServer wraps handler with the timeouts that bound every request.
