@@ -19,9 +19,6 @@ type environment struct {
 	// trustedProxies: WATTSHELF_TRUSTED_PROXIES, parsed by serve.
 	trustedProxies string
 	logLevel       slog.Level
-	// gcTuned: the operator set GOGC or GOMEMLIMIT, and serve leaves the
-	// collector as they said.
-	gcTuned bool
 }
 
 func newEnvironment(getenv func(string) string) environment {
@@ -29,7 +26,6 @@ func newEnvironment(getenv func(string) string) environment {
 		databaseURL:    getenv("DATABASE_URL"),
 		publicURL:      strings.TrimRight(getenv("WATTSHELF_PUBLIC_URL"), "/"),
 		trustedProxies: getenv("WATTSHELF_TRUSTED_PROXIES"),
-		gcTuned:        getenv("GOGC") != "" || getenv("GOMEMLIMIT") != "",
 	}
 	if env.databaseURL == "" {
 		env.databaseURL = defaultDatabaseURL

@@ -8,7 +8,6 @@ import (
 	"io"
 	"net"
 	"net/http"
-	"runtime/debug"
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
@@ -34,18 +33,6 @@ const (
 // still, so neither kills serve while it waits; a test holds them to that.
 const shutdownGrace = headerTimeout + writeTimeout + 5*time.Second
 
-// The collector's settings for serve, unless GOGC or GOMEMLIMIT is set. A
-// review allocates about 100 KB and the live heap is a few megabytes, so at
-// the default GOGC of 100 the collector ran every few dozen reviews; on the
-// 2-core load run, inline reviews went from about 3,000 to 4,400 a second
-// with 400. The heap may then grow to five times the live data, tens of
-// megabytes; the soft limit makes the collector work harder well before
-// the process nears the 100 MB it is meant to stay under (issue 6).
-const (
-	serveGCPercent   = 400
-	serveMemoryLimit = 64 << 20
-)
-
 func serve(ctx context.Context, args []string, env environment, stderr io.Writer) error {
 	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
 	fs.SetOutput(stderr)
@@ -59,10 +46,6 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	proxies, err := api.ParseTrustedProxies(env.trustedProxies)
 	if err != nil {
 		return &exitError{code: 2, msg: "WATTSHELF_TRUSTED_PROXIES: " + err.Error()}
-	}
-	if !env.gcTuned {
-		debug.SetGCPercent(serveGCPercent)
-		debug.SetMemoryLimit(serveMemoryLimit)
 	}
 
 	st, err := env.openMigrated(ctx)
