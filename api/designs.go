@@ -73,7 +73,7 @@ func (s *server) listDesigns(c echo.Context) error {
 	u := currentUser(c)
 	f := store.DesignFilter{Owner: u.Name, Limit: defaultPageSize}
 	if owner := c.QueryParam("owner"); owner != "" {
-		if u.Role != domain.RoleStaff && owner != u.Name {
+		if !u.MayChange(owner) {
 			return newProblem("forbidden", "members list only their own designs")
 		}
 		f.Owner = owner
