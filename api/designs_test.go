@@ -33,6 +33,10 @@ type designHarness struct {
 func newDesignHarness(t *testing.T, cfg Config) *designHarness {
 	t.Helper()
 	st, dbURL := storetest.NewStore(t)
+	// serve stores the default limits as it starts; so does the harness.
+	if _, err := st.SeedDefaultLimits(t.Context()); err != nil {
+		t.Fatal(err)
+	}
 	cfg.Store = st
 	cfg.Logger = slog.New(slog.NewTextHandler(io.Discard, nil))
 	cfg.Registry = prometheus.NewRegistry()

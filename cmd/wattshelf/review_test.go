@@ -64,6 +64,10 @@ var reviewCLIDesigns = map[string]string{
 func reviewCLIServer(t *testing.T, cfg api.Config) (url, dir, memberToken string) {
 	t.Helper()
 	st, _ := storetest.NewStore(t)
+	// serve stores the default limits as it starts; so does the harness.
+	if _, err := st.SeedDefaultLimits(t.Context()); err != nil {
+		t.Fatal(err)
+	}
 	cfg.Store, cfg.Logger, cfg.Registry = st, slog.New(slog.NewTextHandler(io.Discard, nil)), prometheus.NewRegistry()
 	router, err := api.New(cfg)
 	if err != nil {
