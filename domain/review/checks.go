@@ -180,7 +180,7 @@ func (r *reviewer) say(parts ...piece) string {
 func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, passed bool) string) {
 	pick, status := -1, Pass
 	for i, c := range conds {
-		if c.crossed && c.level.rank() > status.rank() {
+		if c.crossed && c.level.Severity() > status.Severity() {
 			pick, status = i, c.level
 		}
 	}

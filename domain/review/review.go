@@ -151,7 +151,7 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 		case OutOfScope:
 			rep.Counts.OutOfScope++
 		}
-		if c.Status.rank() > rep.Status.rank() {
+		if c.Status.Severity() > rep.Status.Severity() {
 			rep.Status = c.Status
 		}
 	}
