@@ -271,11 +271,7 @@ func (s *server) getComponent(c echo.Context) error {
 }
 
 func (s *server) replaceComponent(c echo.Context) error {
-	id, err := pathID(c, "id")
-	if err != nil {
-		return err
-	}
-	version, err := ifMatchVersion(c, s.componentVersion(c, id))
+	id, version, err := s.componentChange(c)
 	if err != nil {
 		return err
 	}
@@ -287,21 +283,13 @@ func (s *server) replaceComponent(c echo.Context) error {
 	if err := in.Validate(); err != nil {
 		return err
 	}
-	return s.saveComponent(c, id, version, in)
+	return s.changeComponent(c, id, version, func(domain.Component) (domain.ComponentInput, error) { return in, nil })
 }
-
-// patchAttempts bounds how often a PATCH with If-Match "*" is merged
-// again after another write got in between its read and its update.
-const patchAttempts = 5
 
 // patchComponent applies a JSON merge patch (RFC 7386) to the stored
 // component and saves the result as a replacement would.
 func (s *server) patchComponent(c echo.Context) error {
-	id, err := pathID(c, "id")
-	if err != nil {
-		return err
-	}
-	version, err := ifMatchVersion(c, s.componentVersion(c, id))
+	id, version, err := s.componentChange(c)
 	if err != nil {
 		return err
 	}
@@ -313,32 +301,40 @@ func (s *server) patchComponent(c echo.Context) error {
 	if err := domain.DecodeStrict(body, &patch); err != nil {
 		return err
 	}
-	ctx := c.Request().Context()
-	for attempt := 1; ; attempt++ {
-		current, err := s.store.Component(ctx, id)
-		if err != nil {
-			return err
-		}
-		in, err := mergedComponent(current, patch)
-		if err != nil {
-			return err
-		}
-		// The merge was computed from the version just read, so the update
-		// must find that version: otherwise it would overwrite a change made
-		// in between. With "*" the client accepts any version, so merge again.
-		expect := version
-		if expect == 0 {
-			expect = current.Version
-		}
-		comp, err := s.store.UpdateComponent(ctx, currentUser(c), id, expect, in)
-		if version == 0 && errors.Is(err, domain.ErrPreconditionFailed) && attempt < patchAttempts {
-			continue
-		}
-		if err != nil {
-			return err
-		}
-		return jsonWithETag(c, http.StatusOK, comp.Version, comp)
+	return s.changeComponent(c, id, version, func(current domain.Component) (domain.ComponentInput, error) {
+		return mergedComponent(current, patch)
+	})
+}
+
+// componentChange reads the id and the If-Match condition of a change.
+func (s *server) componentChange(c echo.Context) (id, version int64, err error) {
+	if id, err = pathID(c, "id"); err != nil {
+		return 0, 0, err
 	}
+	version, err = ifMatchVersion(c, s.componentVersion(c, id))
+	return id, version, err
+}
+
+// changeComponent stores what change makes of component id, in the one
+// shape of a change with If-Match, and answers the component saved.
+func (s *server) changeComponent(c echo.Context, id, version int64, change func(domain.Component) (domain.ComponentInput, error)) error {
+	ctx := c.Request().Context()
+	comp, err := changeWithIfMatch(version,
+		func() (domain.Component, int64, error) {
+			comp, err := s.store.Component(ctx, id)
+			return comp, comp.Version, err
+		},
+		func(current domain.Component, expect int64) (domain.Component, error) {
+			in, err := change(current)
+			if err != nil {
+				return current, err
+			}
+			return s.store.UpdateComponent(ctx, currentUser(c), id, expect, in)
+		})
+	if err != nil {
+		return err
+	}
+	return jsonWithETag(c, http.StatusOK, comp.Version, comp)
 }
 
 // mergedComponent applies patch to current's fields and validates the
@@ -383,14 +379,6 @@ func mergePatch(target, patch map[string]any) map[string]any {
 		target[k] = pv
 	}
 	return target
-}
-
-func (s *server) saveComponent(c echo.Context, id, version int64, in domain.ComponentInput) error {
-	comp, err := s.store.UpdateComponent(c.Request().Context(), currentUser(c), id, version, in)
-	if err != nil {
-		return err
-	}
-	return jsonWithETag(c, http.StatusOK, comp.Version, comp)
 }
 
 func (s *server) deleteComponent(c echo.Context) error {

@@ -163,11 +163,7 @@ func (s *server) designVersion(c echo.Context, id int64) currentVersion {
 }
 
 func (s *server) replaceDesign(c echo.Context) error {
-	id, err := pathID(c, "id")
-	if err != nil {
-		return err
-	}
-	version, err := ifMatchVersion(c, s.designVersion(c, id))
+	id, version, err := s.designChange(c)
 	if err != nil {
 		return err
 	}
@@ -175,21 +171,13 @@ func (s *server) replaceDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	return s.saveDesign(c, id, version, doc.Name, body)
+	return s.changeDesign(c, id, version, func(store.StoredDesign) (string, []byte, error) { return doc.Name, body, nil })
 }
 
 // patchDesign applies a JSON merge patch (RFC 7386) to the stored
 // document. Arrays such as nodes are replaced whole, as the RFC says.
 func (s *server) patchDesign(c echo.Context) error {
-	id, err := pathID(c, "id")
-	if err != nil {
-		return err
-	}
-	version, err := ifMatchVersion(c, s.designVersion(c, id))
-	if err != nil {
-		return err
-	}
-	current, err := s.visibleDesign(c)
+	id, version, err := s.designChange(c)
 	if err != nil {
 		return err
 	}
@@ -201,23 +189,51 @@ func (s *server) patchDesign(c echo.Context) error {
 	if err := decodeNumbers(body, &patch); err != nil {
 		return err
 	}
+	return s.changeDesign(c, id, version, func(current store.StoredDesign) (string, []byte, error) {
+		return mergedDesign(current, patch)
+	})
+}
+
+// mergedDesign applies patch to current's document and checks the result
+// as a replacement.
+func mergedDesign(current store.StoredDesign, patch map[string]any) (string, []byte, error) {
 	var doc map[string]any
 	if err := decodeNumbers(current.Document, &doc); err != nil {
-		return fmt.Errorf("decode stored design %d: %w", current.ID, err)
+		return "", nil, fmt.Errorf("decode stored design %d: %w", current.ID, err)
 	}
 	merged, err := encodeJSON(mergePatch(doc, patch))
 	if err != nil {
-		return fmt.Errorf("encode patched design: %w", err)
+		return "", nil, fmt.Errorf("encode patched design: %w", err)
 	}
 	checked, err := checkDesign(merged)
-	if err != nil {
-		return err
-	}
-	return s.saveDesign(c, current.ID, version, checked.Name, merged)
+	return checked.Name, merged, err
 }
 
-func (s *server) saveDesign(c echo.Context, id, version int64, name string, document []byte) error {
-	d, err := s.store.UpdateDesign(c.Request().Context(), currentUser(c), id, version, name, document)
+// designChange reads the id and the If-Match condition of a change.
+func (s *server) designChange(c echo.Context) (id, version int64, err error) {
+	if id, err = pathID(c, "id"); err != nil {
+		return 0, 0, err
+	}
+	version, err = ifMatchVersion(c, s.designVersion(c, id))
+	return id, version, err
+}
+
+// changeDesign stores what change makes of design id (its name and
+// document), in the one shape of a change with If-Match, and answers the
+// design saved.
+func (s *server) changeDesign(c echo.Context, id, version int64, change func(store.StoredDesign) (string, []byte, error)) error {
+	d, err := changeWithIfMatch(version,
+		func() (store.StoredDesign, int64, error) {
+			d, err := s.usableDesign(c, id)
+			return d, d.Version, err
+		},
+		func(current store.StoredDesign, expect int64) (store.StoredDesign, error) {
+			name, document, err := change(current)
+			if err != nil {
+				return current, err
+			}
+			return s.store.UpdateDesign(c.Request().Context(), currentUser(c), id, expect, name, document)
+		})
 	if err != nil {
 		return err
 	}
