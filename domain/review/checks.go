@@ -199,14 +199,14 @@ func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, pas
 	}
 	ch := Check{Check: check, Node: nodeID, Status: status, Unit: c.unit}
 	if !c.noValue {
-		ch.Value = ptrTo(c.value)
+		ch.Value = r.nums.ptr(c.value)
 	}
-	hard, warn := thresholds(c, conds)
+	hard, warn := thresholds(pick, conds)
 	if hard != nil && !hard.noLimit {
-		ch.Limit = ptrTo(hard.limit)
+		ch.Limit = r.nums.ptr(hard.limit)
 	}
 	if warn != nil && !warn.noLimit {
-		ch.WarnAt = ptrTo(warn.limit)
+		ch.WarnAt = r.nums.ptr(warn.limit)
 	}
 	r.add(ch)
 	r.spans[len(r.checks)-1] = textSpan{int32(start), int32(r.text.Len())}
@@ -215,14 +215,16 @@ func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, pas
 func ptrTo(x float64) *float64 { return &x }
 
 // thresholds are the hard limit and the warning threshold that go with
-// the condition c shown: c's own, and the condition of the other level on
-// the same quantity (the same value and unit) or, failing that, with the
-// same threshold, where there is one.
-func thresholds(c cond, conds []cond) (hard, warn *cond) {
+// the condition shown, conds[pick]: its own, and the condition of the
+// other level on the same quantity (the same value and unit) or, failing
+// that, with the same threshold, where there is one. They point into
+// conds, so nothing here is allocated.
+func thresholds(pick int, conds []cond) (hard, warn *cond) {
+	c := &conds[pick]
 	if c.level == Fail {
-		hard = &c
+		hard = c
 	} else {
-		warn = &c
+		warn = c
 	}
 	// Another condition on the same quantity first, else one with the same
 	// threshold (a rating that the running current must not pass and the
