@@ -57,6 +57,22 @@ type ShelfView struct {
 // (one small query, as /readyz makes), so a change through any replica
 // is seen at once; the revision is also in the ETag, and a kiosk polling
 // with If-None-Match gets a 304 without a body.
+// encodeShelfPage reads and encodes one page of the shelf at revision rev.
+func (s *server) encodeShelfPage(ctx context.Context, rev int64, key shelfKey, after *store.ShelfCursor) (shelfPage, error) {
+	view, err := s.shelfView(ctx, key, after)
+	if err != nil {
+		return shelfPage{}, err
+	}
+	body, err := encodeJSON(view)
+	if err != nil {
+		return shelfPage{}, fmt.Errorf("encode shelf: %w", err)
+	}
+	// The hash keeps the ETag honest across releases that encode the same
+	// revision differently.
+	sum := sha256.Sum256(body)
+	return shelfPage{body: body, etag: `"` + strconv.FormatInt(rev, 10) + "-" + hex.EncodeToString(sum[:8]) + `"`}, nil
+}
+
 func (s *server) getShelf(c echo.Context) error {
 	key, after, err := shelfQuery(c, s.cursors)
 	if err != nil {
@@ -69,18 +85,9 @@ func (s *server) getShelf(c echo.Context) error {
 	}
 	page, ok := s.shelf.get(rev, key)
 	if !ok {
-		view, err := s.shelfView(ctx, key, after)
-		if err != nil {
+		if page, err = s.encodeShelfPage(ctx, rev, key, after); err != nil {
 			return err
 		}
-		body, err := encodeJSON(view)
-		if err != nil {
-			return fmt.Errorf("encode shelf: %w", err)
-		}
-		// The hash keeps the ETag honest across releases that encode the
-		// same revision differently.
-		sum := sha256.Sum256(body)
-		page = shelfPage{body: body, etag: `"` + strconv.FormatInt(rev, 10) + "-" + hex.EncodeToString(sum[:8]) + `"`}
 		s.shelf.put(rev, key, page)
 	}
 	c.Response().Header().Set("ETag", page.etag)

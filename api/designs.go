@@ -71,7 +71,7 @@ func readDesignBody(c echo.Context) ([]byte, domain.Design, error) {
 
 func (s *server) listDesigns(c echo.Context) error {
 	u := currentUser(c)
-	f := store.DesignFilter{Owner: u.Name, Limit: defaultPageSize}
+	f := store.DesignFilter{Owner: u.Name}
 	if owner := c.QueryParam("owner"); owner != "" {
 		if !u.MayChange(owner) {
 			return newProblem("forbidden", "members list only their own designs")
@@ -80,19 +80,9 @@ func (s *server) listDesigns(c echo.Context) error {
 	} else if u.Role == domain.RoleStaff {
 		f.Owner = ""
 	}
-	if v := c.QueryParam("limit"); v != "" {
-		n, err := strconv.Atoi(v)
-		if err != nil || n < 1 || n > maxPageSize {
-			return queryProblem("/limit", "must be a whole number from 1 to %d", maxPageSize)
-		}
-		f.Limit = n
-	}
-	if v := c.QueryParam("cursor"); v != "" {
-		id, err := s.cursors.decodeID(v)
-		if err != nil {
-			return queryProblem("/cursor", "is not a cursor this service issued")
-		}
-		f.AfterID = id
+	var err error
+	if f.Limit, f.AfterID, err = s.pageQuery(c, defaultPageSize, maxPageSize); err != nil {
+		return err
 	}
 	items, more, err := s.store.ListDesigns(c.Request().Context(), f)
 	if err != nil {
@@ -106,6 +96,25 @@ func (s *server) listDesigns(c echo.Context) error {
 		page.Next = s.cursors.encodeID(items[len(items)-1].ID)
 	}
 	return c.JSON(http.StatusOK, page)
+}
+
+// pageQuery reads ?limit= (def when absent, at most most) and ?cursor=,
+// the id a page follows (0 when absent).
+func (s *server) pageQuery(c echo.Context, def, most int) (limit int, afterID int64, err error) {
+	limit = def
+	if v := c.QueryParam("limit"); v != "" {
+		n, err := strconv.Atoi(v)
+		if err != nil || n < 1 || n > most {
+			return 0, 0, queryProblem("/limit", "must be a whole number from 1 to %d", most)
+		}
+		limit = n
+	}
+	if v := c.QueryParam("cursor"); v != "" {
+		if afterID, err = s.cursors.decodeID(v); err != nil {
+			return 0, 0, queryProblem("/cursor", "is not a cursor this service issued")
+		}
+	}
+	return limit, afterID, nil
 }
 
 // createDesign stores the document sent as the body, byte for byte, once

@@ -56,6 +56,23 @@ func (s *server) getLimitsVersion(c echo.Context) error {
 // putLimits stores a new limits version. If-Match must name the version
 // the change was made from, so one staff member cannot unknowingly undo
 // another's change.
+// check says what is wrong with a limits change: the whole set is
+// required and must pass Validate, and the note is text.
+func (in LimitsInput) check() error {
+	if in.Limits == nil {
+		return &domain.ValidationError{Problems: []domain.FieldProblem{{Pointer: "/limits", Detail: "is required: send the whole limits set"}}}
+	}
+	var p domain.Problems
+	p.CheckText("/note", in.Note, domain.MaxTextLen, false)
+	if err := p.Err(); err != nil {
+		return err
+	}
+	if err := in.Limits.Validate(); err != nil {
+		return underPointer("/limits", err)
+	}
+	return nil
+}
+
 func (s *server) putLimits(c echo.Context) error {
 	expect, err := ifMatchVersion(c, func() (int64, error) {
 		v, err := s.store.CurrentLimitsVersion(c.Request().Context())
@@ -68,16 +85,8 @@ func (s *server) putLimits(c echo.Context) error {
 	if err := bindStrict(c, &in); err != nil {
 		return err
 	}
-	if in.Limits == nil {
-		return &domain.ValidationError{Problems: []domain.FieldProblem{{Pointer: "/limits", Detail: "is required: send the whole limits set"}}}
-	}
-	var p domain.Problems
-	p.CheckText("/note", in.Note, domain.MaxTextLen, false)
-	if err := p.Err(); err != nil {
+	if err := in.check(); err != nil {
 		return err
-	}
-	if err := in.Limits.Validate(); err != nil {
-		return underPointer("/limits", err)
 	}
 	body, err := encodeJSON(in.Limits)
 	if err != nil {

@@ -147,19 +147,9 @@ func (s *server) listDesignReviews(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	limit := defaultReviewPageSize
-	if v := c.QueryParam("limit"); v != "" {
-		n, err := strconv.Atoi(v)
-		if err != nil || n < 1 || n > maxReviewPageSize {
-			return queryProblem("/limit", "must be a whole number from 1 to %d", maxReviewPageSize)
-		}
-		limit = n
-	}
-	var before int64
-	if v := c.QueryParam("cursor"); v != "" {
-		if before, err = s.cursors.decodeID(v); err != nil {
-			return queryProblem("/cursor", "is not a cursor this service issued")
-		}
+	limit, before, err := s.pageQuery(c, defaultReviewPageSize, maxReviewPageSize)
+	if err != nil {
+		return err
 	}
 	list, more, err := s.store.ReviewsOfDesign(c.Request().Context(), d.ID, before, limit)
 	if err != nil {
