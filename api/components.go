@@ -58,6 +58,22 @@ type ShelfView struct {
 // (one small query, as /readyz makes), so a change through any replica
 // is seen at once; the revision is also in the ETag, and a kiosk polling
 // with If-None-Match gets a 304 without a body.
+// encodeShelfPage reads and encodes one page of the shelf at revision rev.
+func (s *server) encodeShelfPage(ctx context.Context, rev int64, key shelfKey, after *store.ShelfCursor) (shelfPage, error) {
+	view, err := s.shelfView(ctx, key, after)
+	if err != nil {
+		return shelfPage{}, err
+	}
+	body, err := encodeJSON(view)
+	if err != nil {
+		return shelfPage{}, fmt.Errorf("encode shelf: %w", err)
+	}
+	// The hash keeps the ETag honest across releases that encode the same
+	// revision differently.
+	sum := sha256.Sum256(body)
+	return shelfPage{body: body, etag: `"` + strconv.FormatInt(rev, 10) + "-" + hex.EncodeToString(sum[:8]) + `"`}, nil
+}
+
 func (s *server) getShelf(c echo.Context) error {
 	key, after, err := shelfQuery(c, s.cursors)
 	if err != nil {
@@ -70,18 +86,9 @@ func (s *server) getShelf(c echo.Context) error {
 	}
 	page, ok := s.shelf.get(rev, key)
 	if !ok {
-		view, err := s.shelfView(ctx, key, after)
-		if err != nil {
+		if page, err = s.encodeShelfPage(ctx, rev, key, after); err != nil {
 			return err
 		}
-		body, err := encodeJSON(view)
-		if err != nil {
-			return fmt.Errorf("encode shelf: %w", err)
-		}
-		// The hash keeps the ETag honest across releases that encode the
-		// same revision differently.
-		sum := sha256.Sum256(body)
-		page = shelfPage{body: body, etag: `"` + strconv.FormatInt(rev, 10) + "-" + hex.EncodeToString(sum[:8]) + `"`}
 		s.shelf.put(rev, key, page)
 	}
 	c.Response().Header().Set("ETag", page.etag)
@@ -281,7 +288,7 @@ func (s *server) createComponent(c echo.Context) error {
 	if err := in.Validate(); err != nil {
 		return err
 	}
-	comp, err := s.writes.CreateComponent(c.Request().Context(), currentUser(c), in)
+	comp, err := s.store.CreateComponent(c.Request().Context(), currentUser(c), in)
 	if err != nil {
 		return err
 	}
@@ -302,11 +309,7 @@ func (s *server) getComponent(c echo.Context) error {
 }
 
 func (s *server) replaceComponent(c echo.Context) error {
-	id, err := pathID(c, "id")
-	if err != nil {
-		return err
-	}
-	version, err := ifMatchVersion(c, s.componentVersion(c, id))
+	id, version, err := s.componentChange(c)
 	if err != nil {
 		return err
 	}
@@ -318,21 +321,13 @@ func (s *server) replaceComponent(c echo.Context) error {
 	if err := in.Validate(); err != nil {
 		return err
 	}
-	return s.saveComponent(c, id, version, in)
+	return s.changeComponent(c, id, version, func(domain.Component) (domain.ComponentInput, error) { return in, nil })
 }
-
-// patchAttempts bounds how often a PATCH with If-Match "*" is merged
-// again after another write got in between its read and its update.
-const patchAttempts = 5
 
 // patchComponent applies a JSON merge patch (RFC 7386) to the stored
 // component and saves the result as a replacement would.
 func (s *server) patchComponent(c echo.Context) error {
-	id, err := pathID(c, "id")
-	if err != nil {
-		return err
-	}
-	version, err := ifMatchVersion(c, s.componentVersion(c, id))
+	id, version, err := s.componentChange(c)
 	if err != nil {
 		return err
 	}
@@ -344,32 +339,40 @@ func (s *server) patchComponent(c echo.Context) error {
 	if err := domain.DecodeStrict(body, &patch); err != nil {
 		return err
 	}
-	ctx := c.Request().Context()
-	for attempt := 1; ; attempt++ {
-		current, err := s.store.Component(ctx, id)
-		if err != nil {
-			return err
-		}
-		in, err := mergedComponent(current, patch)
-		if err != nil {
-			return err
-		}
-		// The merge was computed from the version just read, so the update
-		// must find that version: otherwise it would overwrite a change made
-		// in between. With "*" the client accepts any version, so merge again.
-		expect := version
-		if expect == 0 {
-			expect = current.Version
-		}
-		comp, err := s.store.UpdateComponent(ctx, currentUser(c), id, expect, in)
-		if version == 0 && errors.Is(err, domain.ErrPreconditionFailed) && attempt < patchAttempts {
-			continue
-		}
-		if err != nil {
-			return err
-		}
-		return jsonWithETag(c, http.StatusOK, comp.Version, comp)
+	return s.changeComponent(c, id, version, func(current domain.Component) (domain.ComponentInput, error) {
+		return mergedComponent(current, patch)
+	})
+}
+
+// componentChange reads the id and the If-Match condition of a change.
+func (s *server) componentChange(c echo.Context) (id, version int64, err error) {
+	if id, err = pathID(c, "id"); err != nil {
+		return 0, 0, err
 	}
+	version, err = ifMatchVersion(c, s.componentVersion(c, id))
+	return id, version, err
+}
+
+// changeComponent stores what change makes of component id, in the one
+// shape of a change with If-Match, and answers the component saved.
+func (s *server) changeComponent(c echo.Context, id, version int64, change func(domain.Component) (domain.ComponentInput, error)) error {
+	ctx := c.Request().Context()
+	comp, err := changeWithIfMatch(version,
+		func() (domain.Component, int64, error) {
+			comp, err := s.store.Component(ctx, id)
+			return comp, comp.Version, err
+		},
+		func(current domain.Component, expect int64) (domain.Component, error) {
+			in, err := change(current)
+			if err != nil {
+				return current, err
+			}
+			return s.store.UpdateComponent(ctx, currentUser(c), id, expect, in)
+		})
+	if err != nil {
+		return err
+	}
+	return jsonWithETag(c, http.StatusOK, comp.Version, comp)
 }
 
 // mergedComponent applies patch to current's fields and validates the
@@ -414,14 +417,6 @@ func mergePatch(target, patch map[string]any) map[string]any {
 		target[k] = pv
 	}
 	return target
-}
-
-func (s *server) saveComponent(c echo.Context, id, version int64, in domain.ComponentInput) error {
-	comp, err := s.store.UpdateComponent(c.Request().Context(), currentUser(c), id, version, in)
-	if err != nil {
-		return err
-	}
-	return jsonWithETag(c, http.StatusOK, comp.Version, comp)
 }
 
 func (s *server) deleteComponent(c echo.Context) error {

@@ -72,28 +72,18 @@ func readDesignBody(c echo.Context) ([]byte, domain.Design, error) {
 
 func (s *server) listDesigns(c echo.Context) error {
 	u := currentUser(c)
-	f := store.DesignFilter{Owner: u.Name, Limit: defaultPageSize}
+	f := store.DesignFilter{Owner: u.Name}
 	if owner := c.QueryParam("owner"); owner != "" {
-		if u.Role != domain.RoleStaff && owner != u.Name {
+		if !u.MayChange(owner) {
 			return newProblem("forbidden", "members list only their own designs")
 		}
 		f.Owner = owner
 	} else if u.Role == domain.RoleStaff {
 		f.Owner = ""
 	}
-	if v := c.QueryParam("limit"); v != "" {
-		n, err := strconv.Atoi(v)
-		if err != nil || n < 1 || n > maxPageSize {
-			return queryProblem("/limit", "must be a whole number from 1 to %d", maxPageSize)
-		}
-		f.Limit = n
-	}
-	if v := c.QueryParam("cursor"); v != "" {
-		id, err := s.cursors.decodeID(v)
-		if err != nil {
-			return queryProblem("/cursor", "is not a cursor this service issued")
-		}
-		f.AfterID = id
+	var err error
+	if f.Limit, f.AfterID, err = s.pageQuery(c, defaultPageSize, maxPageSize); err != nil {
+		return err
 	}
 	items, more, err := s.store.ListDesigns(c.Request().Context(), f)
 	if err != nil {
@@ -107,6 +97,25 @@ func (s *server) listDesigns(c echo.Context) error {
 		page.Next = s.cursors.encodeID(items[len(items)-1].ID)
 	}
 	return c.JSON(http.StatusOK, page)
+}
+
+// pageQuery reads ?limit= (def when absent, at most most) and ?cursor=,
+// the id a page follows (0 when absent).
+func (s *server) pageQuery(c echo.Context, def, most int) (limit int, afterID int64, err error) {
+	limit = def
+	if v := c.QueryParam("limit"); v != "" {
+		n, err := strconv.Atoi(v)
+		if err != nil || n < 1 || n > most {
+			return 0, 0, queryProblem("/limit", "must be a whole number from 1 to %d", most)
+		}
+		limit = n
+	}
+	if v := c.QueryParam("cursor"); v != "" {
+		if afterID, err = s.cursors.decodeID(v); err != nil {
+			return 0, 0, queryProblem("/cursor", "is not a cursor this service issued")
+		}
+	}
+	return limit, afterID, nil
 }
 
 // createDesign stores the document sent as the body, byte for byte, once
@@ -164,11 +173,7 @@ func (s *server) designVersion(c echo.Context, id int64) currentVersion {
 }
 
 func (s *server) replaceDesign(c echo.Context) error {
-	id, err := pathID(c, "id")
-	if err != nil {
-		return err
-	}
-	version, err := ifMatchVersion(c, s.designVersion(c, id))
+	id, version, err := s.designChange(c)
 	if err != nil {
 		return err
 	}
@@ -176,21 +181,15 @@ func (s *server) replaceDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	return s.saveDesign(c, id, version, strings.TrimSpace(doc.Name), body)
+	return s.changeDesign(c, id, version, func(store.StoredDesign) (string, []byte, error) {
+		return strings.TrimSpace(doc.Name), body, nil
+	})
 }
 
 // patchDesign applies a JSON merge patch (RFC 7386) to the stored
 // document. Arrays such as nodes are replaced whole, as the RFC says.
 func (s *server) patchDesign(c echo.Context) error {
-	id, err := pathID(c, "id")
-	if err != nil {
-		return err
-	}
-	version, err := ifMatchVersion(c, s.designVersion(c, id))
-	if err != nil {
-		return err
-	}
-	current, err := s.visibleDesign(c)
+	id, version, err := s.designChange(c)
 	if err != nil {
 		return err
 	}
@@ -202,27 +201,54 @@ func (s *server) patchDesign(c echo.Context) error {
 	if err := decodeNumbers(body, &patch); err != nil {
 		return err
 	}
+	return s.changeDesign(c, id, version, func(current store.StoredDesign) (string, []byte, error) {
+		return mergedDesign(current, patch)
+	})
+}
+
+// mergedDesign applies patch to current's document and checks the result
+// as a replacement.
+func mergedDesign(current store.StoredDesign, patch map[string]any) (string, []byte, error) {
 	var doc map[string]any
 	if err := decodeNumbers(current.Document, &doc); err != nil {
-		return fmt.Errorf("decode stored design %d: %w", current.ID, err)
+		return "", nil, fmt.Errorf("decode stored design %d: %w", current.ID, err)
 	}
 	merged, err := encodeJSON(mergePatch(doc, patch))
 	if err != nil {
-		return fmt.Errorf("encode patched design: %w", err)
+		return "", nil, fmt.Errorf("encode patched design: %w", err)
 	}
 	checked, err := checkDesign(merged)
-	if err != nil {
-		return err
-	}
-	return s.saveDesign(c, current.ID, version, strings.TrimSpace(checked.Name), merged)
+	return strings.TrimSpace(checked.Name), merged, err
 }
 
-func (s *server) saveDesign(c echo.Context, id, version int64, name string, document []byte) error {
-	d, err := s.store.UpdateDesign(c.Request().Context(), currentUser(c), id, version, name, document)
+// designChange reads the id and the If-Match condition of a change.
+func (s *server) designChange(c echo.Context) (id, version int64, err error) {
+	if id, err = pathID(c, "id"); err != nil {
+		return 0, 0, err
+	}
+	version, err = ifMatchVersion(c, s.designVersion(c, id))
+	return id, version, err
+}
+
+// changeDesign stores what change makes of design id (its name and
+// document), in the one shape of a change with If-Match, and answers the
+// design saved.
+func (s *server) changeDesign(c echo.Context, id, version int64, change func(store.StoredDesign) (string, []byte, error)) error {
+	d, err := changeWithIfMatch(version,
+		func() (store.StoredDesign, int64, error) {
+			d, err := s.usableDesign(c, id)
+			return d, d.Version, err
+		},
+		func(current store.StoredDesign, expect int64) (store.StoredDesign, error) {
+			name, document, err := change(current)
+			if err != nil {
+				return current, err
+			}
+			return s.store.UpdateDesign(c.Request().Context(), currentUser(c), id, expect, name, document)
+		})
 	if err != nil {
 		return err
 	}
-	s.designs.forget(id) // not needed to stay correct, but the next review would find it stale
 	return jsonWithETag(c, http.StatusOK, d.Version, d)
 }
 
@@ -238,6 +264,5 @@ func (s *server) deleteDesign(c echo.Context) error {
 	if err := s.store.DeleteDesign(c.Request().Context(), currentUser(c), id, version); err != nil {
 		return err
 	}
-	s.designs.forget(id)
 	return c.NoContent(http.StatusNoContent)
 }

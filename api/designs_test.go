@@ -10,6 +10,7 @@ import (
 	"net/http"
 	"net/http/httptest"
 	"strings"
+	"sync"
 	"testing"
 
 	"github.com/labstack/echo/v4"
@@ -33,6 +34,10 @@ type designHarness struct {
 func newDesignHarness(t *testing.T, cfg Config) *designHarness {
 	t.Helper()
 	st, dbURL := storetest.NewStore(t)
+	// serve stores the default limits as it starts; so does the harness.
+	if _, err := st.SeedDefaultLimits(t.Context()); err != nil {
+		t.Fatal(err)
+	}
 	cfg.Store = st
 	cfg.Logger = slog.New(slog.NewTextHandler(io.Discard, nil))
 	cfg.Registry = prometheus.NewRegistry()
@@ -338,4 +343,53 @@ func hasPointer(problems []domain.FieldProblem, pointer string) bool {
 		}
 	}
 	return false
+}
+
+// TestConcurrentDesignPatchesLoseNothing sends merge patches of different
+// fields of one design at once with If-Match "*", as
+// TestConcurrentPatchesLoseNothing does for components: each patch that
+// succeeds must still be visible at the end.
+func TestConcurrentDesignPatchesLoseNothing(t *testing.T) {
+	h := newDesignHarness(t, Config{})
+	var d store.StoredDesign
+	h.expect(h.call(http.MethodPost, "/v1/designs", "ada", []byte(benchLampDesign)), http.StatusCreated, &d)
+	path := fmt.Sprintf("/v1/designs/%d", d.ID)
+	patches := []struct{ field, body string }{
+		{"name", `{"name": "Renamed lamp"}`},
+		{"description", `{"description": "on the bench by the door"}`},
+		{"ambient_c", `{"ambient_c": 31}`},
+		{"target_runtime_h", `{"target_runtime_h": 2}`},
+	}
+	statuses := make([]int, len(patches))
+	var wg sync.WaitGroup
+	for i, p := range patches {
+		wg.Go(func() { statuses[i] = h.call(http.MethodPatch, path, "ada", []byte(p.body), "If-Match", "*").Code })
+	}
+	wg.Wait()
+	var final store.StoredDesign
+	h.expect(h.call(http.MethodGet, path, "ada", nil), http.StatusOK, &final)
+	var doc map[string]any
+	if err := json.Unmarshal(final.Document, &doc); err != nil {
+		t.Fatal(err)
+	}
+	applied := 0
+	for i, p := range patches {
+		var want map[string]any
+		if err := json.Unmarshal([]byte(p.body), &want); err != nil {
+			t.Fatal(err)
+		}
+		switch statuses[i] {
+		case http.StatusOK:
+			applied++
+			if doc[p.field] != want[p.field] {
+				t.Errorf("patch of %s answered 200 but is lost: %v", p.field, doc[p.field])
+			}
+		case http.StatusPreconditionFailed:
+		default:
+			t.Errorf("patch of %s: status %d", p.field, statuses[i])
+		}
+	}
+	if applied == 0 || final.Version != d.Version+int64(applied) {
+		t.Errorf("%d patches applied, version %d from %d", applied, final.Version, d.Version)
+	}
 }

@@ -55,6 +55,10 @@ type shelfAPI struct {
 func startShelfAPI(t *testing.T) *shelfAPI {
 	t.Helper()
 	st, dbURL := storetest.NewStore(t)
+	// serve stores the default limits as it starts; so does the harness.
+	if _, err := st.SeedDefaultLimits(t.Context()); err != nil {
+		t.Fatal(err)
+	}
 	logs := &lockedBuffer{}
 	e, err := api.New(api.Config{
 		Store:    st,

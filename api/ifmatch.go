@@ -1,6 +1,7 @@
 package api
 
 import (
+	"errors"
 	"fmt"
 	"slices"
 	"strconv"
@@ -107,4 +108,33 @@ func parseIfMatch(field string) (ifMatchCondition, error) {
 		return cond, fmt.Errorf("no entity tag in %q", field)
 	}
 	return cond, nil
+}
+
+// changeAttempts bounds how often a change sent with If-Match "*" is
+// worked out again after another write got in between its read and its
+// save.
+const changeAttempts = 5
+
+// changeWithIfMatch is the one shape of a replacement or merge patch of a
+// component or a design. read gives the record as it is now and its
+// version; save works out the new record from it and stores it, expecting
+// the version given, so a write that got in between is never overwritten.
+// version is what If-Match asked for: a listed version must be the one
+// read, while with "*" (0) the client accepts any, so the change is worked
+// out again from the newer record.
+func changeWithIfMatch[T any](version int64, read func() (T, int64, error), save func(current T, expect int64) (T, error)) (T, error) {
+	for attempt := 1; ; attempt++ {
+		current, at, err := read()
+		if err != nil {
+			return current, err
+		}
+		if version != 0 && at != version {
+			return current, fmt.Errorf("the record is at version %d, not %d: %w", at, version, domain.ErrPreconditionFailed)
+		}
+		saved, err := save(current, at)
+		if version == 0 && errors.Is(err, domain.ErrPreconditionFailed) && attempt < changeAttempts {
+			continue
+		}
+		return saved, err
+	}
 }

@@ -56,6 +56,23 @@ func (s *server) getLimitsVersion(c echo.Context) error {
 // putLimits stores a new limits version. If-Match must name the version
 // the change was made from, so one staff member cannot unknowingly undo
 // another's change.
+// check says what is wrong with a limits change: the whole set is
+// required and must pass Validate, and the note is text.
+func (in LimitsInput) check() error {
+	if in.Limits == nil {
+		return &domain.ValidationError{Problems: []domain.FieldProblem{{Pointer: "/limits", Detail: "is required: send the whole limits set"}}}
+	}
+	var p domain.Problems
+	p.CheckText("/note", in.Note, domain.MaxTextLen, false)
+	if err := p.Err(); err != nil {
+		return err
+	}
+	if err := in.Limits.Validate(); err != nil {
+		return underPointer("/limits", err)
+	}
+	return nil
+}
+
 func (s *server) putLimits(c echo.Context) error {
 	expect, err := ifMatchVersion(c, func() (int64, error) {
 		v, err := s.store.CurrentLimitsVersion(c.Request().Context())
@@ -68,16 +85,8 @@ func (s *server) putLimits(c echo.Context) error {
 	if err := bindStrict(c, &in); err != nil {
 		return err
 	}
-	if in.Limits == nil {
-		return &domain.ValidationError{Problems: []domain.FieldProblem{{Pointer: "/limits", Detail: "is required: send the whole limits set"}}}
-	}
-	var p domain.Problems
-	p.CheckText("/note", in.Note, domain.MaxTextLen, false)
-	if err := p.Err(); err != nil {
+	if err := in.check(); err != nil {
 		return err
-	}
-	if err := in.Limits.Validate(); err != nil {
-		return underPointer("/limits", err)
 	}
 	body, err := encodeJSON(in.Limits)
 	if err != nil {
@@ -106,11 +115,10 @@ func underPointer(prefix string, err error) error {
 	return &domain.ValidationError{Problems: moved}
 }
 
-// limitsStore is what the limits cache reads and seeds.
+// limitsStore is what the limits cache reads.
 type limitsStore interface {
 	CurrentLimitsVersion(ctx context.Context) (int, error)
 	Limits(ctx context.Context, version int) (store.LimitsSet, error)
-	EnsureDefaultLimits(ctx context.Context, body []byte, note string) (bool, error)
 }
 
 // currentLimitsTTL bounds how long another replica's new limits version
@@ -134,18 +142,6 @@ type limitsCache struct {
 
 func newLimitsCache(st limitsStore, now func() time.Time) *limitsCache {
 	return &limitsCache{store: st, now: now, versions: map[int]*review.Rules{}}
-}
-
-// defaultLimitsNote is stored with the seeded version 1.
-const defaultLimitsNote = "defaults seeded by wattshelf; every value names its source"
-
-// ensureDefaultLimits stores the default limits as version 1 when none exist.
-func ensureDefaultLimits(ctx context.Context, st limitsStore) (bool, error) {
-	body, err := encodeJSON(review.DefaultLimits())
-	if err != nil {
-		return false, fmt.Errorf("encode default limits: %w", err)
-	}
-	return st.EnsureDefaultLimits(ctx, body, defaultLimitsNote)
 }
 
 // get returns the rules of limits version v, or of the current version
@@ -192,11 +188,9 @@ func (lc *limitsCache) currentVersion(ctx context.Context) (int, error) {
 	}
 	v, err := lc.store.CurrentLimitsVersion(ctx)
 	if errors.Is(err, domain.ErrNotFound) {
-		// A database nobody prepared still reviews with the defaults.
-		if _, err := ensureDefaultLimits(ctx, lc.store); err != nil {
-			return 0, err
-		}
-		v, err = lc.store.CurrentLimitsVersion(ctx)
+		// serve stores the defaults as it starts; a read never writes.
+		return 0, &problemError{kind: "unavailable", retry: 5,
+			detail: "no limits are stored yet; the service stores its defaults when serve starts or migrate up runs"}
 	}
 	if err != nil {
 		return 0, fmt.Errorf("read current limits version: %w", err)

@@ -3,18 +3,26 @@ package api
 import (
 	"context"
 	"encoding/json"
+	"errors"
+	"io"
+	"log/slog"
 	"net/http"
+	"net/http/httptest"
 	"strings"
 	"testing"
 	"time"
 
+	"github.com/prometheus/client_golang/prometheus"
+
+	"wattshelf/domain"
 	"wattshelf/domain/review"
 	"wattshelf/domain/store"
+	"wattshelf/domain/store/storetest"
 )
 
 func TestLimitsVersionsThroughTheAPI(t *testing.T) {
 	h := newDesignHarness(t, Config{})
-	if _, err := ensureDefaultLimits(t.Context(), h.store); err != nil {
+	if _, err := h.store.SeedDefaultLimits(t.Context()); err != nil {
 		t.Fatal(err)
 	}
 	var v1 store.LimitsSet
@@ -110,10 +118,6 @@ func (f *fakeLimitsStore) Limits(ctx context.Context, v int) (store.LimitsSet, e
 	return store.LimitsSet{Version: v, Body: body}, nil
 }
 
-func (f *fakeLimitsStore) EnsureDefaultLimits(ctx context.Context, body []byte, note string) (bool, error) {
-	return false, nil
-}
-
 func TestLimitsCacheQueries(t *testing.T) {
 	now := time.Date(2026, 1, 1, 12, 0, 0, 0, time.UTC)
 	fake := &fakeLimitsStore{current: 1}
@@ -140,5 +144,42 @@ func TestLimitsCacheQueries(t *testing.T) {
 	calls := fake.currentCalls + fake.limitsCalls
 	if _, v, _ := lc.get(t.Context(), 0); v != 3 || fake.currentCalls+fake.limitsCalls != calls {
 		t.Fatalf("after remember(3): v%d with %d more queries", v, fake.currentCalls+fake.limitsCalls-calls)
+	}
+}
+
+// TestReadingLimitsNeverStoresThem: on a database where nothing stored
+// the default limits, reading them is a 404 and reviewing a 503, and the
+// database still holds no limits afterwards; serve and migrate up store
+// them.
+func TestReadingLimitsNeverStoresThem(t *testing.T) {
+	st, _ := storetest.NewStore(t)
+	router, err := New(Config{Store: st, Logger: slog.New(slog.NewTextHandler(io.Discard, nil)), Registry: prometheus.NewRegistry()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	secret, err := st.CreateToken(t.Context(), "test", "kim", domain.RoleStaff)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, route := range []struct {
+		method, path, body string
+		status             int
+		problem            string
+	}{
+		{http.MethodGet, "/v1/limits", "", http.StatusNotFound, "problem:not-found"},
+		{http.MethodPost, "/v1/reviews", benchLampDesign, http.StatusServiceUnavailable, "problem:unavailable"},
+	} {
+		req := httptest.NewRequest(route.method, route.path, strings.NewReader(route.body))
+		req.Header.Set("Authorization", "Bearer "+secret)
+		req.Header.Set("Content-Type", "application/json")
+		rec := httptest.NewRecorder()
+		router.ServeHTTP(rec, req)
+		if rec.Code != route.status || !strings.Contains(rec.Body.String(), route.problem) {
+			t.Errorf("%s %s with no limits stored: %d %s, want %d %s", route.method, route.path, rec.Code, rec.Body.String(),
+				route.status, route.problem)
+		}
+	}
+	if v, err := st.CurrentLimitsVersion(t.Context()); !errors.Is(err, domain.ErrNotFound) {
+		t.Errorf("after the reads the database holds limits version %d (%v), want none", v, err)
 	}
 }

@@ -1,7 +1,6 @@
 package api
 
 import (
-	"context"
 	"fmt"
 	"log/slog"
 	"net/http"
@@ -200,11 +199,6 @@ func methodLabel(method string) string {
 	return "other"
 }
 
-// authenticator resolves a bearer token to its user.
-type authenticator interface {
-	Authenticate(ctx context.Context, secret string) (domain.User, error)
-}
-
 const (
 	userKey     = "wattshelf.user"
 	authFailKey = "wattshelf.auth-failure"
@@ -236,7 +230,7 @@ func (s *server) authenticate(c echo.Context) (domain.User, error) {
 	if !ok || !strings.EqualFold(scheme, "Bearer") || secret == "" || len(secret) > 200 {
 		return domain.User{}, domain.ErrUnauthorized
 	}
-	return s.tokens.Authenticate(c.Request().Context(), strings.TrimSpace(secret))
+	return s.store.Authenticate(c.Request().Context(), strings.TrimSpace(secret))
 }
 
 // sentBearer reports whether the request carries a bearer token, valid

@@ -167,7 +167,7 @@ func TestOpenAPIResponses(t *testing.T) {
 		t.Fatal(err)
 	}
 	h := newDesignHarness(t, Config{})
-	if _, err := ensureDefaultLimits(t.Context(), h.store); err != nil {
+	if _, err := h.store.SeedDefaultLimits(t.Context()); err != nil {
 		t.Fatal(err)
 	}
 	oc := &openAPICheck{t: t, h: h, router: router, covered: map[string]bool{}}

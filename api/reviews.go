@@ -100,52 +100,30 @@ func (s *server) reviewDocument(c echo.Context) error {
 }
 
 // reviewStoredDesign reviews a stored design and keeps the report and the
-// document it read, with a share id that opens them without a login.
-//
-// It reviews the copy of the design it remembers, if any; the store keeps
-// the review only if the design is still at that copy's version, and
-// otherwise the design is read again and reviewed again.
+// document it read, with a share id that opens them without a login. The
+// store keeps the review only if the design is still at the version read,
+// so a design edited in between is a 409 to send again, never a report of
+// a document the design no longer holds.
 func (s *server) reviewStoredDesign(c echo.Context) error {
 	v, err := limitsVersionParam(c)
 	if err != nil {
 		return err
 	}
-	id, err := pathID(c, "id")
+	d, err := s.visibleDesign(c)
 	if err != nil {
 		return err
 	}
-	var r store.StoredReview
-	for attempt := 1; ; attempt++ {
-		d, remembered := s.designs.get(id)
-		// A copy that says no is read again: only the database refuses.
-		if !remembered || !currentUser(c).MayChange(d.Owner) {
-			if d, err = s.usableDesign(c, id); err != nil {
-				return err
-			}
-			s.designs.put(d)
-		}
-		if r, err = s.storeReview(c, d, v); err == nil {
-			break
-		}
-		if errors.Is(err, domain.ErrPreconditionFailed) || errors.Is(err, domain.ErrNotFound) {
-			s.designs.forget(id)
-			if attempt < storedReviewAttempts {
-				continue
-			}
-			if errors.Is(err, domain.ErrPreconditionFailed) {
-				return fmt.Errorf("design %d kept changing while it was reviewed: %w", id, domain.ErrConflict)
-			}
-		}
+	r, err := s.storeReview(c, d, v)
+	if errors.Is(err, domain.ErrPreconditionFailed) {
+		return fmt.Errorf("design %d changed while it was reviewed: %w", d.ID, domain.ErrConflict)
+	}
+	if err != nil {
 		return err
 	}
 	view := s.reviewView(r)
 	c.Response().Header().Set("Location", view.ReportURL)
 	return c.JSON(http.StatusCreated, view)
 }
-
-// storedReviewAttempts bounds how often a stored review is tried again
-// after the design it reviewed turned out to have changed or gone.
-const storedReviewAttempts = 3
 
 // storeReview reviews d and stores the review.
 func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion int) (store.StoredReview, error) {
@@ -158,7 +136,7 @@ func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion
 	if err != nil {
 		return store.StoredReview{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
 	}
-	return s.writes.AddReview(ctx, currentUser(c), store.NewReview{
+	return s.store.AddReview(ctx, currentUser(c), store.NewReview{
 		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(report.Status),
 		LimitsVersion: report.LimitsVersion, Report: encoded,
 	})
@@ -169,19 +147,9 @@ func (s *server) listDesignReviews(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	limit := defaultReviewPageSize
-	if v := c.QueryParam("limit"); v != "" {
-		n, err := strconv.Atoi(v)
-		if err != nil || n < 1 || n > maxReviewPageSize {
-			return queryProblem("/limit", "must be a whole number from 1 to %d", maxReviewPageSize)
-		}
-		limit = n
-	}
-	var before int64
-	if v := c.QueryParam("cursor"); v != "" {
-		if before, err = s.cursors.decodeID(v); err != nil {
-			return queryProblem("/cursor", "is not a cursor this service issued")
-		}
+	limit, before, err := s.pageQuery(c, defaultReviewPageSize, maxReviewPageSize)
+	if err != nil {
+		return err
 	}
 	list, more, err := s.store.ReviewsOfDesign(c.Request().Context(), d.ID, before, limit)
 	if err != nil {

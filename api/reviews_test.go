@@ -220,8 +220,8 @@ func TestSharedReportShowsTheReviewedDocument(t *testing.T) {
 	}
 }
 
-// TestStoredReviewFollowsAnotherReplica reviews a design on one router
-// (which then remembers it), changes it through a second router on the
+// TestStoredReviewFollowsAnotherReplica reviews a design on one router,
+// changes it through a second router on the
 // same database, and reviews it on the first again: the stored review must
 // be of the changed document, and of nothing once the design is deleted.
 func TestStoredReviewFollowsAnotherReplica(t *testing.T) {
@@ -253,7 +253,7 @@ func TestStoredReviewFollowsAnotherReplica(t *testing.T) {
 		t.Fatalf("review after the edit on the other router: status %s, digest %s; want fail of the new document",
 			after.Status, after.DocumentSHA256)
 	}
-	// Staff may review any design; bo may not, remembered or not.
+	// Staff may review any design; bo may not.
 	h.expect(h.call(http.MethodPost, reviews, "bo", nil), http.StatusForbidden, nil)
 	h.expect(h.call(http.MethodPost, reviews, "rowan", nil), http.StatusCreated, nil)
 

@@ -18,7 +18,6 @@ import (
 	"github.com/prometheus/client_golang/prometheus/collectors"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
-	"wattshelf/domain"
 	"wattshelf/domain/store"
 )
 
@@ -29,12 +28,6 @@ const MaxBodyBytes = 2 << 20
 type Config struct {
 	Store  *store.Store
 	Logger *slog.Logger
-	// Tokens checks bearer tokens; nil means asking Store every time.
-	// serve passes a store.TokenCache.
-	Tokens authenticator
-	// Writes stores reviews and creates components; nil means Store, one
-	// statement each. serve passes a store.Writer.
-	Writes writes
 	// Registry receives the HTTP and pool metrics and is served at /metrics.
 	Registry *prometheus.Registry
 	// PublicBaseURL is the address printed into QR codes and links, e.g.
@@ -52,12 +45,6 @@ type Config struct {
 }
 
 // server holds the dependencies the handlers share.
-// writes stores the writes that a store.Writer can batch.
-type writes interface {
-	AddReview(ctx context.Context, actor domain.User, in store.NewReview) (store.StoredReview, error)
-	CreateComponent(ctx context.Context, actor domain.User, in domain.ComponentInput) (domain.Component, error)
-}
-
 type server struct {
 	cfg           Config
 	store         *store.Store
@@ -65,11 +52,8 @@ type server struct {
 	schemaVersion uint
 	limits        *limitsCache
 	shelf         *shelfCache
-	designs       *designCache
-	writes        writes
 	reviewLimiter *clientLimiter
 	cursors       cursorCodec
-	tokens        authenticator
 }
 
 // New builds the router with every route and middleware.
@@ -81,7 +65,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	if err != nil {
 		return nil, err
 	}
-	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache(), designs: newDesignCache()}
+	s := &server{cfg: cfg, store: cfg.Store, logger: cfg.Logger, schemaVersion: want, shelf: newShelfCache()}
 	keyCtx, cancel := context.WithTimeout(context.Background(), DatabaseWaitLimit)
 	defer cancel()
 	if s.cursors.key, err = cfg.Store.CursorKey(keyCtx); err != nil {
@@ -118,14 +102,6 @@ func New(cfg Config) (*echo.Echo, error) {
 	e.Use(requestDeadline(DatabaseWaitLimit))
 	e.Use(refuseUnstorableText)
 	e.Use(middleware.BodyLimit(fmt.Sprint(MaxBodyBytes)))
-	s.tokens = cfg.Tokens
-	if s.tokens == nil {
-		s.tokens = cfg.Store
-	}
-	s.writes = cfg.Writes
-	if s.writes == nil {
-		s.writes = cfg.Store
-	}
 
 	e.GET("/healthz", s.healthz)
 	e.GET("/readyz", s.readyz)

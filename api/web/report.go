@@ -114,16 +114,11 @@ func headline(rep review.Report) string {
 	return "This review has no overall status."
 }
 
-// severity orders statuses from harmless to worst.
-func severity(s review.Status) int {
-	return slices.Index([]review.Status{review.Pass, review.Warn, review.Fail, review.OutOfScope}, s)
-}
-
 // worstByNode is each node's worst finding; "" keys the whole-design checks.
 func worstByNode(checks []review.Check) map[string]review.Status {
 	worst := map[string]review.Status{}
 	for _, c := range checks {
-		if w, ok := worst[c.Node]; !ok || severity(c.Status) > severity(w) {
+		if w, ok := worst[c.Node]; !ok || c.Status.Severity() > w.Severity() {
 			worst[c.Node] = c.Status
 		}
 	}
@@ -143,7 +138,7 @@ func groupFindings(nodes []review.NodeResult, checks []review.Check, worst map[s
 		if len(cs) == 0 {
 			return
 		}
-		slices.SortStableFunc(cs, func(a, b review.Check) int { return severity(b.Status) - severity(a.Status) })
+		slices.SortStableFunc(cs, func(a, b review.Check) int { return b.Status.Severity() - a.Status.Severity() })
 		groups = append(groups, findingGroup{Node: id, Type: typ, Worst: string(worst[id]), Checks: cs})
 		delete(byNode, id)
 	}

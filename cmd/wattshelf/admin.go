@@ -52,6 +52,9 @@ func migrateCommand(ctx context.Context, args []string, env environment, stdout 
 		if err := m.Up(); err != nil {
 			return err
 		}
+		if err := seedDefaultLimits(ctx, env); err != nil {
+			return err
+		}
 	case "down":
 		if err := m.Down(steps); err != nil {
 			return err
@@ -66,6 +69,20 @@ func migrateCommand(ctx context.Context, args []string, env environment, stdout 
 		fmt.Fprint(stdout, " (dirty: a migration failed part-way; fix it by hand, then force the version)")
 	}
 	fmt.Fprintln(stdout)
+	return nil
+}
+
+// seedDefaultLimits stores the default limits as version 1 of a database
+// just migrated up, as serve does when it starts.
+func seedDefaultLimits(ctx context.Context, env environment) error {
+	st, err := store.Open(ctx, env.databaseURL)
+	if err != nil {
+		return fmt.Errorf("open database %s: %w", redactURL(env.databaseURL), err)
+	}
+	defer st.Close()
+	if _, err := st.SeedDefaultLimits(ctx); err != nil {
+		return fmt.Errorf("store default limits: %w", err)
+	}
 	return nil
 }
 

@@ -16,7 +16,8 @@ import (
 func TestMigrateCommands(t *testing.T) {
 	ctx := context.Background()
 	// A database that does not exist yet: migrate creates it first.
-	getenv := cliEnv(storetest.AbsentDatabaseURL(t))
+	dbURL := storetest.AbsentDatabaseURL(t)
+	getenv := cliEnv(dbURL)
 	latest, err := store.SchemaVersion()
 	if err != nil {
 		t.Fatal(err)
@@ -39,6 +40,16 @@ func TestMigrateCommands(t *testing.T) {
 		if want := fmt.Sprintf("schema version %d of %d\n", step.want, latest); stdout != want {
 			t.Errorf("%v printed %q, want %q", step.args, stdout, want)
 		}
+	}
+	// migrate up stores the default limits, so the service never has to
+	// when it is asked for them.
+	st, err := store.Open(ctx, dbURL)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer st.Close()
+	if v, err := st.CurrentLimitsVersion(ctx); err != nil || v != 1 {
+		t.Errorf("after migrate up: limits version %d, %v; want the defaults as version 1", v, err)
 	}
 	for _, args := range [][]string{{"migrate", "down", "0"}, {"migrate", "down", "two"}, {"migrate", "sideways"}} {
 		if _, _, err := runCLI(ctx, getenv, args...); exitCode(err) != 2 {

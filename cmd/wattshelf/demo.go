@@ -10,7 +10,6 @@ import (
 	"slices"
 
 	"wattshelf"
-	"wattshelf/domain/review"
 	"wattshelf/domain/store"
 )
 
@@ -79,11 +78,7 @@ func seedDemo(ctx context.Context, st *store.Store, logger *slog.Logger) error {
 // prepareData makes sure the stored data the service needs is present:
 // always the default limits as version 1, and the demo when asked.
 func prepareData(ctx context.Context, st *store.Store, demo bool, logger *slog.Logger) error {
-	limits, err := json.Marshal(review.DefaultLimits())
-	if err != nil {
-		return fmt.Errorf("encode default limits: %w", err)
-	}
-	seeded, err := st.EnsureDefaultLimits(ctx, limits, "defaults seeded by wattshelf; every value names its source")
+	seeded, err := st.SeedDefaultLimits(ctx)
 	if err != nil {
 		return fmt.Errorf("store default limits: %w", err)
 	}

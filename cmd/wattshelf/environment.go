@@ -21,9 +21,6 @@ type environment struct {
 	// kioskWall: WATTSHELF_KIOSK_WALL, parsed by serve.
 	kioskWall string
 	logLevel  slog.Level
-	// gcTuned: the operator set GOGC or GOMEMLIMIT, and serve leaves the
-	// collector as they said.
-	gcTuned bool
 }
 
 func newEnvironment(getenv func(string) string) environment {
@@ -32,7 +29,6 @@ func newEnvironment(getenv func(string) string) environment {
 		publicURL:      strings.TrimRight(getenv("WATTSHELF_PUBLIC_URL"), "/"),
 		trustedProxies: getenv("WATTSHELF_TRUSTED_PROXIES"),
 		kioskWall:      getenv("WATTSHELF_KIOSK_WALL"),
-		gcTuned:        getenv("GOGC") != "" || getenv("GOMEMLIMIT") != "",
 	}
 	if env.databaseURL == "" {
 		env.databaseURL = defaultDatabaseURL

@@ -11,20 +11,24 @@ import (
 	"net/http"
 	"net/url"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
 
 	apiclient "wattshelf/api/client"
+	"wattshelf/domain/review"
 )
 
-// Exit statuses of `wattshelf review`, worst last: the command exits with
-// the worst status any file earned.
+// Exit statuses of `wattshelf review`: the command exits with the highest
+// any file earned. reviewUsage says what each means, and the README's
+// CLI section repeats it; a test holds the two together.
 const (
 	reviewExitClean       = 0 // nothing reached the --fail-on level
 	reviewExitFindings    = 1 // some design has a finding at or past it
 	reviewExitRejected    = 2 // the service refused a document, or a file could not be read
 	reviewExitUnreachable = 3 // the service could not be reached or could not answer
+	reviewExitOutOfScope  = 4 // a design is out of scope, whatever --fail-on says
 )
 
 const (
@@ -38,10 +42,12 @@ const (
 const reviewUsage = `usage: wattshelf review FILE... [--server URL] [--token T] [--json] [--fail-on warn|fail] [--limits-version N]
 
 Sends each design file (- for standard input) to the service's review and
-prints what it found. Exit status: 0 when no design reaches the --fail-on
-level (default fail; out_of_scope always counts), 1 when one does, 2 when
-the service rejects a document or a file cannot be read, 3 when the
-service cannot be reached.
+prints what it found. Exit status, the highest any file earned:
+  0  no design reaches the --fail-on level (default fail)
+  1  a design reaches it
+  2  the service rejected a document, or a file could not be read
+  3  the service could not be reached or could not answer
+  4  a design is out of scope (mains, or a source above 50 V DC), whatever --fail-on says
 
 Environment: WATTSHELF_SERVER (default ` + defaultReviewServer + `), WATTSHELF_TOKEN.
 `
@@ -127,16 +133,19 @@ type reviewReport struct {
 		Warn int `json:"warn"`
 		Fail int `json:"fail"`
 	} `json:"counts"`
-	Checks []struct {
-		Check   string   `json:"check"`
-		Node    string   `json:"node"`
-		Status  string   `json:"status"`
-		Value   *float64 `json:"value"`
-		Limit   *float64 `json:"limit"`
-		WarnAt  *float64 `json:"warn_at"`
-		Unit    string   `json:"unit"`
-		Message string   `json:"message"`
-	} `json:"checks"`
+	Checks []reportCheck `json:"checks"`
+}
+
+// reportCheck is one check of a reviewReport.
+type reportCheck struct {
+	Check   string   `json:"check"`
+	Node    string   `json:"node"`
+	Status  string   `json:"status"`
+	Value   *float64 `json:"value"`
+	Limit   *float64 `json:"limit"`
+	WarnAt  *float64 `json:"warn_at"`
+	Unit    string   `json:"unit"`
+	Message string   `json:"message"`
 }
 
 // reviewFile reviews one file and returns its exit status.
@@ -182,7 +191,10 @@ func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, fi
 	} else {
 		printReviewSummary(stdout, file, rep)
 	}
-	if statusRank(rep.Status) >= statusRank(opts.failOn) {
+	switch status := review.Status(rep.Status); {
+	case status == review.OutOfScope:
+		return reviewExitOutOfScope
+	case status.Severity() >= review.Status(opts.failOn).Severity():
 		return reviewExitFindings
 	}
 	return reviewExitClean
@@ -245,46 +257,37 @@ func describeProblem(err error) string {
 	return ": " + p.Error()
 }
 
-// statusRank orders statuses; out_of_scope ranks with fail, since such a
-// design must never be taken as passed.
-func statusRank(s string) int {
-	switch s {
-	case "pass":
-		return 0
-	case "warn":
-		return 1
-	}
-	return 2
-}
-
 func printReviewSummary(w io.Writer, file string, rep reviewReport) {
 	fmt.Fprintf(w, "%s: %s (limits v%d; %d pass, %d warn, %d fail)\n",
 		file, strings.ToUpper(rep.Status), rep.LimitsVersion, rep.Counts.Pass, rep.Counts.Warn, rep.Counts.Fail)
-	for _, want := range []string{"out_of_scope", "fail", "warn"} {
-		for _, c := range rep.Checks {
-			if c.Status != want {
-				continue
-			}
-			subject := c.Node
-			if subject == "" {
-				subject = "design"
-			}
-			measure := ""
-			if c.Value != nil {
-				measure = " " + quantity(*c.Value, c.Unit)
-			}
-			var limits []string
-			if c.Limit != nil {
-				limits = append(limits, "limit "+quantity(*c.Limit, c.Unit))
-			}
-			if c.WarnAt != nil {
-				limits = append(limits, "warn at "+quantity(*c.WarnAt, c.Unit))
-			}
-			if len(limits) > 0 {
-				measure += " (" + strings.Join(limits, ", ") + ")"
-			}
-			fmt.Fprintf(w, "  %s %s at %s:%s %s\n", c.Status, c.Check, subject, measure, c.Message)
+	// Worst first, in the order every part of wattshelf uses.
+	findings := slices.Clone(rep.Checks)
+	slices.SortStableFunc(findings, func(a, b reportCheck) int {
+		return review.Status(b.Status).Severity() - review.Status(a.Status).Severity()
+	})
+	for _, c := range findings {
+		if review.Status(c.Status).Severity() <= review.Pass.Severity() {
+			continue
 		}
+		subject := c.Node
+		if subject == "" {
+			subject = "design"
+		}
+		measure := ""
+		if c.Value != nil {
+			measure = " " + quantity(*c.Value, c.Unit)
+		}
+		var limits []string
+		if c.Limit != nil {
+			limits = append(limits, "limit "+quantity(*c.Limit, c.Unit))
+		}
+		if c.WarnAt != nil {
+			limits = append(limits, "warn at "+quantity(*c.WarnAt, c.Unit))
+		}
+		if len(limits) > 0 {
+			measure += " (" + strings.Join(limits, ", ") + ")"
+		}
+		fmt.Fprintf(w, "  %s %s at %s:%s %s\n", c.Status, c.Check, subject, measure, c.Message)
 	}
 }
 

@@ -5,6 +5,7 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"io"
 	"log/slog"
 	"net"
@@ -64,6 +65,10 @@ var reviewCLIDesigns = map[string]string{
 func reviewCLIServer(t *testing.T, cfg api.Config) (url, dir, memberToken string) {
 	t.Helper()
 	st, _ := storetest.NewStore(t)
+	// serve stores the default limits as it starts; so does the harness.
+	if _, err := st.SeedDefaultLimits(t.Context()); err != nil {
+		t.Fatal(err)
+	}
 	cfg.Store, cfg.Logger, cfg.Registry = st, slog.New(slog.NewTextHandler(io.Discard, nil)), prometheus.NewRegistry()
 	router, err := api.New(cfg)
 	if err != nil {
@@ -125,8 +130,12 @@ func TestReviewCommandExitCodes(t *testing.T) {
 		{"warn with --fail-on warn", []string{"--fail-on", "warn", file("warn.json"), "--server", url}, noEnv, 1, []string{"WARN"}, nil},
 		{"fail", []string{"--server", url, file("fail.json")}, noEnv, 1,
 			[]string{"fail.json: FAIL", "fail voltage.range at sensor: 14 V (limit 5.5 V)"}, nil},
-		{"out of scope counts as failing", []string{file("mains.json"), "--server", url}, noEnv, 1,
+		{"out of scope has its own exit", []string{file("mains.json"), "--server", url}, noEnv, 4,
 			[]string{"OUT_OF_SCOPE", "out_of_scope scope.mains at adapter"}, nil},
+		{"out of scope whatever --fail-on says", []string{"--fail-on", "warn", file("mains.json"), "--server", url}, noEnv, 4,
+			[]string{"OUT_OF_SCOPE"}, nil},
+		{"out of scope outranks a failing design", []string{file("fail.json"), file("mains.json"), "--server", url}, noEnv, 4,
+			[]string{"FAIL", "OUT_OF_SCOPE"}, nil},
 		{"the worst file decides", []string{file("pass.json"), file("fail.json"), "--server", url}, noEnv, 1,
 			[]string{"PASS", "FAIL"}, nil},
 		{"a document the service rejects", []string{file("malformed.json"), "--server", url}, noEnv, 2,
@@ -224,5 +233,31 @@ func TestReviewCommandWaitsOutTheRateLimit(t *testing.T) {
 	err := run(t.Context(), []string{"review", pass, pass, pass, "--server", url}, func(string) string { return "" }, &stdout, &stderr)
 	if reviewExitOf(err) != 0 || strings.Count(stdout.String(), "PASS") != 3 {
 		t.Fatalf("exit %d, stdout %q, stderr %q; want three passes", reviewExitOf(err), stdout.String(), stderr.String())
+	}
+}
+
+// TestREADMEListsTheReviewExitStatuses holds the README's CLI section to
+// the exit statuses the review command's usage lists, line for line.
+func TestREADMEListsTheReviewExitStatuses(t *testing.T) {
+	readme, err := os.ReadFile("../../README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, block, ok := strings.Cut(reviewUsage, "Exit status, the highest any file earned:\n")
+	if !ok {
+		t.Fatal("the usage has no list of exit statuses")
+	}
+	block, _, _ = strings.Cut(block, "\n\n")
+	lines := strings.Split(block, "\n")
+	if len(lines) != reviewExitOutOfScope+1 {
+		t.Fatalf("the usage lists %d exit statuses, want %d:\n%s", len(lines), reviewExitOutOfScope+1, block)
+	}
+	for code, line := range lines {
+		if !strings.HasPrefix(line, fmt.Sprintf("  %d  ", code)) {
+			t.Errorf("usage line %q does not list exit status %d", line, code)
+		}
+		if !strings.Contains(string(readme), line+"\n") {
+			t.Errorf("README.md lacks the usage's line %q", line)
+		}
 	}
 }

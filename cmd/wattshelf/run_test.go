@@ -149,15 +149,6 @@ func TestEnvironment(t *testing.T) {
 	if env.databaseURL != "postgres://x@db/y" || env.publicURL != "http://shelf.local:8080" || env.logLevel.String() != "WARN" {
 		t.Errorf("environment %+v", env)
 	}
-	// serve tunes the collector unless the operator did.
-	if env.gcTuned {
-		t.Error("gcTuned without GOGC or GOMEMLIMIT")
-	}
-	for _, k := range []string{"GOGC", "GOMEMLIMIT"} {
-		if env := newEnvironment(func(key string) string { return map[string]string{k: "200"}[key] }); !env.gcTuned {
-			t.Errorf("%s set, but serve would override it", k)
-		}
-	}
 	for in, want := range map[string]string{
 		"postgres://ada:s3cret@db:5432/w": "postgres://ada:xxxxx@db:5432/w",
 		"postgres://ada@db/w":             "postgres://ada@db/w",

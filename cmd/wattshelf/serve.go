@@ -8,14 +8,12 @@ import (
 	"io"
 	"net"
 	"net/http"
-	"runtime/debug"
 	"strconv"
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
 
 	"wattshelf/api"
-	"wattshelf/domain/store"
 )
 
 // How long a request may last. A client gets headerTimeout to send its
@@ -35,18 +33,6 @@ const (
 // file's stop_grace_period and the systemd unit's TimeoutStopSec are longer
 // still, so neither kills serve while it waits; a test holds them to that.
 const shutdownGrace = headerTimeout + writeTimeout + 5*time.Second
-
-// The collector's settings for serve, unless GOGC or GOMEMLIMIT is set. A
-// review allocates about 100 KB and the live heap is a few megabytes, so at
-// the default GOGC of 100 the collector ran every few dozen reviews; on the
-// 2-core load run, inline reviews went from about 3,000 to 4,400 a second
-// with 400. The heap may then grow to five times the live data, tens of
-// megabytes; the soft limit makes the collector work harder well before
-// the process nears the 100 MB it is meant to stay under (issue 6).
-const (
-	serveGCPercent   = 400
-	serveMemoryLimit = 64 << 20
-)
 
 func serve(ctx context.Context, args []string, env environment, stderr io.Writer) error {
 	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
@@ -68,10 +54,6 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 			return &exitError{code: 2, msg: "WATTSHELF_KIOSK_WALL: want true or false, not " + strconv.Quote(env.kioskWall)}
 		}
 	}
-	if !env.gcTuned {
-		debug.SetGCPercent(serveGCPercent)
-		debug.SetMemoryLimit(serveMemoryLimit)
-	}
 
 	st, err := env.openMigrated(ctx)
 	if err != nil {
@@ -82,31 +64,9 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 		return err
 	}
 
-	tokens := store.NewTokenCache(st, store.TokenCacheTTL)
-	listenCtx, stopListening := context.WithCancel(ctx)
-	listened := make(chan struct{})
-	go func() {
-		defer close(listened)
-		_ = tokens.Listen(listenCtx, time.Second, func(err error) {
-			logger.Warn("token cache off: its listening connection is gone; every token goes to the database until it is back", "err", err)
-		})
-	}()
-	defer func() { stopListening(); <-listened }()
-
-	// The writers outlive the signal: requests still being answered during
-	// the shutdown need them, so they stop only when serve returns.
-	writer := store.NewWriter(st, batchWriters, batchMax)
-	writeCtx, stopWriting := context.WithCancel(context.WithoutCancel(ctx))
-	written := make(chan struct{})
-	go func() { defer close(written); writer.Run(writeCtx) }()
-	defer func() { stopWriting(); <-written }()
-
 	registry := prometheus.NewRegistry()
-	if err := registerServeMetrics(registry, tokens, writer); err != nil {
-		return err
-	}
 	handler, err := api.New(api.Config{
-		Store: st, Tokens: tokens, Writes: writer, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
+		Store: st, Logger: logger, Registry: registry, PublicBaseURL: env.publicURL,
 		TrustedProxies: proxies, KioskWall: kioskWall,
 	})
 	if err != nil {
@@ -150,52 +110,6 @@ func serve(ctx context.Context, args []string, env environment, stderr io.Writer
 	}
 	logger.Info("stopped")
 	return nil
-}
-
-// Stored reviews and new components are written by this many statements
-// at once, each carrying up to batchMax of one kind. On the 2-core build
-// machine two writers of up to 8 stored more reviews a second than four or
-// more; three were about even.
-const (
-	batchWriters = 2
-	batchMax     = 8
-)
-
-// registerServeMetrics exports how often a token was checked from memory
-// and how often the database was asked, whether the token cache is
-// listening, and how many statements carried how many batched writes.
-func registerServeMetrics(reg prometheus.Registerer, tokens *store.TokenCache, writer *store.Writer) error {
-	collectors := append(
-		statsCounters(writer.Stats,
-			"wattshelf_batched_write_statements_total", "Statements that stored reviews or created components; writes that arrive together share one.",
-			"wattshelf_batched_writes_total", "Reviews and components handed to those statements."),
-		statsCounters(tokens.Stats,
-			"wattshelf_token_checks_remembered_total", "Bearer tokens accepted from the server's memory of recent checks.",
-			"wattshelf_token_checks_database_total", "Bearer tokens checked against the database.")...)
-	collectors = append(collectors, prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: "wattshelf_token_cache_listening",
-		Help: "1 while the server listens for token changes and so may remember checked tokens, else 0."},
-		func() float64 {
-			if tokens.Listening() {
-				return 1
-			}
-			return 0
-		}))
-	for _, c := range collectors {
-		if err := reg.Register(c); err != nil {
-			return fmt.Errorf("register serve metrics: %w", err)
-		}
-	}
-	return nil
-}
-
-// statsCounters exports the two counts a Stats method returns.
-func statsCounters(stats func() (uint64, uint64), first, firstHelp, second, secondHelp string) []prometheus.Collector {
-	return []prometheus.Collector{
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: first, Help: firstHelp},
-			func() float64 { n, _ := stats(); return float64(n) }),
-		prometheus.NewCounterFunc(prometheus.CounterOpts{Name: second, Help: secondHelp},
-			func() float64 { _, n := stats(); return float64(n) }),
-	}
 }
 
 // newHTTPServer wraps handler with the timeouts that bound every request.

@@ -127,129 +127,22 @@ func cites(a, b string) string {
 }
 
 // num prints a value with about three significant digits.
-func num(x float64) string {
-	switch ax := math.Abs(x); {
-	case ax >= 100:
-		return strconv.FormatFloat(x, 'f', 0, 64)
-	case ax >= 10:
-		return strconv.FormatFloat(x, 'f', 1, 64)
-	case ax >= 1 || ax == 0:
-		return strconv.FormatFloat(x, 'f', 2, 64)
-	}
-	return strconv.FormatFloat(x, 'g', 3, 64)
-}
+func num(x float64) string { return string(appendNum(nil, x)) }
 
 func pct(share float64) string { return strconv.FormatFloat(share*100, 'f', 0, 64) + " %" }
 
-// appendNum is num for a byte buffer, and what most of the time of a
-// review's sentences goes into. Where it can tell the rounding for sure it
-// rounds in float64 and writes the digits itself; strconv, which rounds
-// the exact binary value, decides the rest. TestAppendNumMatchesNum holds
-// the two ways to the same bytes.
+// appendNum is num for a byte buffer.
 func appendNum(b []byte, x float64) []byte {
-	ax := math.Abs(x)
-	var decimals int
-	switch {
+	switch ax := math.Abs(x); {
 	case ax >= 100:
-		decimals = 0
+		return strconv.AppendFloat(b, x, 'f', 0, 64)
 	case ax >= 10:
-		decimals = 1
+		return strconv.AppendFloat(b, x, 'f', 1, 64)
 	case ax >= 1 || ax == 0:
-		decimals = 2
-	case ax >= 1e-4:
-		// Three significant digits as 'g' writes them here: fixed point,
-		// trailing zeros dropped. ax = 0.d… × 10^(e+1), e from −4 to −1.
-		e := -1
-		for ax < powerOfTen(e) {
-			e--
-		}
-		if n, ok := roundSure(ax * powerOfTen(2-e)); ok {
-			return appendFixed(b, math.Signbit(x), n, 2-e, true)
-		}
-		return strconv.AppendFloat(b, x, 'g', 3, 64)
-	default:
-		return strconv.AppendFloat(b, x, 'g', 3, 64)
+		return strconv.AppendFloat(b, x, 'f', 2, 64)
 	}
-	if n, ok := roundSure(ax * powerOfTen(decimals)); ok {
-		return appendFixed(b, math.Signbit(x), n, decimals, false)
-	}
-	return strconv.AppendFloat(b, x, 'f', decimals, 64)
+	return strconv.AppendFloat(b, x, 'g', 3, 64)
 }
-
-// roundSure rounds a scaled value to a whole number when the float64
-// product cannot have been rounded across a half: it is below 1e12, where
-// its error is under 1e-4, and its fraction is farther than that from ½.
-func roundSure(scaled float64) (uint64, bool) {
-	if scaled >= 1e12 {
-		return 0, false
-	}
-	whole := math.Floor(scaled)
-	frac := scaled - whole
-	if math.Abs(frac-0.5) < 1e-3 {
-		return 0, false
-	}
-	n := uint64(whole)
-	if frac > 0.5 {
-		n++
-	}
-	return n, true
-}
-
-// appendFixed writes n × 10^−decimals with that many decimals, or with the
-// trailing zeros of the fraction dropped when trim is set. The digits are
-// written from the right, two at a time, into a small array appended at
-// once: this runs for nearly every number of a review and of its report.
-func appendFixed(b []byte, negative bool, n uint64, decimals int, trim bool) []byte {
-	if trim {
-		for decimals >= 4 && n%10000 == 0 {
-			n /= 10000
-			decimals -= 4
-		}
-		for decimals > 0 && n%10 == 0 {
-			n /= 10
-			decimals--
-		}
-	}
-	var digits [48]byte // 20 digits, up to 19 leading zeros of a fraction, '.', '-'
-	i := len(digits)
-	if decimals > 0 {
-		d := decimals
-		for ; d >= 2; d -= 2 {
-			q := n / 100
-			i -= 2
-			copy(digits[i:i+2], twoDigits[2*(n-100*q):])
-			n = q
-		}
-		if d == 1 {
-			i--
-			digits[i] = byte('0' + n%10)
-			n /= 10
-		}
-		i--
-		digits[i] = '.'
-	}
-	for n >= 100 {
-		q := n / 100
-		i -= 2
-		copy(digits[i:i+2], twoDigits[2*(n-100*q):])
-		n = q
-	}
-	if n >= 10 {
-		i -= 2
-		copy(digits[i:i+2], twoDigits[2*n:])
-	} else {
-		i--
-		digits[i] = byte('0' + n)
-	}
-	if negative {
-		i--
-		digits[i] = '-'
-	}
-	return append(b, digits[i:]...)
-}
-
-// twoDigits is "00" to "99", end to end.
-const twoDigits = "00010203040506070809101112131415161718192021222324252627282930313233343536373839404142434445464748495051525354555657585960616263646566676869707172737475767778798081828384858687888990919293949596979899"
 
 // piece is a part of a sentence: text, or a number printed as num does.
 type piece struct {
@@ -272,7 +165,7 @@ func (r *reviewer) say(parts ...piece) string {
 	b := sentence[:0]
 	for _, p := range parts {
 		if p.isNum {
-			b = r.said.appendNum(b, p.number)
+			b = appendNum(b, p.number)
 		} else {
 			b = append(b, p.text...)
 		}
@@ -287,7 +180,7 @@ func (r *reviewer) say(parts ...piece) string {
 func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, passed bool) string) {
 	pick, status := -1, Pass
 	for i, c := range conds {
-		if c.crossed && c.level.rank() > status.rank() {
+		if c.crossed && c.level.Severity() > status.Severity() {
 			pick, status = i, c.level
 		}
 	}
@@ -306,14 +199,14 @@ func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, pas
 	}
 	ch := Check{Check: check, Node: nodeID, Status: status, Unit: c.unit}
 	if !c.noValue {
-		ch.Value = ptrTo(c.value)
+		ch.Value = r.nums.ptr(c.value)
 	}
-	hard, warn := thresholds(c, conds)
+	hard, warn := thresholds(pick, conds)
 	if hard != nil && !hard.noLimit {
-		ch.Limit = ptrTo(hard.limit)
+		ch.Limit = r.nums.ptr(hard.limit)
 	}
 	if warn != nil && !warn.noLimit {
-		ch.WarnAt = ptrTo(warn.limit)
+		ch.WarnAt = r.nums.ptr(warn.limit)
 	}
 	r.add(ch)
 	r.spans[len(r.checks)-1] = textSpan{int32(start), int32(r.text.Len())}
@@ -322,14 +215,16 @@ func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, pas
 func ptrTo(x float64) *float64 { return &x }
 
 // thresholds are the hard limit and the warning threshold that go with
-// the condition c shown: c's own, and the condition of the other level on
-// the same quantity (the same value and unit) or, failing that, with the
-// same threshold, where there is one.
-func thresholds(c cond, conds []cond) (hard, warn *cond) {
+// the condition shown, conds[pick]: its own, and the condition of the
+// other level on the same quantity (the same value and unit) or, failing
+// that, with the same threshold, where there is one. They point into
+// conds, so nothing here is allocated.
+func thresholds(pick int, conds []cond) (hard, warn *cond) {
+	c := &conds[pick]
 	if c.level == Fail {
-		hard = &c
+		hard = c
 	} else {
-		warn = &c
+		warn = c
 	}
 	// Another condition on the same quantity first, else one with the same
 	// threshold (a rating that the running current must not pass and the

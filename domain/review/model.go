@@ -3,7 +3,6 @@ package review
 import (
 	"errors"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 
@@ -157,13 +156,13 @@ func or(v *float64, def float64) float64 {
 // neither the node nor its component gives, a chemistry or fuse family the
 // limits do not store, a wire the conductor table cannot rate) come back as
 // a *domain.ValidationError.
-func build(ws *workspace, doc domain.Design, limits *Limits, components map[int64]domain.Component, ambientC float64) ([]node, error) {
+func build(doc domain.Design, limits *Limits, components map[int64]domain.Component, ambientC float64) ([]node, error) {
 	var p domain.Problems
-	rc := &ws.rc
-	nodes := ws.nodes
-	feeds := ws.feeds // every node's feed, with room for all of them
+	rc := &ratingCache{gauges: map[string]electric.Gauge{}, amps: map[ampKey]ampEntry{}}
+	nodes := make([]node, len(doc.Nodes))
+	feeds := make([]feed, 0, len(doc.Nodes)) // every node's feed, with room for all of them
 	ptrs := nodePointers(doc)
-	index := ws.index
+	index := make(map[string]int, len(doc.Nodes))
 	for i, dn := range doc.Nodes {
 		index[dn.ID] = i
 	}
@@ -204,76 +203,7 @@ func build(ws *workspace, doc domain.Design, limits *Limits, components map[int6
 			resolveFeed(&p, n.feed, n.feedPtr(), *dn.Feed, limits, ambientC, rc)
 		}
 	}
-	ws.feeds = feeds
 	return nodes, p.Err()
-}
-
-// workspace is what a review works in and drops: the engine's nodes and
-// feeds and the maps build fills. Rules keeps finished ones for the next
-// review, which then neither allocates them nor leaves them to the
-// collector. No report points into a workspace: it holds copies and the
-// document's strings, and is cleared when handed back.
-type workspace struct {
-	nodes []node
-	feeds []feed
-	index map[string]int
-	rc    ratingCache
-	said  saidNumbers
-}
-
-// saidNumbers remembers how appendNum wrote recent numbers, a slot per
-// value's bits: a review's sentences say the same few numbers over and
-// over. What a slot holds depends on nothing but the value, so it stays
-// right from one review to the next and is not cleared.
-type saidNumbers [64]struct {
-	bits uint64
-	n    uint8 // 0: empty
-	text [23]byte
-}
-
-// appendNum is appendNum, copying what it wrote for the same value before.
-func (s *saidNumbers) appendNum(b []byte, x float64) []byte {
-	bits := math.Float64bits(x)
-	slot := &s[(bits*0x9e3779b97f4a7c15)>>58]
-	if slot.n > 0 && slot.bits == bits {
-		return append(b, slot.text[:slot.n]...)
-	}
-	start := len(b)
-	b = appendNum(b, x)
-	if n := len(b) - start; n <= len(slot.text) {
-		slot.bits, slot.n = bits, uint8(n)
-		copy(slot.text[:], b[start:])
-	}
-	return b
-}
-
-// maxSpareNodes bounds the workspaces Rules keeps: one sized for a huge
-// design goes to the collector instead.
-const maxSpareNodes = 512
-
-// workspace lends a cleared workspace with room for n nodes.
-func (ru *Rules) workspace(n int) *workspace {
-	if ws, ok := ru.spare.Get().(*workspace); ok && cap(ws.nodes) >= n {
-		ws.nodes = ws.nodes[:n]
-		return ws
-	}
-	return &workspace{nodes: make([]node, n, max(n, 8)), feeds: make([]feed, 0, max(n, 8)),
-		index: make(map[string]int, n),
-		rc:    ratingCache{gauges: map[string]electric.Gauge{}, amps: map[ampKey]ampEntry{}}}
-}
-
-// release clears a workspace and keeps it for another review.
-func (ru *Rules) release(ws *workspace) {
-	if cap(ws.nodes) > maxSpareNodes {
-		return
-	}
-	clear(ws.nodes)
-	clear(ws.feeds)
-	ws.nodes, ws.feeds = ws.nodes[:0], ws.feeds[:0]
-	clear(ws.index)
-	clear(ws.rc.gauges)
-	clear(ws.rc.amps)
-	ru.spare.Put(ws)
 }
 
 func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {

@@ -28,8 +28,14 @@ const (
 	OutOfScope Status = "out_of_scope"
 )
 
-func (s Status) rank() int {
+// Severity orders statuses from harmless to worst: pass, warn, fail,
+// out_of_scope (a design the review cannot speak for is never taken as
+// passed). The engine, the report pages and the CLI all order by it; an
+// unknown status is -1.
+func (s Status) Severity() int {
 	switch s {
+	case Pass:
+		return 0
 	case Warn:
 		return 1
 	case Fail:
@@ -37,7 +43,7 @@ func (s Status) rank() int {
 	case OutOfScope:
 		return 3
 	}
-	return 0
+	return -1
 }
 
 // Check names.

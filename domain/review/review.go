@@ -7,7 +7,6 @@ import (
 	"slices"
 	"strconv"
 	"strings"
-	"sync"
 
 	"wattshelf/domain"
 	"wattshelf/domain/electric"
@@ -21,7 +20,6 @@ type reviewer struct {
 	spans   []textSpan // of each check's message in text
 	nums    numbers
 	text    strings.Builder // every message said so far, end to end
-	said    *saidNumbers    // how numbers were written before
 }
 
 // Rules is a limits set that passed Validate, with what every review
@@ -32,7 +30,6 @@ type Rules struct {
 	limits  Limits
 	version int
 	rules   map[string]Rule
-	spare   sync.Pool // of *workspace
 }
 
 // Prepare validates a limits set stored as version and readies it for
@@ -84,15 +81,13 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	if doc.AmbientC != nil {
 		ambient = *doc.AmbientC
 	}
-	ws := ru.workspace(len(doc.Nodes))
-	defer ru.release(ws)
-	nodes, err := build(ws, doc, limits, components, ambient)
+	nodes, err := build(doc, limits, components, ambient)
 	if err != nil {
 		return Report{}, err
 	}
 	t := newTree(nodes)
 	t.solve()
-	r := &reviewer{t: t, limits: limits, ambient: ambient, said: &ws.said,
+	r := &reviewer{t: t, limits: limits, ambient: ambient,
 		// A node gets about four checks: its own, and its feed's.
 		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
 	r.text.Grow(320*len(nodes) + 256)
@@ -156,7 +151,7 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 		case OutOfScope:
 			rep.Counts.OutOfScope++
 		}
-		if c.Status.rank() > rep.Status.rank() {
+		if c.Status.Severity() > rep.Status.Severity() {
 			rep.Status = c.Status
 		}
 	}
@@ -403,7 +398,7 @@ func clean(x float64) float64 {
 	if x == 0 || math.IsNaN(x) || math.IsInf(x, 0) || ax > 1e12 || ax < 1e-12 {
 		return x + 0 // + 0 turns −0 into 0
 	}
-	scale := powerOfTen(7 - decimalExponent(ax))
+	scale := math.Pow10(7 - decimalExponent(ax))
 	return math.Round(x*scale)/scale + 0
 }
 
@@ -415,84 +410,10 @@ func clean(x float64) float64 {
 func decimalExponent(ax float64) int {
 	e2 := int(math.Float64bits(ax)>>52&0x7ff) - 1023
 	e10 := (e2 * 78913) >> 18
-	if e10+1 <= 12 && ax >= powerOfTen(e10+1) {
+	if e10+1 <= 12 && ax >= math.Pow10(e10+1) {
 		e10++
 	}
 	return e10
-}
-
-// powerOfTen is 10^k for k from -12 to 19, every scale clean uses, as
-// the float64 nearest it (the value math.Pow gives for these exponents).
-// A switch, which compiles to a jump table: an array would be copied at
-// every call.
-func powerOfTen(k int) float64 {
-	switch k {
-	case -12:
-		return 1e-12
-	case -11:
-		return 1e-11
-	case -10:
-		return 1e-10
-	case -9:
-		return 1e-9
-	case -8:
-		return 1e-8
-	case -7:
-		return 1e-7
-	case -6:
-		return 1e-6
-	case -5:
-		return 1e-5
-	case -4:
-		return 1e-4
-	case -3:
-		return 1e-3
-	case -2:
-		return 1e-2
-	case -1:
-		return 1e-1
-	case 0:
-		return 1e0
-	case 1:
-		return 1e1
-	case 2:
-		return 1e2
-	case 3:
-		return 1e3
-	case 4:
-		return 1e4
-	case 5:
-		return 1e5
-	case 6:
-		return 1e6
-	case 7:
-		return 1e7
-	case 8:
-		return 1e8
-	case 9:
-		return 1e9
-	case 10:
-		return 1e10
-	case 11:
-		return 1e11
-	case 12:
-		return 1e12
-	case 13:
-		return 1e13
-	case 14:
-		return 1e14
-	case 15:
-		return 1e15
-	case 16:
-		return 1e16
-	case 17:
-		return 1e17
-	case 18:
-		return 1e18
-	case 19:
-		return 1e19
-	}
-	panic("powerOfTen: exponent out of range")
 }
 
 // checkFinite guards the promise that a report never holds NaN or ±Inf.

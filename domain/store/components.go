@@ -40,89 +40,28 @@ func scanComponent(row pgx.Row) (domain.Component, error) {
 }
 
 // CreateComponent stores a new component owned by actor, with its audit
-// row, in one statement (see createComponents).
+// row, in one transaction.
 func (s *Store) CreateComponent(ctx context.Context, actor domain.User, in domain.ComponentInput) (domain.Component, error) {
-	c, err := newComponentToStore(actor, in)
-	if err != nil {
-		return domain.Component{}, err
-	}
-	return writeAlone(ctx, s.pool, c, createComponents)
-}
-
-// componentToStore is one new component on its way into the database.
-type componentToStore struct {
-	actor      domain.User
-	in         domain.ComponentInput
-	electrical string // in.Electrical as JSON
-}
-
-func newComponentToStore(actor domain.User, in domain.ComponentInput) (componentToStore, error) {
 	if in.Quantity != int(int32(in.Quantity)) {
-		return componentToStore{}, fmt.Errorf("quantity %d does not fit the column", in.Quantity)
+		return domain.Component{}, fmt.Errorf("quantity %d does not fit the column", in.Quantity)
 	}
 	electrical, err := json.Marshal(in.Electrical)
 	if err != nil {
-		return componentToStore{}, fmt.Errorf("encode electrical fields: %w", err)
+		return domain.Component{}, fmt.Errorf("encode electrical fields: %w", err)
 	}
-	return componentToStore{actor: actor, in: in, electrical: string(electrical)}, nil
-}
-
-// createComponents inserts components and their audit rows with one
-// statement, so one round trip and one commit however many there are, and
-// returns them in the order given. The error is for the statement as a
-// whole: then nothing was stored.
-func createComponents(ctx context.Context, db querier, batch []componentToStore) ([]outcome[domain.Component], error) {
-	n := len(batch)
-	var (
-		names, kinds, descriptions, origins = make([]string, n), make([]string, n), make([]string, n), make([]string, n)
-		bins, conditions, sources, notes    = make([]string, n), make([]string, n), make([]string, n), make([]string, n)
-		electrical, owners                  = make([]string, n), make([]string, n)
-		mains                               = make([]bool, n)
-		quantities                          = make([]int32, n)
-	)
-	for i, c := range batch {
-		in := c.in
-		names[i], kinds[i], descriptions[i], origins[i] = in.Name, in.Kind, in.Description, in.Origin
-		bins[i], conditions[i], sources[i], notes[i] = in.Bin, in.Condition, in.SpecSource, in.Notes
-		electrical[i], owners[i], mains[i], quantities[i] = c.electrical, c.actor.Name, in.MainsOrigin, int32(in.Quantity)
-	}
-	// Identities are drawn in the order the rows are inserted, which the
-	// ORDER BY fixes, so sorting what comes back by id restores the order
-	// given; the names are compared below all the same.
-	rows, err := db.Query(ctx, `WITH i AS (
-			SELECT * FROM unnest($1::text[], $2::text[], $3::text[], $4::text[], $5::boolean[], $6::text[],
-				$7::integer[], $8::text[], $9::text[], $10::text[], $11::jsonb[], $12::text[]) WITH ORDINALITY
-			AS i(name, kind, description, origin, mains_origin, bin, quantity, condition, spec_source, notes, electrical, owner, n)
-		), c AS (
-			INSERT INTO components
+	var c domain.Component
+	err = s.inTx(ctx, func(tx pgx.Tx) error {
+		c, err = scanComponent(tx.QueryRow(ctx, `INSERT INTO components
 			(name, kind, description, origin, mains_origin, bin, quantity, condition, spec_source, notes, electrical, owner)
-			SELECT name, kind, description, origin, mains_origin, bin, quantity, condition, spec_source, notes, electrical, owner
-			FROM i ORDER BY n
-			RETURNING `+componentColumns+`
-		), a AS (
-			INSERT INTO audit (actor, action, subject_type, subject_id, detail)
-			SELECT c.owner, 'component.create', 'component', c.id::text, jsonb_build_object('name', c.name) FROM c
-		)
-		SELECT `+componentColumns+` FROM c ORDER BY id`,
-		names, kinds, descriptions, origins, mains, bins, quantities, conditions, sources, notes, electrical, owners)
-	if err != nil {
-		return nil, fmt.Errorf("insert %d components: %w", n, err)
-	}
-	created, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (domain.Component, error) { return scanComponent(r) })
-	if err != nil {
-		return nil, fmt.Errorf("insert %d components: %w", n, err)
-	}
-	if len(created) != n {
-		return nil, fmt.Errorf("insert %d components: %d came back", n, len(created))
-	}
-	results := make([]outcome[domain.Component], n)
-	for i, c := range created {
-		if c.Name != names[i] || c.Owner != owners[i] {
-			return nil, fmt.Errorf("insert %d components: row %d came back as %q of %s", n, i, c.Name, c.Owner)
+			VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12) RETURNING `+componentColumns,
+			in.Name, in.Kind, in.Description, in.Origin, in.MainsOrigin, in.Bin, int32(in.Quantity),
+			in.Condition, in.SpecSource, in.Notes, electrical, actor.Name))
+		if err != nil {
+			return fmt.Errorf("insert component: %w", err)
 		}
-		results[i] = outcome[domain.Component]{value: c}
-	}
-	return results, nil
+		return audit(ctx, tx, actor.Name, "component.create", "component", c.ID, map[string]any{"name": c.Name})
+	})
+	return c, err
 }
 
 // Component returns one component.
@@ -212,15 +151,23 @@ func (s *Store) ListComponents(ctx context.Context, f ComponentFilter) ([]domain
 func lockOwned(ctx context.Context, tx pgx.Tx, table string, id int64, actor domain.User, expectVersion int64) error {
 	var owner string
 	var version int64
+	kind := strings.TrimSuffix(table, "s")
 	err := tx.QueryRow(ctx, `SELECT owner, version FROM `+table+` WHERE id = $1 FOR UPDATE`, id).Scan(&owner, &version)
 	if err != nil {
-		return notFound(err, fmt.Sprintf("%s %d", strings.TrimSuffix(table, "s"), id))
+		return notFound(err, fmt.Sprintf("%s %d", kind, id))
 	}
+	return mayChange(kind, id, owner, version, actor, expectVersion)
+}
+
+// mayChange refuses a change by actor to a row owned by owner and now at
+// version, unless actor may change it and expectVersion is that version
+// (0 skips the version check).
+func mayChange(kind string, id int64, owner string, version int64, actor domain.User, expectVersion int64) error {
 	if !actor.MayChange(owner) {
-		return fmt.Errorf("%s %d belongs to %s: %w", strings.TrimSuffix(table, "s"), id, owner, domain.ErrForbidden)
+		return fmt.Errorf("%s %d belongs to %s: %w", kind, id, owner, domain.ErrForbidden)
 	}
 	if expectVersion != 0 && version != expectVersion {
-		return fmt.Errorf("%s %d is at version %d, not %d: %w", strings.TrimSuffix(table, "s"), id, version, expectVersion, domain.ErrPreconditionFailed)
+		return fmt.Errorf("%s %d is at version %d, not %d: %w", kind, id, version, expectVersion, domain.ErrPreconditionFailed)
 	}
 	return nil
 }

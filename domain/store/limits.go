@@ -7,9 +7,11 @@ import (
 	"fmt"
 	"time"
 
+	jsonv2 "github.com/go-json-experiment/json"
 	"github.com/jackc/pgx/v5"
 
 	"wattshelf/domain"
+	"wattshelf/domain/review"
 )
 
 // LimitsSet is one stored version of the limits a review applies. The body
@@ -33,6 +35,21 @@ type LimitsVersionSummary struct {
 
 // defaultLimitsActor is who the audit names for the seeded version 1.
 const defaultLimitsActor = "system"
+
+// defaultLimitsNote is stored with the seeded version 1.
+const defaultLimitsNote = "defaults seeded by wattshelf; every value names its source"
+
+// SeedDefaultLimits stores the review engine's default limits as version 1
+// unless a version 1 exists, and reports whether it stored them. serve
+// calls it as it starts and migrate up after migrating; nothing that
+// answers a request does.
+func (s *Store) SeedDefaultLimits(ctx context.Context) (bool, error) {
+	body, err := jsonv2.Marshal(review.DefaultLimits(), domain.StrictJSON())
+	if err != nil {
+		return false, fmt.Errorf("encode default limits: %w", err)
+	}
+	return s.EnsureDefaultLimits(ctx, body, defaultLimitsNote)
+}
 
 // EnsureDefaultLimits stores body as version 1 unless a version 1 exists,
 // and reports whether it stored it. Replicas starting together are safe:

@@ -88,141 +88,54 @@ func scanReview(row pgx.Row, extra ...any) (StoredReview, error) {
 }
 
 // AddReview stores a review of a design that actor may change (its owner
-// or staff), with a fresh share id, the document and its digest. The
-// returned review's Report is in.Report itself, not a copy.
+// or staff), with a fresh share id, the document and its digest, and its
+// audit row, in one transaction. The returned review's Report is
+// in.Report itself, not a copy.
 //
 // The review is kept only if the design is still at in.DesignVersion; a
 // design that has moved on since is refused with
-// domain.ErrPreconditionFailed, so a caller that reviewed a remembered
-// copy can read it again and retry. One statement locks the design,
-// inserts the review and writes its audit row (see addReviews).
+// domain.ErrPreconditionFailed. The design is locked FOR KEY SHARE, which
+// keeps it from being deleted under the insert without making reviews of
+// one design wait for each other.
 func (s *Store) AddReview(ctx context.Context, actor domain.User, in NewReview) (StoredReview, error) {
-	r, err := newReviewToStore(actor, in)
-	if err != nil {
-		return StoredReview{}, err
-	}
-	return writeAlone(ctx, s.pool, r, addReviews)
-}
-
-// querier is a pool or one connection of it.
-type querier interface {
-	Query(ctx context.Context, sql string, args ...any) (pgx.Rows, error)
-}
-
-// reviewToStore is one review on its way into the database.
-type reviewToStore struct {
-	actor  domain.User
-	in     NewReview
-	review StoredReview // what is known before the insert
-}
-
-func newReviewToStore(actor domain.User, in NewReview) (reviewToStore, error) {
 	if !wholeObject(in.Report) {
-		return reviewToStore{}, fmt.Errorf("store review of design %d: the report is not a whole JSON object", in.DesignID)
+		return StoredReview{}, fmt.Errorf("store review of design %d: the report is not a whole JSON object", in.DesignID)
 	}
 	if in.LimitsVersion != int(int32(in.LimitsVersion)) {
-		return reviewToStore{}, fmt.Errorf("store review of design %d: limits version %d does not fit the column", in.DesignID, in.LimitsVersion)
+		return StoredReview{}, fmt.Errorf("store review of design %d: limits version %d does not fit the column", in.DesignID, in.LimitsVersion)
 	}
 	shareID, err := newShareID()
 	if err != nil {
-		return reviewToStore{}, err
+		return StoredReview{}, err
 	}
-	return reviewToStore{actor: actor, in: in, review: StoredReview{DesignID: in.DesignID, ShareID: shareID,
-		Status: in.Status, LimitsVersion: in.LimitsVersion, DocumentSHA256: DocumentDigest(in.Document),
-		Report: in.Report, CreatedBy: actor.Name}}, nil
-}
-
-// addReviews stores reviews with one statement, so one round trip and one
-// commit however many there are, and says what became of each, in order.
-// Each review is inserted only if its design exists, its actor may change
-// it (domain.User.MayChange: staff, or the owner) and it is at the
-// version the review names. The designs are locked FOR KEY SHARE, which
-// keeps them from being deleted under the insert without making reviews
-// of one design wait for each other. The error is for the statement as a
-// whole: then nothing was stored.
-func addReviews(ctx context.Context, db querier, batch []reviewToStore) ([]outcome[StoredReview], error) {
-	n := len(batch)
-	var (
-		designIDs, versions         = make([]int64, n), make([]int64, n)
-		actors, shareIDs, statuses  = make([]string, n), make([]string, n), make([]string, n)
-		digests, documents, reports = make([]string, n), make([]string, n), make([]string, n)
-		staff                       = make([]bool, n)
-		limitsVersions              = make([]int32, n)
-	)
-	for i, r := range batch {
-		designIDs[i], versions[i] = r.in.DesignID, r.in.DesignVersion
-		actors[i], shareIDs[i], statuses[i] = r.actor.Name, r.review.ShareID, r.in.Status
-		digests[i], documents[i], reports[i] = r.review.DocumentSHA256, string(r.in.Document), string(r.in.Report)
-		staff[i] = r.actor.Role == domain.RoleStaff
-		limitsVersions[i] = int32(r.in.LimitsVersion)
-	}
-	rows, err := db.Query(ctx, `WITH i AS (
-			SELECT * FROM unnest($1::bigint[], $2::bigint[], $3::text[], $4::boolean[], $5::text[], $6::text[],
-				$7::integer[], $8::text[], $9::text[], $10::text[]) WITH ORDINALITY
-			AS i(design_id, design_version, actor, staff, share_id, status, limits_version, digest, document, report, n)
-		), d AS (
-			SELECT id, name, owner, version FROM designs WHERE id = ANY($1) FOR KEY SHARE
-		), r AS (
-			INSERT INTO reviews (design_id, share_id, status, limits_version, document_sha256, document, report, created_by)
-			SELECT i.design_id, i.share_id, i.status, i.limits_version, i.digest, i.document, i.report, i.actor
-			FROM i JOIN d ON d.id = i.design_id
-			WHERE (i.staff OR d.owner = i.actor) AND (i.design_version = 0 OR d.version = i.design_version)
-			ORDER BY i.n
-			RETURNING id, share_id, created_at
-		), a AS (
-			INSERT INTO audit (actor, action, subject_type, subject_id, detail)
-			SELECT i.actor, 'review.create', 'design', i.design_id::text,
-				jsonb_build_object('review', r.id, 'status', i.status, 'limits_version', i.limits_version)
-			FROM r JOIN i ON i.share_id = r.share_id
-		)
-		SELECT d.name, d.owner, d.version, r.id, r.created_at
-		FROM i LEFT JOIN d ON d.id = i.design_id LEFT JOIN r ON r.share_id = i.share_id
-		ORDER BY i.n`,
-		designIDs, versions, actors, staff, shareIDs, statuses, limitsVersions, digests, documents, reports)
-	if err != nil {
-		return nil, fmt.Errorf("store %d reviews: %w", n, err)
-	}
-	results := make([]outcome[StoredReview], 0, n)
-	var (
-		name, owner *string
-		version, id *int64
-		createdAt   *time.Time
-	)
-	_, err = pgx.ForEachRow(rows, []any{&name, &owner, &version, &id, &createdAt}, func() error {
-		if len(results) == n {
-			return fmt.Errorf("more than %d rows", n)
+	r := StoredReview{DesignID: in.DesignID, ShareID: shareID, Status: in.Status, LimitsVersion: in.LimitsVersion,
+		DocumentSHA256: DocumentDigest(in.Document), Report: in.Report, CreatedBy: actor.Name}
+	err = s.inTx(ctx, func(tx pgx.Tx) error {
+		var owner string
+		var version int64
+		err := tx.QueryRow(ctx, `SELECT name, owner, version FROM designs WHERE id = $1 FOR KEY SHARE`,
+			in.DesignID).Scan(&r.DesignName, &owner, &version)
+		if err != nil {
+			return notFound(err, fmt.Sprintf("design %d", in.DesignID))
 		}
-		r := batch[len(results)]
-		results = append(results, r.outcome(name, owner, version, id, createdAt))
-		return nil
+		if err := mayChange("design", in.DesignID, owner, version, actor, in.DesignVersion); err != nil {
+			return err
+		}
+		err = tx.QueryRow(ctx, `INSERT INTO reviews
+			(design_id, share_id, status, limits_version, document_sha256, document, report, created_by)
+			VALUES ($1, $2, $3, $4, $5, $6, $7, $8) RETURNING id, created_at`,
+			in.DesignID, shareID, in.Status, int32(in.LimitsVersion), r.DocumentSHA256, string(in.Document),
+			string(in.Report), actor.Name).Scan(&r.ID, &r.CreatedAt)
+		if err != nil {
+			return fmt.Errorf("store review of design %d: %w", in.DesignID, err)
+		}
+		return audit(ctx, tx, actor.Name, "review.create", "design", in.DesignID,
+			map[string]any{"review": r.ID, "status": in.Status, "limits_version": in.LimitsVersion})
 	})
-	if err == nil && len(results) != n {
-		err = fmt.Errorf("%d rows for %d reviews", len(results), n)
-	}
 	if err != nil {
-		return nil, fmt.Errorf("store %d reviews: %w", n, err)
+		return StoredReview{}, err
 	}
-	return results, nil
-}
-
-// outcome reads what the statement said of r: the design's name, owner and
-// version (nil when there is no such design), and the review's id and time
-// (nil when it was not inserted).
-func (r reviewToStore) outcome(name, owner *string, version, id *int64, createdAt *time.Time) outcome[StoredReview] {
-	in := r.in
-	switch {
-	case name == nil:
-		return outcome[StoredReview]{err: fmt.Errorf("design %d: %w", in.DesignID, domain.ErrNotFound)}
-	case id != nil:
-		stored := r.review
-		stored.DesignName, stored.ID, stored.CreatedAt = *name, *id, *createdAt
-		return outcome[StoredReview]{value: stored}
-	case !r.actor.MayChange(*owner):
-		return outcome[StoredReview]{err: fmt.Errorf("design %d belongs to %s: %w", in.DesignID, *owner, domain.ErrForbidden)}
-	default:
-		return outcome[StoredReview]{err: fmt.Errorf("design %d is at version %d, not %d: %w",
-			in.DesignID, *version, in.DesignVersion, domain.ErrPreconditionFailed)}
-	}
+	return r, nil
 }
 
 // wholeObject is a cheap guard against an empty or cut-off report: it
