@@ -115,6 +115,9 @@ func (s *server) createDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
+	if err := s.checkQuota(c, store.QuotaNeed{NewDesign: true, AddBytes: int64(len(body))}); err != nil {
+		return err
+	}
 	d, err := s.store.CreateDesign(c.Request().Context(), currentUser(c), doc.Name, body)
 	if err != nil {
 		return err
@@ -216,7 +219,13 @@ func (s *server) patchDesign(c echo.Context) error {
 	return s.saveDesign(c, current.ID, version, checked.Name, merged)
 }
 
+// saveDesign stores a new document for a design. The byte quota counts
+// the new document as added, without subtracting the old one: one read
+// fewer, and it errs on the side of the quota by at most one document.
 func (s *server) saveDesign(c echo.Context, id, version int64, name string, document []byte) error {
+	if err := s.checkQuota(c, store.QuotaNeed{AddBytes: int64(len(document))}); err != nil {
+		return err
+	}
 	d, err := s.store.UpdateDesign(c.Request().Context(), currentUser(c), id, version, name, document)
 	if err != nil {
 		return err
