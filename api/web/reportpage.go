@@ -28,45 +28,55 @@ const noReportMessage = "No report is shared under this address. Check the link 
 // A stored review never changes, so its page and downloads are tagged
 // from the stored review (and the shelf's revision, which fills what
 // nodes leave out): every replica gives the same tag, a client holding
-// it gets 304 for one small query, and only a render is rate-limited.
+// it gets 304 for one small query, and only a build is rate-limited.
 func (p *pages) report(c echo.Context) error {
-	return p.sharedReview(c, "page", func(rec store.SharedReview) error {
-		in, err := p.reportInput(c.Request().Context(), rec)
+	return p.sharedReview(c, "page", func(ctx context.Context, rec store.SharedReview) (built, error) {
+		in, err := p.reportInput(ctx, rec)
 		if err != nil {
-			return p.failure(c, err)
+			return built{}, err
 		}
-		return p.html(c, http.StatusOK, func(w *strings.Builder) error {
-			return p.views.renderReport(w, in)
-		})
+		var b strings.Builder
+		if err := p.views.renderReport(&b, in); err != nil {
+			return built{}, fmt.Errorf("render report of review %d: %w", rec.ID, err)
+		}
+		return built{body: []byte(b.String()), contentType: echo.MIMETextHTMLCharsetUTF8}, nil
 	})
 }
 
 // reportDesign downloads the design document the review read, as stored.
 func (p *pages) reportDesign(c echo.Context) error {
-	return p.sharedReview(c, "design", func(rec store.SharedReview) error {
+	return p.sharedReview(c, "design", func(_ context.Context, rec store.SharedReview) (built, error) {
 		if rec.Document == "" {
-			return p.notFound(c, "This review was stored before reviews kept the document they read.")
+			return built{missing: "This review was stored before reviews kept the document they read."}, nil
 		}
-		return p.download(c, "design-"+rec.ShareID+".json", []byte(rec.Document))
+		return built{body: []byte(rec.Document), contentType: "application/json", filename: "design-" + rec.ShareID + ".json"}, nil
 	})
 }
 
 // reportJSON downloads the stored report, as stored.
 func (p *pages) reportJSON(c echo.Context) error {
-	return p.sharedReview(c, "report", func(rec store.SharedReview) error {
-		return p.download(c, "review-"+rec.ShareID+".json", rec.Report)
+	return p.sharedReview(c, "report", func(_ context.Context, rec store.SharedReview) (built, error) {
+		return built{body: rec.Report, contentType: "application/json", filename: "review-" + rec.ShareID + ".json"}, nil
 	})
 }
 
-func (p *pages) download(c echo.Context, filename string, body []byte) error {
-	c.Response().Header().Set("Content-Disposition", `attachment; filename="`+filename+`"`)
-	return c.Blob(http.StatusOK, "application/json", body)
+// built is a report page or download, ready to send; missing says why
+// there is nothing to send.
+type built struct {
+	body        []byte
+	contentType string
+	filename    string // set for a download
+	missing     string
 }
 
+// errBuildsBusy says no build slot came free before the request's deadline.
+var errBuildsBusy = errors.New("every report build slot stayed busy")
+
 // sharedReview answers 404, 304 or 429 for the review under the path's
-// share id, or loads it and calls build. what names the representation,
-// so each has a tag of its own.
-func (p *pages) sharedReview(c echo.Context, what string, build func(store.SharedReview) error) error {
+// share id, or loads it and builds what names (each representation has a
+// tag of its own). Requests for the same tag share one build, and at
+// most reportBuildSlots builds run at once.
+func (p *pages) sharedReview(c echo.Context, what string, build func(context.Context, store.SharedReview) (built, error)) error {
 	ctx := c.Request().Context()
 	shareID := c.Param("share_id")
 	stamp, err := p.deps.Source.ReviewStampByShareID(ctx, shareID)
@@ -89,14 +99,42 @@ func (p *pages) sharedReview(c echo.Context, what string, build func(store.Share
 			return p.tooMany(c, wait)
 		}
 	}
-	rec, err := p.deps.Source.ReviewByShareID(ctx, shareID)
-	if errors.Is(err, domain.ErrNotFound) {
-		return p.notFound(c, noReportMessage)
+	result, err, _ := p.reportFlight.Do(tag, func() (any, error) {
+		// Shared by every request waiting on this tag: one client going
+		// away must not fail the others, but the work keeps this
+		// request's deadline.
+		shared, cancel := context.WithoutCancel(ctx), context.CancelFunc(func() {})
+		if deadline, ok := ctx.Deadline(); ok {
+			shared, cancel = context.WithDeadline(shared, deadline)
+		}
+		defer cancel()
+		if err := p.builds.Acquire(shared, 1); err != nil {
+			return built{}, errBuildsBusy
+		}
+		defer p.builds.Release(1)
+		rec, err := p.deps.Source.ReviewByShareID(shared, shareID)
+		if errors.Is(err, domain.ErrNotFound) {
+			return built{missing: noReportMessage}, nil
+		}
+		if err != nil {
+			return built{}, err
+		}
+		return build(shared, rec)
+	})
+	if errors.Is(err, errBuildsBusy) {
+		return p.busy(c)
 	}
 	if err != nil {
 		return p.failure(c, err)
 	}
-	return build(rec)
+	b := result.(built)
+	if b.missing != "" {
+		return p.notFound(c, b.missing)
+	}
+	if b.filename != "" {
+		h.Set("Content-Disposition", `attachment; filename="`+b.filename+`"`)
+	}
+	return c.Blob(http.StatusOK, b.contentType, b.body)
 }
 
 // reportTag is a strong ETag (RFC 9110 section 8.8.3): the same stored
@@ -119,6 +157,17 @@ func noneMatch(field, tag string) bool {
 		}
 	}
 	return false
+}
+
+// busy answers 503 when no build slot came free in time.
+func (p *pages) busy(c echo.Context) error {
+	c.Response().Header().Set("Retry-After", "5")
+	var b strings.Builder
+	if err := p.views.renderError(&b, errorView{Status: http.StatusServiceUnavailable, Title: "Try again shortly",
+		Message: "Many reports are being prepared right now. Try again in a few seconds."}); err != nil {
+		return err
+	}
+	return c.HTMLBlob(http.StatusServiceUnavailable, []byte(b.String()))
 }
 
 func (p *pages) tooMany(c echo.Context, wait int) error {

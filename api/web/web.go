@@ -18,6 +18,8 @@ import (
 	"unicode/utf8"
 
 	"github.com/labstack/echo/v4"
+	"golang.org/x/sync/semaphore"
+	"golang.org/x/sync/singleflight"
 
 	"wattshelf/domain"
 	"wattshelf/domain/store"
@@ -56,7 +58,17 @@ const (
 type pages struct {
 	deps  Deps
 	views *views
+	// builds bounds the report pages and downloads built at once, and
+	// reportFlight lets concurrent requests for one of them share a
+	// build: each holds a stored report of up to tens of megabytes while
+	// it is read and decoded.
+	builds       *semaphore.Weighted
+	reportFlight singleflight.Group
 }
+
+// reportBuildSlots is how many report pages or downloads are built at
+// once; the rest wait their turn within their request's deadline.
+const reportBuildSlots = 2
 
 // Register adds the HTML routes and their assets to e.
 func Register(e *echo.Echo, deps Deps) error {
@@ -67,7 +79,7 @@ func Register(e *echo.Echo, deps Deps) error {
 	if err != nil {
 		return err
 	}
-	p := &pages{deps: deps, views: v}
+	p := &pages{deps: deps, views: v, builds: semaphore.NewWeighted(reportBuildSlots)}
 	// Per route, not a group: a group's middleware would also claim every
 	// unmatched path of the whole service.
 	e.GET("/shelf", p.kiosk, securityHeaders)
