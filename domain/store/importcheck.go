@@ -52,7 +52,10 @@ func CheckSnapshot(snap Snapshot) error {
 	}
 	for i, u := range snap.Users {
 		var p domain.Problems
-		p.CheckText("/name", u.Name, domain.MaxNameLen, true)
+		// As CreateToken names a user.
+		if name := strings.TrimSpace(u.Name); name != u.Name || name == "" || len(name) > domain.MaxShortFieldLen {
+			p.Add("/name", "must be 1 to %d characters without surrounding space", domain.MaxShortFieldLen)
+		}
 		if !domain.Role(u.Role).Valid() {
 			p.Add("/role", "must be %s or %s", domain.RoleMember, domain.RoleStaff)
 		}
