@@ -32,7 +32,9 @@ func TestCheckSnapshot(t *testing.T) {
 		{"measurement past 1 kV", func(s *store.Snapshot) {
 			s.Measurements = []store.ExportedMeasurement{{ID: 3, ComponentID: 7, VoltageV: 5000, CurrentA: 1, RecordedBy: "ada"}}
 		}, "measurements[0] (id 3): invalid input: /voltage_v"},
-		{"design not JSON", func(s *store.Snapshot) { s.Designs = []store.ExportedDesign{{ID: 4, Name: "x", Document: "{", Owner: "ada"}} },
+		{"design not JSON", func(s *store.Snapshot) {
+			s.Designs = []store.ExportedDesign{{ID: 4, Name: "x", Document: "{", Owner: "ada"}}
+		},
 			"designs[0] (id 4): /document"},
 		{"limits body not limits", func(s *store.Snapshot) {
 			s.Limits = []store.ExportedLimits{{Version: 1, Body: json.RawMessage(`[]`), CreatedBy: "system"}}
