@@ -125,6 +125,9 @@ func (s *server) createDesign(c echo.Context) error {
 	if err != nil {
 		return err
 	}
+	if err := s.checkQuota(c, store.QuotaNeed{NewDesign: true, AddBytes: int64(len(body))}); err != nil {
+		return err
+	}
 	d, err := s.store.CreateDesign(c.Request().Context(), currentUser(c), strings.TrimSpace(doc.Name), body)
 	if err != nil {
 		return err
@@ -242,6 +245,12 @@ func (s *server) changeDesign(c echo.Context, id, version int64, change func(sto
 		func(current store.StoredDesign, expect int64) (store.StoredDesign, error) {
 			name, document, err := change(current)
 			if err != nil {
+				return current, err
+			}
+			// The byte quota counts the new document as added, without
+			// subtracting the old one: one read fewer, and it errs on the
+			// side of the quota by at most one document.
+			if err := s.checkQuota(c, store.QuotaNeed{AddBytes: int64(len(document))}); err != nil {
 				return current, err
 			}
 			return s.store.UpdateDesign(c.Request().Context(), currentUser(c), id, expect, name, document)

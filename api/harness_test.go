@@ -160,6 +160,7 @@ type problemDoc struct {
 	Instance  string                `json:"instance"`
 	RequestID string                `json:"request_id"`
 	Errors    []domain.FieldProblem `json:"errors"`
+	Quota     string                `json:"quota"`
 }
 
 // wantProblem checks that r is a problem document of kind with status,

@@ -233,6 +233,9 @@ func TestOpenAPIResponses(t *testing.T) {
 	oc.send(get, fmt.Sprintf("/shelf/%d/qr.png", motor.ID), "", nil, 200)
 	oc.send(get, "/reports/"+stored.ShareID, "", nil, 200)
 	oc.send(get, "/reports/no-such-report", "", nil, 404)
+	oc.send(get, "/reports/"+stored.ShareID+"/design.json", "", nil, 200)
+	oc.send(get, "/reports/"+stored.ShareID+"/report.json", "", nil, 200)
+	oc.send(get, "/reports/no-such-report/report.json", "", nil, 404)
 	oc.send(get, "/assets/site.css", "", nil, 200)
 	oc.send(get, "/assets/kiosk.js", "", nil, 200)
 

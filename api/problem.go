@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"log/slog"
+	"math"
 	"net/http"
 	"strconv"
 
@@ -22,6 +23,8 @@ type Problem struct {
 	Instance  string                `json:"instance,omitempty"`
 	Errors    []domain.FieldProblem `json:"errors,omitempty"`
 	RequestID string                `json:"request_id,omitempty"`
+	// Quota names the per-member quota a quota problem is about.
+	Quota string `json:"quota,omitempty"`
 }
 
 // ProblemTypePrefix starts every problem type URI.
@@ -52,6 +55,8 @@ func problemKinds() map[string]problemKind {
 		"motor-fit-needs-readings": {http.StatusUnprocessableEntity, "The bench readings cannot be fitted yet"},
 		"precondition-required":    {http.StatusPreconditionRequired, "Send If-Match with the ETag you read"},
 		"rate-limited":             {http.StatusTooManyRequests, "Too many requests; slow down"},
+		"quota-rate":               {http.StatusTooManyRequests, "A per-member quota for this hour is used up"},
+		"quota-total":              {http.StatusForbidden, "A per-member quota is used up"},
 		"internal":                 {http.StatusInternalServerError, "Something went wrong on our side"},
 		"unavailable":              {http.StatusServiceUnavailable, "The service cannot serve this right now"},
 	}
@@ -62,7 +67,8 @@ type problemError struct {
 	kind   string
 	detail string
 	fields []domain.FieldProblem
-	retry  int // seconds for Retry-After, 0 for none
+	retry  int    // seconds for Retry-After, 0 for none
+	quota  string // the quota a quota problem names
 }
 
 func (e *problemError) Error() string { return e.kind + ": " + e.detail }
@@ -81,8 +87,11 @@ func problemFor(err error, isUnavailable unavailabilityCheck) (Problem, *problem
 	var ve *domain.ValidationError
 	var de *domain.DecodeError
 	var he *echo.HTTPError
+	var qe *domain.QuotaError
 	switch {
 	case errors.As(err, &pe):
+	case errors.As(err, &qe):
+		pe = quotaProblem(qe)
 	case errors.As(err, &ve):
 		pe = &problemError{kind: "validation", detail: domain.CountOf(len(ve.Problems), "field is invalid", "fields are invalid"), fields: ve.Problems}
 	case errors.As(err, &de):
@@ -107,8 +116,20 @@ func problemFor(err error, isUnavailable unavailabilityCheck) (Problem, *problem
 	k := problemKinds()[pe.kind]
 	return Problem{
 		Type: ProblemTypePrefix + pe.kind, Title: k.title, Status: k.status,
-		Detail: pe.detail, Errors: pe.fields,
+		Detail: pe.detail, Errors: pe.fields, Quota: pe.quota,
 	}, pe
+}
+
+// quotaProblem is a 429 with Retry-After for a rate quota and a 403 for
+// a total, each naming the quota so a client can tell which it hit.
+func quotaProblem(qe *domain.QuotaError) *problemError {
+	if qe.RetryAfter > 0 {
+		seconds := int(math.Ceil(qe.RetryAfter.Seconds()))
+		return &problemError{kind: "quota-rate", quota: qe.Quota, retry: seconds,
+			detail: fmt.Sprintf("you have stored %d or more reviews in the last hour (quota %s); try again in %d s", qe.Limit, qe.Quota, seconds)}
+	}
+	return &problemError{kind: "quota-total", quota: qe.Quota,
+		detail: fmt.Sprintf("you have reached the quota %s (%d); delete something or ask staff to raise it", qe.Quota, qe.Limit)}
 }
 
 // publicDetail is the message of a domain error, which our own code wrote

@@ -75,7 +75,9 @@ func (s *server) review(ctx context.Context, document []byte, v int) (review.Rep
 // bearer token that does not check out is a 401 here, while any other
 // Authorization (a proxy's Basic auth) is ignored, as public routes do.
 func (s *server) reviewDocument(c echo.Context) error {
-	if _, err := s.identify(c); err != nil {
+	_, err := s.identify(c)
+	anonymous := err != nil
+	if anonymous {
 		if sentBearer(c) {
 			return err
 		}
@@ -88,7 +90,7 @@ func (s *server) reviewDocument(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	body, err := readBody(c)
+	body, err := s.readReviewBody(c, anonymous)
 	if err != nil {
 		return err
 	}
@@ -97,6 +99,31 @@ func (s *server) reviewDocument(c echo.Context) error {
 		return err
 	}
 	return c.JSON(http.StatusOK, report)
+}
+
+// AnonymousMaxBodyBytes caps the body of an inline review sent without a
+// token: a design of several hundred nodes fits, while the review work a
+// stranger can ask for stays well below a member's MaxBodyBytes.
+const AnonymousMaxBodyBytes = 256 << 10
+
+// readReviewBody reads an inline review's body, capped lower for an
+// anonymous client than the MaxBodyBytes every request has.
+func (s *server) readReviewBody(c echo.Context, anonymous bool) ([]byte, error) {
+	if !anonymous {
+		return readBody(c)
+	}
+	tooLarge := newProblem("too-large", "a review sent without a token is limited to %d KiB; members may send up to %d KiB",
+		AnonymousMaxBodyBytes>>10, MaxBodyBytes>>10)
+	req := c.Request()
+	if req.ContentLength > AnonymousMaxBodyBytes {
+		return nil, tooLarge
+	}
+	req.Body = http.MaxBytesReader(c.Response(), req.Body, AnonymousMaxBodyBytes)
+	body, err := readBody(c)
+	if errors.Is(err, echo.ErrStatusRequestEntityTooLarge) {
+		return nil, tooLarge
+	}
+	return body, err
 }
 
 // reviewStoredDesign reviews a stored design and keeps the report and the
@@ -111,6 +138,11 @@ func (s *server) reviewStoredDesign(c echo.Context) error {
 	}
 	d, err := s.visibleDesign(c)
 	if err != nil {
+		return err
+	}
+	// Before the review's work, so a member past the hourly quota costs
+	// one cheap query.
+	if err := s.checkQuota(c, store.QuotaNeed{Review: true}); err != nil {
 		return err
 	}
 	r, err := s.storeReview(c, d, v)
@@ -136,10 +168,23 @@ func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion
 	if err != nil {
 		return store.StoredReview{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
 	}
+	if err := s.checkQuota(c, store.QuotaNeed{AddBytes: int64(len(encoded) + len(d.Document))}); err != nil {
+		return store.StoredReview{}, err
+	}
 	return s.store.AddReview(ctx, currentUser(c), store.NewReview{
 		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(report.Status),
 		LimitsVersion: report.LimitsVersion, Report: encoded,
 	})
+}
+
+// checkQuota refuses a member's write that would pass a per-member quota;
+// staff are exempt.
+func (s *server) checkQuota(c echo.Context, need store.QuotaNeed) error {
+	u := currentUser(c)
+	if u.Role == domain.RoleStaff {
+		return nil
+	}
+	return s.store.CheckQuota(c.Request().Context(), u.Name, need)
 }
 
 func (s *server) listDesignReviews(c echo.Context) error {

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"strings"
 	"unicode"
+	"time"
 )
 
 // The kinds of failure a caller can act on. Store and service code wrap
@@ -145,4 +146,20 @@ func (e *DecodeError) Error() string {
 		return fmt.Sprintf("malformed JSON at byte %d: %s", e.Offset, e.Reason)
 	}
 	return "malformed JSON: " + e.Reason
+}
+
+// QuotaError says a member has reached one of the per-member quotas. A
+// rate quota (RetryAfter > 0) frees up with time; a total does not until
+// something is deleted or staff raise it.
+type QuotaError struct {
+	Quota      string // the setting's name, e.g. "reviews_per_hour"
+	Limit      int64
+	RetryAfter time.Duration
+}
+
+func (e *QuotaError) Error() string {
+	if e.RetryAfter > 0 {
+		return fmt.Sprintf("quota %s (%d) reached; it frees up in %s", e.Quota, e.Limit, e.RetryAfter.Round(time.Second))
+	}
+	return fmt.Sprintf("quota %s (%d) reached", e.Quota, e.Limit)
 }

@@ -23,7 +23,22 @@ type ReportInput struct {
 	// Components are the shelf records the design's nodes name; they fill
 	// what a node leaves out, as they did for the review.
 	Components map[int64]domain.Component
+	// ShareID addresses the downloads of the design and the full report;
+	// DocumentKept says the review kept its document to download.
+	ShareID      string
+	DocumentKept bool
 }
+
+// A design of more nodes than maxDrawnNodes is shown as a summary: no
+// tree diagram or table of operating points, and its findings other than
+// passes, at most maxListedFindings of them; the design and the full
+// report are offered as downloads. A 5,000-node page in full was 22 MB
+// and took seconds to render (issue 15 item 1).
+const (
+	maxDrawnNodes     = 250
+	maxListedFindings = 1000
+	maxSummaryPlots   = 12
+)
 
 // reportPage is the report's view model.
 type reportPage struct {
@@ -42,7 +57,14 @@ type reportPage struct {
 	Cautions      []string
 	Rules         map[string]review.Rule
 	// NoDocument says the tree lacks what only the document held.
-	NoDocument bool
+	NoDocument   bool
+	ShareID      string
+	DocumentKept bool
+	// Summary says the design is too large to draw; NodeCount is its size
+	// and Unlisted the findings the summary leaves to the download.
+	Summary   bool
+	NodeCount int
+	Unlisted  int
 }
 
 type findingGroup struct {
@@ -78,7 +100,11 @@ func reportView(in ReportInput) reportPage {
 		page.DesignName = "Untitled design"
 	}
 	page.Headline = headline(rep)
+	page.ShareID, page.DocumentKept, page.NodeCount = in.ShareID, in.DocumentKept, len(rep.Nodes)
 	worst := worstByNode(rep.Checks)
+	if page.NodeCount > maxDrawnNodes {
+		return summaryView(page, rep, worst)
+	}
 	var nodes []domain.Node
 	if in.Design != nil {
 		nodes = resolveNodes(*in.Design, in.Components)
@@ -89,6 +115,32 @@ func reportView(in ReportInput) reportPage {
 	page.Tree = layoutTree(rep, nodes, worst)
 	page.Groups = groupFindings(rep.Nodes, rep.Checks, worst)
 	for _, r := range rep.Runtime {
+		page.Runtime = append(page.Runtime, newRuntimeRow(r))
+	}
+	return page
+}
+
+// summaryView is the page of a design too large to draw: its verdict, its
+// findings other than passes (worst first, up to maxListedFindings), the
+// first few discharge plots and runtimes, and the cautions.
+func summaryView(page reportPage, rep review.Report, worst map[string]review.Status) reportPage {
+	page.Summary, page.Nodes = true, nil
+	var findings []review.Check
+	for _, c := range rep.Checks {
+		if c.Status != review.Pass {
+			findings = append(findings, c)
+		}
+	}
+	slices.SortStableFunc(findings, func(a, b review.Check) int { return b.Status.Severity() - a.Status.Severity() })
+	if len(findings) > maxListedFindings {
+		page.Unlisted = len(findings) - maxListedFindings
+		findings = findings[:maxListedFindings]
+	}
+	page.Groups = groupFindings(rep.Nodes, findings, worst)
+	first := rep
+	first.Runtime = rep.Runtime[:min(len(rep.Runtime), maxSummaryPlots)]
+	page.Plots = dischargePlots(first)
+	for _, r := range first.Runtime {
 		page.Runtime = append(page.Runtime, newRuntimeRow(r))
 	}
 	return page

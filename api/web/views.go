@@ -22,6 +22,9 @@ var files embed.FS
 type views struct {
 	kiosk, component, report, errorPage *template.Template
 	assets                              map[string]asset
+	// templatesDigest changes with any template, so a page's ETag changes
+	// when a new binary would render it differently.
+	templatesDigest []byte
 }
 
 type asset struct {
@@ -56,6 +59,9 @@ func newViews() (*views, error) {
 			return nil, err
 		}
 	}
+	if v.templatesDigest, err = digestFiles("templates"); err != nil {
+		return nil, err
+	}
 	entries, err := fs.ReadDir(files, "static")
 	if err != nil {
 		return nil, fmt.Errorf("list static files: %w", err)
@@ -73,6 +79,24 @@ func newViews() (*views, error) {
 		v.assets[e.Name()] = asset{body: body, contentType: ct, etag: `"` + hex.EncodeToString(sum[:8]) + `"`}
 	}
 	return v, nil
+}
+
+// digestFiles is the SHA-256 of the embedded files in dir, names and bodies.
+func digestFiles(dir string) ([]byte, error) {
+	entries, err := fs.ReadDir(files, dir)
+	if err != nil {
+		return nil, fmt.Errorf("list %s: %w", dir, err)
+	}
+	h := sha256.New()
+	for _, e := range entries {
+		body, err := fs.ReadFile(files, dir+"/"+e.Name())
+		if err != nil {
+			return nil, fmt.Errorf("read %s/%s: %w", dir, e.Name(), err)
+		}
+		fmt.Fprintf(h, "%s %d\n", e.Name(), len(body))
+		h.Write(body)
+	}
+	return h.Sum(nil), nil
 }
 
 func (v *views) renderKiosk(w io.Writer, page kioskPage) error {

@@ -8,7 +8,6 @@ package web
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"log/slog"
@@ -18,9 +17,10 @@ import (
 	"unicode/utf8"
 
 	"github.com/labstack/echo/v4"
+	"golang.org/x/sync/semaphore"
+	"golang.org/x/sync/singleflight"
 
 	"wattshelf/domain"
-	"wattshelf/domain/review"
 	"wattshelf/domain/store"
 )
 
@@ -31,6 +31,7 @@ type Source interface {
 	Component(ctx context.Context, id int64) (domain.Component, error)
 	ComponentsByID(ctx context.Context, ids []int64) (map[int64]domain.Component, error)
 	ReviewByShareID(ctx context.Context, shareID string) (store.SharedReview, error)
+	ReviewStampByShareID(ctx context.Context, shareID string) (store.ReviewStamp, error)
 }
 
 // Deps are the page handlers' dependencies.
@@ -43,12 +44,26 @@ type Deps struct {
 	// WallByDefault makes /shelf the wall screen; ?wall=0 still shows the
 	// ordinary page.
 	WallByDefault bool
+	// AllowRender says whether the client of r may have a report page or
+	// download built now, and if not, in how many seconds; nil allows all.
+	// An answer of 304 is not counted.
+	AllowRender func(r *http.Request) (ok bool, retryAfter int)
 }
 
 type pages struct {
 	deps  Deps
 	views *views
+	// builds bounds the report pages and downloads built at once, and
+	// reportFlight lets concurrent requests for one of them share a
+	// build: each holds a stored report of up to tens of megabytes while
+	// it is read and decoded.
+	builds       *semaphore.Weighted
+	reportFlight singleflight.Group
 }
+
+// reportBuildSlots is how many report pages or downloads are built at
+// once; the rest wait their turn within their request's deadline.
+const reportBuildSlots = 2
 
 // Register adds the HTML routes and their assets to e.
 func Register(e *echo.Echo, deps Deps) error {
@@ -59,7 +74,7 @@ func Register(e *echo.Echo, deps Deps) error {
 	if err != nil {
 		return err
 	}
-	p := &pages{deps: deps, views: v}
+	p := &pages{deps: deps, views: v, builds: semaphore.NewWeighted(reportBuildSlots)}
 	// Per route, not a group: a group's middleware would also claim every
 	// unmatched path of the whole service.
 	e.GET("/", p.home, securityHeaders)
@@ -68,6 +83,8 @@ func Register(e *echo.Echo, deps Deps) error {
 	e.GET("/shelf/:id/qr.svg", p.qrSVG, securityHeaders)
 	e.GET("/shelf/:id/qr.png", p.qrPNG, securityHeaders)
 	e.GET("/reports/:share_id", p.report, securityHeaders)
+	e.GET("/reports/:share_id/design.json", p.reportDesign, securityHeaders)
+	e.GET("/reports/:share_id/report.json", p.reportJSON, securityHeaders)
 	e.GET("/assets/:name", p.asset, securityHeaders)
 	return nil
 }
@@ -167,47 +184,6 @@ func (p *pages) qr(c echo.Context, png bool) error {
 		return p.failure(c, err)
 	}
 	return c.Blob(http.StatusOK, "image/svg+xml", body)
-}
-
-func (p *pages) report(c echo.Context) error {
-	rec, err := p.deps.Source.ReviewByShareID(c.Request().Context(), c.Param("share_id"))
-	if errors.Is(err, domain.ErrNotFound) {
-		return p.notFound(c, "No report is shared under this address. Check the link you were sent.")
-	}
-	if err != nil {
-		return p.failure(c, err)
-	}
-	in, err := p.reportInput(c.Request().Context(), rec)
-	if err != nil {
-		return p.failure(c, err)
-	}
-	c.Response().Header().Set("X-Robots-Tag", "noindex")
-	c.Response().Header().Set("Cache-Control", "private, no-cache")
-	return p.html(c, http.StatusOK, func(w *strings.Builder) error {
-		return p.views.renderReport(w, in)
-	})
-}
-
-// reportInput gathers what the report page shows: the stored report and
-// the document it reviewed, whatever the design has become since.
-func (p *pages) reportInput(ctx context.Context, rec store.SharedReview) (ReportInput, error) {
-	in := ReportInput{DesignName: rec.DesignName, ReviewedAt: rec.CreatedAt}
-	var err error
-	if in.Report, err = review.ReadStored(rec.Report); err != nil {
-		return in, fmt.Errorf("decode stored report of review %d: %w", rec.ID, err)
-	}
-	if rec.Document == "" {
-		return in, nil // stored before reviews kept their document
-	}
-	var doc domain.Design
-	if err := json.Unmarshal([]byte(rec.Document), &doc); err != nil {
-		return in, fmt.Errorf("decode document of review %d: %w", rec.ID, err)
-	}
-	in.Design = &doc
-	if in.Components, err = p.deps.Source.ComponentsByID(ctx, doc.ComponentIDs()); err != nil {
-		return in, err
-	}
-	return in, nil
 }
 
 // componentAddress is the public address of a component's page.

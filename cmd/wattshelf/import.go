@@ -45,6 +45,11 @@ func importCommand(ctx context.Context, args []string, env environment, stdout i
 		return fmt.Errorf("import %s: the file was written at schema version %d by a newer wattshelf; this one knows version %d",
 			args[0], snap.SchemaVersion, schema)
 	}
+	// Every record is checked with the API's own rules before the
+	// database is touched, so a refused file stores nothing.
+	if err := store.CheckSnapshot(snap); err != nil {
+		return &exitError{code: 1, msg: fmt.Sprintf("import of %s refused: %v", args[0], err)}
+	}
 	st, err := env.openMigrated(ctx)
 	if err != nil {
 		return err
@@ -55,6 +60,7 @@ func importCommand(ctx context.Context, args []string, env environment, stdout i
 		if errors.As(err, &ne) {
 			return &exitError{code: 1, msg: "import refused: " + ne.Error()}
 		}
+
 		return err
 	}
 	fmt.Fprintf(stdout, "imported %s into %s\n", snapshotCounts(snap), redactURL(env.databaseURL))

@@ -30,7 +30,8 @@ prints throughput and latency per route beside the HTTP floor (GET /healthz)
 and the database floor (GET /readyz). Each route runs alone with every client
 for at most --requests requests or --duration (a request started in time is
 waited for and counted), then all routes run mixed.
-The token (or WATTSHELF_TOKEN) must be a member's or staff's: the run writes
+The token (or WATTSHELF_TOKEN) must be staff's, whom the per-member quotas
+spare (a member's is refused past 120 stored reviews an hour): the run writes
 components, designs and stored reviews, all named "load ...".`
 
 // loadTargets are the figures the service is held to on a 2-core machine

@@ -215,7 +215,7 @@ func TestLoadRunsEveryRouteAgainstAServer(t *testing.T) {
 	ctx := context.Background()
 	getenv := cliEnv(storetest.AbsentDatabaseURL(t))
 	s := startServe(t, getenv)
-	stdout, _, err := runCLI(ctx, getenv, "token", "create", "--name", "load", "--role", "member")
+	stdout, _, err := runCLI(ctx, getenv, "token", "create", "--name", "load", "--role", "staff")
 	if err != nil {
 		t.Fatal(err)
 	}

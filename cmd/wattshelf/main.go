@@ -47,6 +47,8 @@ Usage:
   wattshelf token create --name NAME --role member|staff
   wattshelf token list
   wattshelf token revoke NAME
+  wattshelf quota show
+  wattshelf quota set [--reviews-per-hour N] [--designs N] [--stored-bytes N]
   wattshelf review FILE... [--server URL] [--token T] [--json] [--fail-on warn|fail]
   wattshelf export [--format json|csv] [--out FILE]
   wattshelf import FILE
@@ -80,6 +82,8 @@ func run(ctx context.Context, args []string, getenv func(string) string, stdout,
 		return seedDemoCommand(ctx, env, stdout)
 	case "token":
 		return tokenCommand(ctx, args[1:], env, stdout)
+	case "quota":
+		return quotaCommand(ctx, args[1:], env, stdout)
 	case "review":
 		return reviewCommand(ctx, args[1:], getenv, os.Stdin, stdout, stderr)
 	case "export":

@@ -129,9 +129,10 @@ func ExportedColumns() map[string][]string {
 
 // NotExportedTables are the tables a snapshot leaves out on purpose:
 // secrets, and bookkeeping the database rebuilds (an import bumps the
-// shelf revision itself).
+// shelf revision itself), and the quotas: a restored database starts from
+// the migration's defaults until staff set them again.
 func NotExportedTables() []string {
-	return []string{"tokens", "schema_migrations", "shelf_revision", "cursor_key"}
+	return []string{"tokens", "schema_migrations", "shelf_revision", "cursor_key", "quotas"}
 }
 
 // Export reads the whole database in one read-only, repeatable-read

@@ -189,3 +189,28 @@ func (s *Store) ReviewByShareID(ctx context.Context, shareID string) (SharedRevi
 	}
 	return SharedReview{StoredReview: r, Document: document}, nil
 }
+
+// ReviewStamp is what a stored review's page depends on besides the
+// binary that renders it: the review, which never changes once stored,
+// and the shelf's revision, since the page fills what a node leaves out
+// from the shelf's records. Every replica reads the same stamp.
+type ReviewStamp struct {
+	ID            int64
+	CreatedAt     time.Time
+	ShelfRevision int64
+}
+
+// ReviewStampByShareID reads a shared review's stamp without its report or
+// document, so a page that has not changed costs one small query.
+func (s *Store) ReviewStampByShareID(ctx context.Context, shareID string) (ReviewStamp, error) {
+	if shareID == "" || len(shareID) > maxShareIDLen {
+		return ReviewStamp{}, fmt.Errorf("shared report: %w", domain.ErrNotFound)
+	}
+	var st ReviewStamp
+	err := s.pool.QueryRow(ctx, `SELECT r.id, r.created_at, (SELECT sum(changes)::bigint FROM shelf_revision)
+		FROM reviews r WHERE r.share_id = $1`, shareID).Scan(&st.ID, &st.CreatedAt, &st.ShelfRevision)
+	if err != nil {
+		return ReviewStamp{}, notFound(err, "shared report")
+	}
+	return st, nil
+}
