@@ -23,7 +23,7 @@ import (
 	"time"
 )
 
-const loadUsage = `usage: wattshelf load --url URL [--token TOKEN] [--clients 32] [--requests 20000] [--duration 5s] [--pid PID] [--only ROUTE]
+const loadUsage = `usage: wattshelf-load --url URL [--token TOKEN] [--clients 32] [--requests 20000] [--duration 5s] [--pid PID] [--only ROUTE]
 
 Drives traffic at a wattshelf server on this machine (loopback only) and
 prints throughput and latency per route beside the HTTP floor (GET /healthz)
@@ -58,8 +58,10 @@ type loadConfig struct {
 	only     string
 }
 
-func loadCommand(ctx context.Context, args []string, getenv func(string) string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("load", flag.ContinueOnError)
+// run is the whole program, callable from tests: args exclude the program
+// name, getenv stands in for os.Getenv.
+func run(ctx context.Context, args []string, getenv func(string) string, stdout, stderr io.Writer) error {
+	fs := flag.NewFlagSet("wattshelf-load", flag.ContinueOnError)
 	fs.SetOutput(io.Discard)
 	cfg := loadConfig{}
 	fs.StringVar(&cfg.base, "url", "http://127.0.0.1:8080", "server to load; must be on this machine")

@@ -6,10 +6,15 @@ import (
 	"encoding/json"
 	jsonv2 "github.com/go-json-experiment/json"
 	"io"
+	"log/slog"
+	"net/http/httptest"
 	"strings"
 	"testing"
 	"time"
 
+	"github.com/prometheus/client_golang/prometheus"
+
+	"wattshelf/api"
 	"wattshelf/domain"
 	"wattshelf/domain/review"
 	"wattshelf/domain/store/storetest"
@@ -118,7 +123,7 @@ func TestLoadReportTargets(t *testing.T) {
 // is the part of "review" that Design.Validate takes; "whole" is the three
 // steps the server runs, one after the other.
 //
-//	go test ./cmd/wattshelf -run '^$' -bench ReviewPipeline -benchmem -cpu 1 -count 5
+//	go test ./cmd/wattshelf-load -run '^$' -bench ReviewPipeline -benchmem -cpu 1 -count 5
 func BenchmarkReviewPipeline(b *testing.B) {
 	body := reviewDesign("bench", loadReviewDesignNodes)
 	rules, err := review.Prepare(review.DefaultLimits(), 1)
@@ -207,19 +212,32 @@ func TestTopLevelStringStopsAtItsField(t *testing.T) {
 	}
 }
 
+// startServer serves the real router on a loopback port over a database
+// of its own, and returns its address and a staff token.
+func startServer(t *testing.T) (base, token string) {
+	t.Helper()
+	st, _ := storetest.NewStore(t)
+	router, err := api.New(api.Config{Store: st, Logger: slog.New(slog.NewTextHandler(io.Discard, nil)), Registry: prometheus.NewRegistry()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	srv := httptest.NewServer(router)
+	t.Cleanup(srv.Close)
+	token, err = st.CreateToken(context.Background(), "test", "load", domain.RoleStaff)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return srv.URL, token
+}
+
 // TestLoadRunsEveryRouteAgainstAServer runs the harness, with small
-// budgets, against `wattshelf serve` on a database of its own: every route
+// budgets, against the real router on a database of its own: every route
 // answers as expected, and every write it acknowledged is found again.
 // It checks what the harness counts, not how fast anything is.
 func TestLoadRunsEveryRouteAgainstAServer(t *testing.T) {
 	ctx := context.Background()
-	getenv := cliEnv(storetest.AbsentDatabaseURL(t))
-	s := startServe(t, getenv)
-	stdout, _, err := runCLI(ctx, getenv, "token", "create", "--name", "load", "--role", "member")
-	if err != nil {
-		t.Fatal(err)
-	}
-	cfg := loadConfig{base: s.base, token: strings.TrimSpace(stdout), clients: 4, requests: 40, duration: 10 * time.Second}
+	base, token := startServer(t)
+	cfg := loadConfig{base: base, token: token, clients: 4, requests: 40, duration: 10 * time.Second}
 	report, err := runLoad(ctx, cfg, io.Discard)
 	if err != nil {
 		t.Fatal(err)
