@@ -21,6 +21,7 @@ import (
 	"sync/atomic"
 	"text/tabwriter"
 	"time"
+	"wattshelf/api/client"
 )
 
 const loadUsage = `usage: wattshelf-load --url URL [--token TOKEN] [--clients 32] [--requests 20000] [--duration 5s] [--pid PID] [--only ROUTE]
@@ -110,108 +111,6 @@ func requireLoopback(base string) error {
 	return fmt.Errorf("load: --url %q is not a loopback address; the harness only loads a server on this machine", base)
 }
 
-// loadClient is one simulated client: it sends its requests one after
-// another over the shared keep-alive transport.
-type loadClient struct {
-	http  *http.Client
-	base  string
-	token string
-	id    int
-}
-
-// send makes one request and reads the whole answer.
-func (c *loadClient) send(ctx context.Context, method, path string, body []byte, withToken bool) (int, []byte, error) {
-	return c.exchange(ctx, method, path, body, withToken, true)
-}
-
-// sendDrained makes one request and reads its answer to the end without
-// keeping it: a route that needs nothing from the body should not spend
-// the CPU the server shares with it on decoding or copying it.
-func (c *loadClient) sendDrained(ctx context.Context, method, path string, body []byte, withToken bool) (int, error) {
-	status, _, err := c.exchange(ctx, method, path, body, withToken, false)
-	return status, err
-}
-
-// sendForField makes one request and reads one string field of the JSON
-// object answered, stopping the decoding there and draining the rest: a
-// stored review's answer is a whole report, and the harness only needs
-// its share id, which comes first. Any other status returns the body
-// (whole) for the error.
-func (c *loadClient) sendForField(ctx context.Context, method, path string, body []byte, withToken bool, want int, field string) (int, string, error) {
-	res, err := c.do(ctx, method, path, body, withToken)
-	if err != nil {
-		return 0, "", err
-	}
-	defer res.Body.Close()
-	if res.StatusCode != want {
-		raw, _ := io.ReadAll(res.Body)
-		return res.StatusCode, "", &statusError{status: res.StatusCode, body: raw}
-	}
-	value, err := topLevelString(json.NewDecoder(res.Body), field)
-	if _, drainErr := io.Copy(io.Discard, res.Body); err == nil {
-		err = drainErr
-	}
-	return res.StatusCode, value, err
-}
-
-// topLevelString reads tokens of a JSON object up to the member named
-// field and returns its string value.
-func topLevelString(dec *json.Decoder, field string) (string, error) {
-	if t, err := dec.Token(); err != nil || t != json.Delim('{') {
-		return "", fmt.Errorf("answer is not a JSON object (%v)", err)
-	}
-	for dec.More() {
-		key, err := dec.Token()
-		if err != nil {
-			return "", err
-		}
-		if key == field {
-			var v string
-			if err := dec.Decode(&v); err != nil || v == "" {
-				return "", fmt.Errorf("%s is not a non-empty string (%v)", field, err)
-			}
-			return v, nil
-		}
-		var skip json.RawMessage
-		if err := dec.Decode(&skip); err != nil {
-			return "", err
-		}
-	}
-	return "", fmt.Errorf("answer has no %s", field)
-}
-
-func (c *loadClient) exchange(ctx context.Context, method, path string, body []byte, withToken, keep bool) (int, []byte, error) {
-	res, err := c.do(ctx, method, path, body, withToken)
-	if err != nil {
-		return 0, nil, err
-	}
-	defer res.Body.Close()
-	if !keep {
-		_, err = io.Copy(io.Discard, res.Body)
-		return res.StatusCode, nil, err
-	}
-	raw, err := io.ReadAll(res.Body)
-	return res.StatusCode, raw, err
-}
-
-func (c *loadClient) do(ctx context.Context, method, path string, body []byte, withToken bool) (*http.Response, error) {
-	var rd io.Reader
-	if body != nil {
-		rd = bytes.NewReader(body)
-	}
-	req, err := http.NewRequestWithContext(ctx, method, c.base+path, rd)
-	if err != nil {
-		return nil, err
-	}
-	if body != nil {
-		req.Header.Set("Content-Type", "application/json")
-	}
-	if withToken {
-		req.Header.Set("Authorization", "Bearer "+c.token)
-	}
-	return c.http.Do(req)
-}
-
 // loadRoute is one kind of request the harness sends. do returns the
 // status of the request it timed; a verify step it takes afterwards
 // (reading a write back) is part of the same timing.
@@ -265,20 +164,20 @@ type loadReport struct {
 // acknowledged create, checked again at the end.
 type loadState struct {
 	design    []byte
-	designIDs []int64 // one stored design per client
+	designIDs []client.ID // one stored design per client
 
 	mu           sync.Mutex
-	components   []int64
-	reviewShares map[int64][]string // design id -> share ids
+	components   []client.ID
+	reviewShares map[client.ID][]string // design id -> share ids
 }
 
-func (st *loadState) ackComponent(id int64) {
+func (st *loadState) ackComponent(id client.ID) {
 	st.mu.Lock()
 	st.components = append(st.components, id)
 	st.mu.Unlock()
 }
 
-func (st *loadState) ackReview(design int64, share string) {
+func (st *loadState) ackReview(design client.ID, share string) {
 	st.mu.Lock()
 	st.reviewShares[design] = append(st.reviewShares[design], share)
 	st.mu.Unlock()
@@ -301,7 +200,7 @@ func runLoad(ctx context.Context, cfg loadConfig, progress io.Writer) (*loadRepo
 	for i := range clients {
 		clients[i] = &loadClient{http: httpClient, base: cfg.base, token: cfg.token, id: i}
 	}
-	state := &loadState{design: reviewDesign("load review", loadReviewDesignNodes), reviewShares: map[int64][]string{}}
+	state := &loadState{design: reviewDesign("load review", loadReviewDesignNodes), reviewShares: map[client.ID][]string{}}
 	if err := prepareLoad(ctx, clients, state, progress); err != nil {
 		return nil, err
 	}
@@ -335,128 +234,146 @@ func runLoad(ctx context.Context, cfg loadConfig, progress io.Writer) (*loadRepo
 // per client for the stored-review route.
 func prepareLoad(ctx context.Context, clients []*loadClient, state *loadState, progress io.Writer) error {
 	c := clients[0]
-	status, body, err := c.send(ctx, http.MethodGet, "/readyz", nil, false)
-	if err != nil || status != http.StatusOK {
-		return fmt.Errorf("load: the server at %s is not ready (status %d, %v): %s", c.base, status, err, body)
+	req, err := client.NewGetReadyzRequest(c.base)
+	if _, _, err := c.expect(ctx, req, err, http.StatusOK); err != nil {
+		return fmt.Errorf("load: the server at %s is not ready: %w", c.base, err)
 	}
-	status, body, err = c.send(ctx, http.MethodGet, "/v1/components?limit=200", nil, true)
-	if err != nil || status != http.StatusOK {
-		return fmt.Errorf("load: the token does not list components (status %d, %v): %s", status, err, body)
+	limit := client.Limit(200)
+	req, err = client.NewGetV1ComponentsRequest(c.base, &client.GetV1ComponentsParams{Limit: &limit})
+	res, err := c.do(ctx, req, err)
+	if err != nil {
+		return fmt.Errorf("load: list components: %w", err)
 	}
-	var page struct {
-		Items []json.RawMessage `json:"items"`
-		Next  string            `json:"next"`
+	list, err := client.ParseGetV1ComponentsResponse(res)
+	if err == nil {
+		err = parsed(res, list.Body, list.JSON200 != nil)
 	}
-	if err := json.Unmarshal(body, &page); err != nil {
-		return fmt.Errorf("load: read component list: %w", err)
+	if err != nil {
+		return fmt.Errorf("load: the token does not list components: %w", err)
 	}
-	if have := len(page.Items); have < loadMinShelfSize {
+	if have := len(list.JSON200.Items); have < loadMinShelfSize {
 		fmt.Fprintf(progress, "load: adding %d components so the shelf holds more than a page\n", loadMinShelfSize-have)
 		for i := have; i < loadMinShelfSize; i++ {
 			if _, err := createLoadComponent(ctx, c, state, i); err != nil {
-				return err
+				return fmt.Errorf("load: add a component: %w", err)
 			}
 		}
 	}
 	for i := range clients {
-		status, body, err := c.send(ctx, http.MethodPost, "/v1/designs", reviewDesign(fmt.Sprintf("load design %d", i), loadReviewDesignNodes), true)
-		if err != nil || status != http.StatusCreated {
-			return fmt.Errorf("load: store a design (status %d, %v): %s", status, err, body)
-		}
-		id, err := idOf(body)
+		doc := reviewDesign(fmt.Sprintf("load design %d", i), loadReviewDesignNodes)
+		req, err := client.NewPostV1DesignsRequestWithBody(c.base, "application/json", bytes.NewReader(doc))
+		res, err := c.do(ctx, req, err)
 		if err != nil {
-			return err
+			return fmt.Errorf("load: store a design: %w", err)
 		}
-		state.designIDs = append(state.designIDs, id)
+		created, err := client.ParsePostV1DesignsResponse(res)
+		if err == nil {
+			err = parsed(res, created.Body, created.JSON201 != nil)
+		}
+		if err != nil {
+			return fmt.Errorf("load: store a design: %w", err)
+		}
+		state.designIDs = append(state.designIDs, created.JSON201.Id)
 	}
 	return nil
 }
 
-func idOf(body []byte) (int64, error) {
-	var v struct {
-		ID int64 `json:"id"`
-	}
-	if err := json.Unmarshal(body, &v); err != nil || v.ID == 0 {
-		return 0, fmt.Errorf("load: a created record came back without an id: %.200s", body)
-	}
-	return v.ID, nil
-}
-
 // createLoadComponent stores one component and records it as acknowledged.
-func createLoadComponent(ctx context.Context, c *loadClient, state *loadState, n int) (int64, error) {
-	// Written out rather than marshalled from a map: the harness shares the
-	// cores with the server it measures. A small gear motor's figures
-	// (invented load data).
+func createLoadComponent(ctx context.Context, c *loadClient, state *loadState, n int) (client.ID, error) {
+	// Written out rather than marshalled: the harness shares the cores with
+	// the server it measures. A small gear motor's figures (invented load
+	// data).
 	body := fmt.Appendf(nil, `{"name":"load part %d-%d","kind":"motor","bin":"load bin %d","quantity":%d,`+
-		`"condition":"working","spec_source":"measured","description":"written by wattshelf load",`+
+		`"condition":"working","spec_source":"measured","description":"written by wattshelf-load",`+
 		`"rated_v":6.0,"no_load_a":0.15,"stall_a":2.2,"min_v":3.0,"max_v":7.2}`, c.id, n, n%7, 1+n%5)
-	status, resp, err := c.send(ctx, http.MethodPost, "/v1/components", body, true)
+	req, err := client.NewPostV1ComponentsRequestWithBody(c.base, "application/json", bytes.NewReader(body))
+	res, err := c.do(ctx, req, err)
 	if err != nil {
 		return 0, err
 	}
-	if status != http.StatusCreated {
-		return 0, &statusError{status: status, body: resp}
-	}
-	id, err := idOf(resp)
+	created, err := client.ParsePostV1ComponentsResponse(res)
 	if err != nil {
-		return 0, err
+		return 0, &answerError{status: res.StatusCode, err: err}
 	}
-	state.ackComponent(id)
-	return id, nil
+	if err := parsed(res, created.Body, created.JSON201 != nil && created.JSON201.Id != 0); err != nil {
+		return 0, &answerError{status: res.StatusCode, err: err}
+	}
+	state.ackComponent(created.JSON201.Id)
+	return created.JSON201.Id, nil
 }
 
-// statusError is an answer other than the one a route expects.
-type statusError struct {
+// answerError is an answer other than the one a route expects, with its
+// status.
+type answerError struct {
 	status int
-	body   []byte
+	err    error
 }
 
-func (e *statusError) Error() string { return fmt.Sprintf("status %d: %.300s", e.status, e.body) }
+func (e *answerError) Error() string { return e.err.Error() }
+func (e *answerError) Unwrap() error { return e.err }
 
 func loadRoutes(state *loadState) []loadRoute {
-	get := func(path string, withToken bool) func(ctx context.Context, c *loadClient, n int) (int, error) {
-		return func(ctx context.Context, c *loadClient, n int) (int, error) {
-			return c.sendDrained(ctx, http.MethodGet, path, nil, withToken)
-		}
-	}
+	pageSize := client.Limit(loadShelfPageSize)
 	return []loadRoute{
-		{name: "GET /healthz", floor: "HTTP", do: get("/healthz", false)},
-		{name: "GET /readyz", floor: "DB", do: get("/readyz", false)},
+		{name: "GET /healthz", floor: "HTTP",
+			do: func(ctx context.Context, c *loadClient, n int) (int, error) {
+				req, err := client.NewGetHealthzRequest(c.base)
+				status, _, err := c.expect(ctx, req, err, http.StatusOK)
+				return status, err
+			}},
+		{name: "GET /readyz", floor: "DB",
+			do: func(ctx context.Context, c *loadClient, n int) (int, error) {
+				req, err := client.NewGetReadyzRequest(c.base)
+				status, _, err := c.expect(ctx, req, err, http.StatusOK)
+				return status, err
+			}},
 		{name: fmt.Sprintf("GET /v1/shelf?limit=%d", loadShelfPageSize), floor: "DB",
-			do: get(fmt.Sprintf("/v1/shelf?limit=%d", loadShelfPageSize), false)},
+			do: func(ctx context.Context, c *loadClient, n int) (int, error) {
+				req, err := client.NewGetV1ShelfRequest(c.base, &client.GetV1ShelfParams{Limit: &pageSize})
+				status, _, err := c.expect(ctx, req, err, http.StatusOK)
+				return status, err
+			}},
 		{name: fmt.Sprintf("POST /v1/reviews (%d nodes)", loadReviewDesignNodes), floor: "HTTP",
 			do: func(ctx context.Context, c *loadClient, n int) (int, error) {
-				return c.sendDrained(ctx, http.MethodPost, "/v1/reviews", state.design, true)
+				req, err := client.NewPostV1ReviewsRequestWithBody(c.base, nil, "application/json", bytes.NewReader(state.design))
+				status, _, err := c.expect(ctx, req, err, http.StatusOK)
+				return status, err
 			}},
 		{name: "POST /v1/components, GET it back", floor: "DB",
 			do: func(ctx context.Context, c *loadClient, n int) (int, error) {
 				id, err := createLoadComponent(ctx, c, state, n)
-				var se *statusError
-				if errors.As(err, &se) {
-					return se.status, nil
+				var ae *answerError
+				if errors.As(err, &ae) {
+					return ae.status, err
 				}
 				if err != nil {
 					return 0, err
 				}
-				status, body, err := c.send(ctx, http.MethodGet, "/v1/components/"+strconv.FormatInt(id, 10), nil, true)
-				if err == nil && status == http.StatusOK && !bytes.Contains(body, []byte(`"load part `)) {
-					return status, fmt.Errorf("component %d read back without its name", id)
+				req, err := client.NewGetV1ComponentsIdRequest(c.base, id)
+				res, err := c.do(ctx, req, err)
+				if err != nil {
+					return 0, err
 				}
-				return status, err
+				got, err := client.ParseGetV1ComponentsIdResponse(res)
+				if err == nil {
+					err = parsed(res, got.Body, got.JSON200 != nil)
+				}
+				if err == nil && !strings.HasPrefix(got.JSON200.Name, "load part ") {
+					err = fmt.Errorf("component %d read back as %q", id, got.JSON200.Name)
+				}
+				return res.StatusCode, err
 			}},
 		{name: "POST /v1/designs/{id}/reviews", floor: "DB",
 			do: func(ctx context.Context, c *loadClient, n int) (int, error) {
 				design := state.designIDs[c.id]
-				status, share, err := c.sendForField(ctx, http.MethodPost, fmt.Sprintf("/v1/designs/%d/reviews", design), nil, true,
-					http.StatusCreated, "share_id")
-				var se *statusError
-				switch {
-				case errors.As(err, &se):
-					return status, nil
-				case err != nil && status != 0:
-					return status, fmt.Errorf("stored review without a share id: %w", err)
-				case err != nil:
-					return 0, err
+				req, err := client.NewPostV1DesignsIdReviewsRequest(c.base, design, nil)
+				status, header, err := c.expect(ctx, req, err, http.StatusCreated)
+				if err != nil {
+					return status, err
+				}
+				share, err := shareIDOf(header)
+				if err != nil {
+					return status, err
 				}
 				state.ackReview(design, share)
 				return status, nil
@@ -587,56 +504,58 @@ func percentile(sorted []time.Duration, q float64) time.Duration {
 func checkWrites(ctx context.Context, c *loadClient, state *loadState) (acked, lost int, detail string) {
 	state.mu.Lock()
 	defer state.mu.Unlock()
+	miss := func(what string, err error) {
+		lost++
+		if detail == "" {
+			detail = fmt.Sprintf("%s: %v", what, err)
+		}
+	}
 	for _, id := range state.components {
 		acked++
-		status, _, err := c.send(ctx, http.MethodGet, "/v1/components/"+strconv.FormatInt(id, 10), nil, true)
-		if err != nil || status != http.StatusOK {
-			lost++
-			if detail == "" {
-				detail = fmt.Sprintf("component %d: status %d %v", id, status, err)
-			}
+		req, err := client.NewGetV1ComponentsIdRequest(c.base, id)
+		if _, _, err := c.expect(ctx, req, err, http.StatusOK); err != nil {
+			miss(fmt.Sprintf("component %d", id), err)
 		}
 	}
 	for design, shares := range state.reviewShares {
-		stored := map[string]bool{}
-		cursor := ""
-		for {
-			path := fmt.Sprintf("/v1/designs/%d/reviews?limit=100", design)
-			if cursor != "" {
-				path += "&cursor=" + url.QueryEscape(cursor)
-			}
-			status, body, err := c.send(ctx, http.MethodGet, path, nil, true)
-			if err != nil || status != http.StatusOK {
-				break
-			}
-			var page struct {
-				Items []struct {
-					ShareID string `json:"share_id"`
-				} `json:"items"`
-				Next string `json:"next"`
-			}
-			if json.Unmarshal(body, &page) != nil {
-				break
-			}
-			for _, it := range page.Items {
-				stored[it.ShareID] = true
-			}
-			if page.Next == "" {
-				break
-			}
-			cursor = page.Next
-		}
+		stored, err := storedShares(ctx, c, design)
 		for _, s := range shares {
 			acked++
 			if !stored[s] {
-				lost++
-				if detail == "" {
-					detail = fmt.Sprintf("review %s of design %d", s, design)
-				}
+				miss(fmt.Sprintf("review %s of design %d", s, design), err)
 			}
 		}
 	}
 	return acked, lost, detail
+}
+
+// storedShares lists the share ids of every stored review of design, and
+// the error that ended the listing early, if one did.
+func storedShares(ctx context.Context, c *loadClient, design client.ID) (map[string]bool, error) {
+	stored := map[string]bool{}
+	limit := 100
+	params := &client.GetV1DesignsIdReviewsParams{Limit: &limit}
+	for {
+		req, err := client.NewGetV1DesignsIdReviewsRequest(c.base, design, params)
+		res, err := c.do(ctx, req, err)
+		if err != nil {
+			return stored, err
+		}
+		page, err := client.ParseGetV1DesignsIdReviewsResponse(res)
+		if err == nil {
+			err = parsed(res, page.Body, page.JSON200 != nil)
+		}
+		if err != nil {
+			return stored, err
+		}
+		for _, it := range page.JSON200.Items {
+			stored[it.ShareId] = true
+		}
+		if page.JSON200.Next == nil || *page.JSON200.Next == "" {
+			return stored, nil
+		}
+		params.Cursor = page.JSON200.Next
+	}
 }
 
 // rssSampler reads a process's resident memory from /proc while the
@@ -708,11 +627,17 @@ func readVmRSS(pid int) (int64, error) {
 // scrapeRSS reads process_resident_memory_bytes from /metrics when the
 // server exposes it: the memory at the end of the run, not the peak.
 func scrapeRSS(ctx context.Context, c *loadClient) (int64, string) {
-	status, body, err := c.send(ctx, http.MethodGet, "/metrics", nil, false)
-	if err != nil || status != http.StatusOK {
+	req, err := client.NewGetMetricsRequest(c.base)
+	res, err := c.do(ctx, req, err)
+	if err != nil {
 		return 0, ""
 	}
-	for _, line := range strings.Split(string(body), "\n") {
+	defer res.Body.Close()
+	body, err := io.ReadAll(res.Body)
+	if err != nil || res.StatusCode != http.StatusOK {
+		return 0, ""
+	}
+	for line := range strings.SplitSeq(string(body), "\n") {
 		if v, ok := strings.CutPrefix(line, "process_resident_memory_bytes "); ok {
 			f, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
 			if err == nil {

@@ -3,10 +3,11 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/json"
+	"errors"
 	jsonv2 "github.com/go-json-experiment/json"
 	"io"
 	"log/slog"
+	"net/http"
 	"net/http/httptest"
 	"strings"
 	"testing"
@@ -15,6 +16,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 
 	"wattshelf/api"
+	"wattshelf/api/client"
 	"wattshelf/domain"
 	"wattshelf/domain/review"
 	"wattshelf/domain/store/storetest"
@@ -190,24 +192,22 @@ func BenchmarkReviewPipeline(b *testing.B) {
 	b.Logf("report of %d nodes: %d bytes, %d checks", loadReviewDesignNodes, len(buf), len(rep.Checks))
 }
 
-func TestTopLevelStringStopsAtItsField(t *testing.T) {
+func TestShareIDOfReadsTheReportLocation(t *testing.T) {
 	for _, c := range []struct {
-		body, want string
-		ok         bool
+		location, want string
+		ok             bool
 	}{
-		{`{"id": 3, "share_id": "abc", "report": {"share_id": "inner"}}`, "abc", true},
-		{`{"report": {"share_id": "inner", "checks": [{"share_id": "x"}]}, "share_id": "outer"}`, "outer", true},
-		// Decoding stops at the field: what follows it is not read.
-		{`{"share_id": "first"} trailing garbage {`, "first", true},
-		{`{"id": 3}`, "", false},
-		{`{"share_id": 7}`, "", false},
-		{`{"share_id": ""}`, "", false},
-		{`["share_id", "abc"]`, "", false},
-		{`{"id": `, "", false},
+		{"/reports/AbC-12_x", "AbC-12_x", true},
+		{"http://shelf.local:8080/reports/AbC-12_x", "AbC-12_x", true},
+		{"", "", false},
+		{"/reports/", "", false},
+		{"/reports/a/b", "", false},
+		{"/v1/reviews/abc", "", false},
+		{"http://[::1", "", false},
 	} {
-		got, err := topLevelString(json.NewDecoder(strings.NewReader(c.body)), "share_id")
+		got, err := shareIDOf(http.Header{"Location": {c.location}})
 		if got != c.want || (err == nil) != c.ok {
-			t.Errorf("%s: %q, %v; want %q (ok %t)", c.body, got, err, c.want, c.ok)
+			t.Errorf("%q: %q, %v; want %q (ok %t)", c.location, got, err, c.want, c.ok)
 		}
 	}
 }
@@ -276,5 +276,18 @@ func TestLoadRunsEveryRouteAgainstAServer(t *testing.T) {
 		if !strings.Contains(out.String(), want) {
 			t.Errorf("printed report lacks %q:\n%s", want, out.String())
 		}
+	}
+}
+
+// TestAnUnexpectedAnswerIsItsProblemDocument: a refusal reaches the
+// harness's error counts as the typed problem document the server sent.
+func TestAnUnexpectedAnswerIsItsProblemDocument(t *testing.T) {
+	base, token := startServer(t)
+	c := &loadClient{http: http.DefaultClient, base: base, token: token}
+	req, err := client.NewPostV1DesignsIdReviewsRequest(base, 999999, nil)
+	status, _, err := c.expect(context.Background(), req, err, http.StatusCreated)
+	var p *client.Problem
+	if status != http.StatusNotFound || !errors.As(err, &p) || p.Status != http.StatusNotFound {
+		t.Errorf("review of a design that is not there: status %d, %v; want 404 as a problem document", status, err)
 	}
 }
