@@ -210,8 +210,14 @@ func runLoad(ctx context.Context, cfg loadConfig, progress io.Writer) (*loadRepo
 	if report.rssSource == "" {
 		report.rssPeak, report.rssSource = scrapeRSS(ctx, clients[0])
 	}
+	if ctx.Err() != nil {
+		// Interrupted: what ran is printed, but the run cannot pass, and
+		// the writes are not read back on a cancelled context.
+		report.partial = true
+		return report, nil
+	}
 	report.acked, report.lost, report.lostDetail = checkWrites(ctx, clients[0], state)
-	return report, ctx.Err()
+	return report, nil
 }
 
 // prepareLoad fills the shelf to more than a page and stores one design
@@ -220,20 +226,20 @@ func prepareLoad(ctx context.Context, clients []*loadClient, state *loadState, p
 	c := clients[0]
 	req, err := client.NewGetReadyzRequest(c.base)
 	if _, _, err := c.expect(ctx, req, err, http.StatusOK); err != nil {
-		return fmt.Errorf("load: the server at %s is not ready: %w", c.base, err)
+		return fmt.Errorf("the server at %s is not ready: %w", c.base, err)
 	}
 	limit := client.Limit(200)
 	req, err = client.NewGetV1ComponentsRequest(c.base, &client.GetV1ComponentsParams{Limit: &limit})
 	res, err := c.do(ctx, req, err)
 	if err != nil {
-		return fmt.Errorf("load: list components: %w", err)
+		return fmt.Errorf("list components: %w", err)
 	}
 	list, err := client.ParseGetV1ComponentsResponse(res)
 	if err == nil {
 		err = parsed(res, list.Body, list.JSON200 != nil)
 	}
 	if err != nil {
-		return fmt.Errorf("load: the token does not list components: %w", err)
+		return fmt.Errorf("the token does not list components: %w", err)
 	}
 	for _, it := range list.JSON200.Items {
 		state.partIDs = append(state.partIDs, it.Id)
@@ -243,7 +249,7 @@ func prepareLoad(ctx context.Context, clients []*loadClient, state *loadState, p
 		for i := have; i < loadMinShelfSize; i++ {
 			id, err := createLoadComponent(ctx, c, state, i)
 			if err != nil {
-				return fmt.Errorf("load: add a component: %w", err)
+				return fmt.Errorf("add a component: %w", err)
 			}
 			state.partIDs = append(state.partIDs, id)
 		}
@@ -253,14 +259,14 @@ func prepareLoad(ctx context.Context, clients []*loadClient, state *loadState, p
 		req, err := client.NewPostV1DesignsRequestWithBody(c.base, "application/json", bytes.NewReader(doc))
 		res, err := c.do(ctx, req, err)
 		if err != nil {
-			return fmt.Errorf("load: store a design: %w", err)
+			return fmt.Errorf("store a design: %w", err)
 		}
 		created, err := client.ParsePostV1DesignsResponse(res)
 		if err == nil {
 			err = parsed(res, created.Body, created.JSON201 != nil)
 		}
 		if err != nil {
-			return fmt.Errorf("load: store a design: %w", err)
+			return fmt.Errorf("store a design: %w", err)
 		}
 		state.designIDs = append(state.designIDs, created.JSON201.Id)
 	}
@@ -406,19 +412,19 @@ func mixedRoute(routes []loadRoute) loadRoute {
 	}
 }
 
-// runPhase runs one route with every client until the request budget or
-// the time is spent, and summarises what it measured. When the time is up
+// runPhase runs one route with every client until cfg.requests or
+// cfg.duration is spent, and summarises what it measured. When the time is up
 // no client starts another request, but every request started is waited
 // for and counted: one abandoned mid-way would leave the server working on
 // it while the next phase is measured.
 func runPhase(ctx context.Context, cfg loadConfig, clients []*loadClient, route loadRoute) phaseResult {
 	var (
-		budget atomic.Int64
-		mu     sync.Mutex
-		wg     sync.WaitGroup
-		all    tally
+		left atomic.Int64
+		mu   sync.Mutex
+		wg   sync.WaitGroup
+		all  tally
 	)
-	budget.Store(int64(cfg.requests))
+	left.Store(int64(cfg.requests))
 	start := time.Now()
 	stop := start.Add(cfg.duration)
 	for _, c := range clients {
@@ -426,7 +432,7 @@ func runPhase(ctx context.Context, cfg loadConfig, clients []*loadClient, route 
 		go func() {
 			defer wg.Done()
 			local := tally{timings: make([]time.Duration, 0, cfg.requests/len(clients)+1)}
-			for n := 0; time.Now().Before(stop) && budget.Add(-1) >= 0; n++ {
+			for n := 0; time.Now().Before(stop) && left.Add(-1) >= 0; n++ {
 				t0 := time.Now()
 				status, err := route.do(ctx, c, n)
 				took := time.Since(t0)

@@ -27,7 +27,7 @@ const (
 
 // loadReport is the whole run's outcome.
 type loadReport struct {
-	partial    bool // --only: some budgets were not measured
+	partial    bool // --only, or interrupted: some budgets were not measured
 	steady     phaseResult
 	phases     []phaseResult // flat out, floors first
 	large      largeResult
@@ -63,7 +63,7 @@ func (r *loadReport) verdicts() []verdict {
 		out = append(out, verdict{budget: budget, measured: fmt.Sprintf(format, args...), met: met})
 	}
 	if r.partial {
-		add("every budget measured", false, "only part of the run (--only)")
+		add("every budget measured", false, "only part of the run (--only, or interrupted)")
 	}
 
 	steadyLabel := fmt.Sprintf("steady %d/s", budgetSteadyRate)
