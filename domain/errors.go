@@ -6,8 +6,8 @@ import (
 	"errors"
 	"fmt"
 	"strings"
-	"unicode"
 	"time"
+	"unicode"
 )
 
 // The kinds of failure a caller can act on. Store and service code wrap

@@ -312,7 +312,7 @@ func (c *apiClient) do(ctx context.Context, method, path string, body any, heade
 	return res.StatusCode, res.Header, raw, err
 }
 
-// componentBody is a valid component of the load and fault tests.
+// componentBody is a valid component of the fault tests.
 func componentBody(tag string, i int) map[string]any {
 	return map[string]any{
 		"name": fmt.Sprintf("%s part %d", tag, i), "kind": "motor", "bin": "T" + tag,
@@ -320,6 +320,25 @@ func componentBody(tag string, i int) map[string]any {
 		// A small gear motor's figures (invented test data).
 		"rated_v": 6.0, "no_load_a": 0.15, "stall_a": 2.2, "min_v": 3.0, "max_v": 7.2,
 	}
+}
+
+// faultDesign is a small valid design of the fault tests, written as
+// encoding/json writes a map, so what the database stores can be compared
+// byte for byte: a 4-cell LiFePO4 pack feeding a fused lamp (invented
+// test data).
+func faultDesign(name string) []byte {
+	doc, err := json.Marshal(map[string]any{"format": 1, "name": name, "ambient_c": 25, "target_runtime_h": 1,
+		"nodes": []map[string]any{
+			{"id": "pack", "type": "battery", "chemistry": "lifepo4", "series": 4, "parallel": 1,
+				"cell_capacity_mah": 3000, "max_discharge_a": 15},
+			{"id": "lamp", "type": "load", "min_v": 9, "max_v": 15, "current_a": 0.6, "duty": 0.5,
+				"feed": map[string]any{"from": "pack", "wire": map[string]any{"gauge": "20AWG", "length_m": 0.6},
+					"fuse": map[string]any{"rating_a": 1, "speed": "slow", "family": "blade", "distance_from_source_m": 0.12}}},
+		}})
+	if err != nil {
+		panic(err) // maps of plain values always encode
+	}
+	return doc
 }
 
 // createdID reads the id from a 201 response body.

@@ -376,7 +376,7 @@ func TestSIGKILLMidWrites(t *testing.T) {
 	}
 	for w := range 2 {
 		writer(func(i int) bool {
-			doc := reviewDesign(fmt.Sprintf("kill test %d-%d", w, i), 12)
+			doc := faultDesign(fmt.Sprintf("kill test %d-%d", w, i))
 			status, _, body, err := client.do(ctx, http.MethodPost, "/v1/designs", json.RawMessage(doc))
 			if err != nil || status != http.StatusCreated {
 				return false

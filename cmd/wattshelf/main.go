@@ -52,7 +52,6 @@ Usage:
   wattshelf review FILE... [--server URL] [--token T] [--json] [--fail-on warn|fail]
   wattshelf export [--format json|csv] [--out FILE]
   wattshelf import FILE
-  wattshelf load --url URL --token TOKEN [--clients 32] [--requests N] [--duration D] [--pid PID]
 
 Environment:
   DATABASE_URL          PostgreSQL URL (default ` + defaultDatabaseURL + `)
@@ -90,8 +89,6 @@ func run(ctx context.Context, args []string, getenv func(string) string, stdout,
 		return exportCommand(ctx, args[1:], env, stdout, stderr)
 	case "import":
 		return importCommand(ctx, args[1:], env, stdout)
-	case "load":
-		return loadCommand(ctx, args[1:], getenv, stdout, stderr)
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, usage)
 		return nil

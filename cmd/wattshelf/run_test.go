@@ -80,6 +80,8 @@ func TestUsageErrors(t *testing.T) {
 		{"token", "revoke"},
 		{"token", "revoke", "ada", "bo"},
 		{"token", "rotate"},
+		// The load harness is a program of its own (cmd/wattshelf-load).
+		{"load", "--url", "http://127.0.0.1:1", "--token", "t"},
 	} {
 		t.Run(strings.Join(args, " "), func(t *testing.T) {
 			stdout, stderr, err := runCLI(context.Background(), getenv, args...)

@@ -11,7 +11,7 @@ import (
 	"wattshelf/domain"
 )
 
-// Quotas are the per-member quotas, one stored row (migration 0011) that
+// Quotas are the per-member quotas, one stored row (migration 0013) that
 // every replica reads afresh, so a change is seen by all at once.
 type Quotas struct {
 	ReviewsPerHour int   `json:"reviews_per_hour"`
