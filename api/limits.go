@@ -88,6 +88,9 @@ func (s *server) putLimits(c echo.Context) error {
 	if err := in.check(); err != nil {
 		return err
 	}
+	if err := s.citeEdits(c, in.Limits, int(expect)); err != nil {
+		return err
+	}
 	body, err := encodeJSON(in.Limits)
 	if err != nil {
 		return fmt.Errorf("encode limits: %w", err)
@@ -99,6 +102,21 @@ func (s *server) putLimits(c echo.Context) error {
 	s.limits.remember(l.Version, *in.Limits)
 	c.Response().Header().Set("Location", fmt.Sprintf("/v1/limits/%d", l.Version))
 	return jsonWithETag(c, http.StatusCreated, int64(l.Version), l)
+}
+
+// citeEdits makes the new limits cite, for every value staff changed
+// from version from without a source of their own, their change and the
+// published rule it departs from (review.Limits.MarkEdits).
+func (s *server) citeEdits(c echo.Context, l *review.Limits, from int) error {
+	if from == 0 {
+		return nil
+	}
+	previous, _, err := s.limits.get(c.Request().Context(), from)
+	if err != nil {
+		return fmt.Errorf("read limits v%d: %w", from, err)
+	}
+	l.MarkEdits(previous.Limits(), currentUser(c).Name, time.Now())
+	return nil
 }
 
 // underPointer moves a validation error's pointers under prefix, so they

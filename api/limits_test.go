@@ -183,3 +183,37 @@ func TestReadingLimitsNeverStoresThem(t *testing.T) {
 		t.Errorf("after the reads the database holds limits version %d (%v), want none", v, err)
 	}
 }
+
+// A value staff change without writing a source of their own is stored
+// citing their change and the published rule it departs from, so reports
+// no longer cite a 3 % rule for a 2 % limit.
+func TestLimitsEditCitesTheStaffChange(t *testing.T) {
+	h := newDesignHarness(t, Config{})
+	if _, err := h.store.SeedDefaultLimits(t.Context()); err != nil {
+		t.Fatal(err)
+	}
+	var v1 store.LimitsSet
+	h.expect(h.call(http.MethodGet, "/v1/limits", "rowan", nil), http.StatusOK, &v1)
+	var limits review.Limits
+	if err := json.Unmarshal(v1.Body, &limits); err != nil {
+		t.Fatal(err)
+	}
+	limits.VoltageDrop.CriticalPct.Value = 2 // the source text left as it was
+	body, err := json.Marshal(LimitsInput{Limits: &limits, Note: "tighter drop"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var v2 store.LimitsSet
+	h.expect(h.call(http.MethodPut, "/v1/limits", "rowan", body, "If-Match", `"1"`), http.StatusCreated, &v2)
+	var stored review.Limits
+	if err := json.Unmarshal(v2.Body, &stored); err != nil {
+		t.Fatal(err)
+	}
+	src := stored.VoltageDrop.CriticalPct.Source
+	if !strings.HasPrefix(src, "staff change by rowan on ") || !strings.Contains(src, "was 3 under marine DC wiring practice") {
+		t.Errorf("the edited limit's source is %q", src)
+	}
+	if stored.VoltageDrop.NonCriticalPct != limits.VoltageDrop.NonCriticalPct {
+		t.Errorf("an unchanged limit's source changed: %+v", stored.VoltageDrop.NonCriticalPct)
+	}
+}

@@ -82,7 +82,7 @@ func New(cfg Config) (*echo.Echo, error) {
 	if err := cfg.Registry.Register(collectors.NewGoCollector()); err != nil {
 		return nil, fmt.Errorf("register go metrics: %w", err)
 	}
-	// Resident memory and open files, so a scrape (or wattshelf load)
+	// Resident memory and open files, so a scrape (or wattshelf-load)
 	// can watch the process without access to its /proc entry.
 	if err := cfg.Registry.Register(collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})); err != nil {
 		return nil, fmt.Errorf("register process metrics: %w", err)

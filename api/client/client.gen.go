@@ -157,6 +157,27 @@ func (e ComponentKind) Valid() bool {
 	}
 }
 
+// Defines values for ProblemQuota.
+const (
+	Designs        ProblemQuota = "designs"
+	ReviewsPerHour ProblemQuota = "reviews_per_hour"
+	StoredBytes    ProblemQuota = "stored_bytes"
+)
+
+// Valid indicates whether the value is a known member of the ProblemQuota enum.
+func (e ProblemQuota) Valid() bool {
+	switch e {
+	case Designs:
+		return true
+	case ReviewsPerHour:
+		return true
+	case StoredBytes:
+		return true
+	default:
+		return false
+	}
+}
+
 // Defines values for ReportChecksCheck.
 const (
 	ConnectorRating   ReportChecksCheck = "connector.rating"
@@ -649,14 +670,20 @@ type Problem struct {
 		Detail  string `json:"detail"`
 		Pointer string `json:"pointer"`
 	} `json:"errors,omitempty"`
-	Instance  *string `json:"instance,omitempty"`
-	RequestId *string `json:"request_id,omitempty"`
-	Status    int     `json:"status"`
-	Title     string  `json:"title"`
+	Instance *string `json:"instance,omitempty"`
+
+	// Quota The per-member quota a quota-rate (429) or quota-total (403) problem is about.
+	Quota     *ProblemQuota `json:"quota,omitempty"`
+	RequestId *string       `json:"request_id,omitempty"`
+	Status    int           `json:"status"`
+	Title     string        `json:"title"`
 
 	// Type urn:wattshelf:problem:<kind>, stable per kind of error.
 	Type string `json:"type"`
 }
+
+// ProblemQuota The per-member quota a quota-rate (429) or quota-total (403) problem is about.
+type ProblemQuota string
 
 // Report The outcome of a review, report format 2.
 type Report struct {
@@ -883,6 +910,21 @@ type GetHealthz200JSONResponseBodyStatus string
 
 // GetReadyz200JSONResponseBodyStatus defines parameters for GetReadyz.
 type GetReadyz200JSONResponseBodyStatus string
+
+// GetReportsShareIdParams defines parameters for GetReportsShareId.
+type GetReportsShareIdParams struct {
+	IfNoneMatch *string `json:"If-None-Match,omitempty"`
+}
+
+// GetReportsShareIdDesignJsonParams defines parameters for GetReportsShareIdDesignJson.
+type GetReportsShareIdDesignJsonParams struct {
+	IfNoneMatch *string `json:"If-None-Match,omitempty"`
+}
+
+// GetReportsShareIdReportJsonParams defines parameters for GetReportsShareIdReportJson.
+type GetReportsShareIdReportJsonParams struct {
+	IfNoneMatch *string `json:"If-None-Match,omitempty"`
+}
 
 // GetShelfParams defines parameters for GetShelf.
 type GetShelfParams struct {
@@ -1178,10 +1220,30 @@ type ClientInterface interface {
 
 	// GetReportsShareId The printable report of a stored review
 	//
-	// Anyone holding the share id may open it; no login.
+	// Anyone holding the share id may open it; no login. A stored review
+	// never changes, so the page has a strong ETag taken from the stored
+	// review and the shelf's revision, the same on every replica, and
+	// If-None-Match with it is answered 304. A design of more than 250
+	// nodes is shown as a summary of its findings, with the design and the
+	// full report as downloads. Pages and downloads built (not 304s) are
+	// rate-limited per client address: 429 with Retry-After.
 	//
 	// Corresponds with GET /reports/{share_id} (the `GetReportsShareId` operationId).
-	GetReportsShareId(ctx context.Context, shareId string, reqEditors ...RequestEditorFn) (*http.Response, error)
+	GetReportsShareId(ctx context.Context, shareId string, params *GetReportsShareIdParams, reqEditors ...RequestEditorFn) (*http.Response, error)
+
+	// GetReportsShareIdDesignJson Download the design document a stored review read, as it was stored
+	//
+	// Tagged, answered 304 and rate-limited as the report page is; 404 for a review stored before reviews kept their document.
+	//
+	// Corresponds with GET /reports/{share_id}/design.json (the `GetReportsShareIdDesignJson` operationId).
+	GetReportsShareIdDesignJson(ctx context.Context, shareId string, params *GetReportsShareIdDesignJsonParams, reqEditors ...RequestEditorFn) (*http.Response, error)
+
+	// GetReportsShareIdReportJson Download a stored review's full report, as it was stored
+	//
+	// Tagged, answered 304 and rate-limited as the report page is. Reports stored before format 2 are served in their own format.
+	//
+	// Corresponds with GET /reports/{share_id}/report.json (the `GetReportsShareIdReportJson` operationId).
+	GetReportsShareIdReportJson(ctx context.Context, shareId string, params *GetReportsShareIdReportJsonParams, reqEditors ...RequestEditorFn) (*http.Response, error)
 
 	// GetShelf The shelf kiosk page, one page of the shelf at a time
 	//
@@ -1315,7 +1377,8 @@ type ClientInterface interface {
 	// The body is the design document itself (format 1). It is stored byte
 	// for byte once it decodes and validates; its `name` names the design.
 	// Broken JSON is 400; a document that breaks the contract is 422 with a
-	// JSON pointer per problem; nothing is stored in either case.
+	// JSON pointer per problem; nothing is stored in either case. A member
+	// at the quota of designs or of stored bytes is answered 403 naming it.
 	//
 	// Takes any type of body and a specified content type.
 	//
@@ -1327,7 +1390,8 @@ type ClientInterface interface {
 	// The body is the design document itself (format 1). It is stored byte
 	// for byte once it decodes and validates; its `name` names the design.
 	// Broken JSON is 400; a document that breaks the contract is 422 with a
-	// JSON pointer per problem; nothing is stored in either case.
+	// JSON pointer per problem; nothing is stored in either case. A member
+	// at the quota of designs or of stored bytes is answered 403 naming it.
 	//
 	// Takes a body of the `application/json` content type.
 	//
@@ -1395,8 +1459,10 @@ type ClientInterface interface {
 	// The review is stored with its report, status, the limits version used
 	// and the SHA-256 of the document reviewed, and gets a random share id:
 	// `/reports/{share_id}` shows it to anyone holding the id, without a login.
-	// A design edited while it is being reviewed is read and reviewed again;
-	// one that keeps changing is answered 409.
+	// A design edited while it is being reviewed is answered 409; sending the
+	// request again reviews the new document. A member past the hourly quota
+	// of stored reviews is answered 429 with Retry-After, past the stored
+	// bytes 403; both name the quota. Staff have no quotas.
 	//
 	// Corresponds with POST /v1/designs/{id}/reviews (the `PostV1DesignsIdReviews` operationId).
 	PostV1DesignsIdReviews(ctx context.Context, id ID, params *PostV1DesignsIdReviewsParams, reqEditors ...RequestEditorFn) (*http.Response, error)
@@ -1564,11 +1630,51 @@ func (c *Client) GetReadyz(ctx context.Context, reqEditors ...RequestEditorFn) (
 
 // GetReportsShareId The printable report of a stored review
 //
-// Anyone holding the share id may open it; no login.
+// Anyone holding the share id may open it; no login. A stored review
+// never changes, so the page has a strong ETag taken from the stored
+// review and the shelf's revision, the same on every replica, and
+// If-None-Match with it is answered 304. A design of more than 250
+// nodes is shown as a summary of its findings, with the design and the
+// full report as downloads. Pages and downloads built (not 304s) are
+// rate-limited per client address: 429 with Retry-After.
 //
 // Corresponds with GET /reports/{share_id} (the `GetReportsShareId` operationId).
-func (c *Client) GetReportsShareId(ctx context.Context, shareId string, reqEditors ...RequestEditorFn) (*http.Response, error) {
-	req, err := NewGetReportsShareIdRequest(c.Server, shareId)
+func (c *Client) GetReportsShareId(ctx context.Context, shareId string, params *GetReportsShareIdParams, reqEditors ...RequestEditorFn) (*http.Response, error) {
+	req, err := NewGetReportsShareIdRequest(c.Server, shareId, params)
+	if err != nil {
+		return nil, err
+	}
+	req = req.WithContext(ctx)
+	if err := c.applyEditors(ctx, req, reqEditors); err != nil {
+		return nil, err
+	}
+	return c.Client.Do(req)
+}
+
+// GetReportsShareIdDesignJson Download the design document a stored review read, as it was stored
+//
+// Tagged, answered 304 and rate-limited as the report page is; 404 for a review stored before reviews kept their document.
+//
+// Corresponds with GET /reports/{share_id}/design.json (the `GetReportsShareIdDesignJson` operationId).
+func (c *Client) GetReportsShareIdDesignJson(ctx context.Context, shareId string, params *GetReportsShareIdDesignJsonParams, reqEditors ...RequestEditorFn) (*http.Response, error) {
+	req, err := NewGetReportsShareIdDesignJsonRequest(c.Server, shareId, params)
+	if err != nil {
+		return nil, err
+	}
+	req = req.WithContext(ctx)
+	if err := c.applyEditors(ctx, req, reqEditors); err != nil {
+		return nil, err
+	}
+	return c.Client.Do(req)
+}
+
+// GetReportsShareIdReportJson Download a stored review's full report, as it was stored
+//
+// Tagged, answered 304 and rate-limited as the report page is. Reports stored before format 2 are served in their own format.
+//
+// Corresponds with GET /reports/{share_id}/report.json (the `GetReportsShareIdReportJson` operationId).
+func (c *Client) GetReportsShareIdReportJson(ctx context.Context, shareId string, params *GetReportsShareIdReportJsonParams, reqEditors ...RequestEditorFn) (*http.Response, error) {
+	req, err := NewGetReportsShareIdReportJsonRequest(c.Server, shareId, params)
 	if err != nil {
 		return nil, err
 	}
@@ -1901,7 +2007,8 @@ func (c *Client) GetV1Designs(ctx context.Context, params *GetV1DesignsParams, r
 // The body is the design document itself (format 1). It is stored byte
 // for byte once it decodes and validates; its `name` names the design.
 // Broken JSON is 400; a document that breaks the contract is 422 with a
-// JSON pointer per problem; nothing is stored in either case.
+// JSON pointer per problem; nothing is stored in either case. A member
+// at the quota of designs or of stored bytes is answered 403 naming it.
 //
 // Takes any type of body and a specified content type.
 //
@@ -1923,7 +2030,8 @@ func (c *Client) PostV1DesignsWithBody(ctx context.Context, contentType string, 
 // The body is the design document itself (format 1). It is stored byte
 // for byte once it decodes and validates; its `name` names the design.
 // Broken JSON is 400; a document that breaks the contract is 422 with a
-// JSON pointer per problem; nothing is stored in either case.
+// JSON pointer per problem; nothing is stored in either case. A member
+// at the quota of designs or of stored bytes is answered 403 naming it.
 //
 // Takes a body of the `application/json` content type.
 //
@@ -2081,8 +2189,10 @@ func (c *Client) GetV1DesignsIdReviews(ctx context.Context, id ID, params *GetV1
 // The review is stored with its report, status, the limits version used
 // and the SHA-256 of the document reviewed, and gets a random share id:
 // `/reports/{share_id}` shows it to anyone holding the id, without a login.
-// A design edited while it is being reviewed is read and reviewed again;
-// one that keeps changing is answered 409.
+// A design edited while it is being reviewed is answered 409; sending the
+// request again reviews the new document. A member past the hourly quota
+// of stored reviews is answered 429 with Retry-After, past the stored
+// bytes 403; both name the quota. Staff have no quotas.
 //
 // Corresponds with POST /v1/designs/{id}/reviews (the `PostV1DesignsIdReviews` operationId).
 func (c *Client) PostV1DesignsIdReviews(ctx context.Context, id ID, params *PostV1DesignsIdReviewsParams, reqEditors ...RequestEditorFn) (*http.Response, error) {
@@ -2417,7 +2527,7 @@ func NewGetReadyzRequest(server string) (*http.Request, error) {
 }
 
 // NewGetReportsShareIdRequest constructs an http.Request for the GetReportsShareId method
-func NewGetReportsShareIdRequest(server string, shareId string) (*http.Request, error) {
+func NewGetReportsShareIdRequest(server string, shareId string, params *GetReportsShareIdParams) (*http.Request, error) {
 	var err error
 
 	var pathParam0 string
@@ -2445,6 +2555,119 @@ func NewGetReportsShareIdRequest(server string, shareId string) (*http.Request, 
 	req, err := http.NewRequest(http.MethodGet, queryURL.String(), nil)
 	if err != nil {
 		return nil, err
+	}
+
+	if params != nil {
+
+		if params.IfNoneMatch != nil {
+			var headerParam0 string
+
+			headerParam0, err = runtime.StyleParamWithOptions("simple", false, "If-None-Match", *params.IfNoneMatch, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationHeader, Type: "string", Format: ""})
+			if err != nil {
+				return nil, err
+			}
+
+			req.Header.Set("If-None-Match", headerParam0)
+		}
+
+	}
+
+	return req, nil
+}
+
+// NewGetReportsShareIdDesignJsonRequest constructs an http.Request for the GetReportsShareIdDesignJson method
+func NewGetReportsShareIdDesignJsonRequest(server string, shareId string, params *GetReportsShareIdDesignJsonParams) (*http.Request, error) {
+	var err error
+
+	var pathParam0 string
+
+	pathParam0, err = runtime.StyleParamWithOptions("simple", false, "share_id", shareId, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationPath, Type: "string", Format: ""})
+	if err != nil {
+		return nil, err
+	}
+
+	serverURL, err := url.Parse(server)
+	if err != nil {
+		return nil, err
+	}
+
+	operationPath := fmt.Sprintf("/reports/%s/design.json", pathParam0)
+	if operationPath[0] == '/' {
+		operationPath = "." + operationPath
+	}
+
+	queryURL, err := serverURL.Parse(operationPath)
+	if err != nil {
+		return nil, err
+	}
+
+	req, err := http.NewRequest(http.MethodGet, queryURL.String(), nil)
+	if err != nil {
+		return nil, err
+	}
+
+	if params != nil {
+
+		if params.IfNoneMatch != nil {
+			var headerParam0 string
+
+			headerParam0, err = runtime.StyleParamWithOptions("simple", false, "If-None-Match", *params.IfNoneMatch, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationHeader, Type: "string", Format: ""})
+			if err != nil {
+				return nil, err
+			}
+
+			req.Header.Set("If-None-Match", headerParam0)
+		}
+
+	}
+
+	return req, nil
+}
+
+// NewGetReportsShareIdReportJsonRequest constructs an http.Request for the GetReportsShareIdReportJson method
+func NewGetReportsShareIdReportJsonRequest(server string, shareId string, params *GetReportsShareIdReportJsonParams) (*http.Request, error) {
+	var err error
+
+	var pathParam0 string
+
+	pathParam0, err = runtime.StyleParamWithOptions("simple", false, "share_id", shareId, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationPath, Type: "string", Format: ""})
+	if err != nil {
+		return nil, err
+	}
+
+	serverURL, err := url.Parse(server)
+	if err != nil {
+		return nil, err
+	}
+
+	operationPath := fmt.Sprintf("/reports/%s/report.json", pathParam0)
+	if operationPath[0] == '/' {
+		operationPath = "." + operationPath
+	}
+
+	queryURL, err := serverURL.Parse(operationPath)
+	if err != nil {
+		return nil, err
+	}
+
+	req, err := http.NewRequest(http.MethodGet, queryURL.String(), nil)
+	if err != nil {
+		return nil, err
+	}
+
+	if params != nil {
+
+		if params.IfNoneMatch != nil {
+			var headerParam0 string
+
+			headerParam0, err = runtime.StyleParamWithOptions("simple", false, "If-None-Match", *params.IfNoneMatch, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationHeader, Type: "string", Format: ""})
+			if err != nil {
+				return nil, err
+			}
+
+			req.Header.Set("If-None-Match", headerParam0)
+		}
+
 	}
 
 	return req, nil
@@ -4091,12 +4314,36 @@ type ClientWithResponsesInterface interface {
 
 	// GetReportsShareIdWithResponse The printable report of a stored review
 	//
-	// Anyone holding the share id may open it; no login.
+	// Anyone holding the share id may open it; no login. A stored review
+	// never changes, so the page has a strong ETag taken from the stored
+	// review and the shelf's revision, the same on every replica, and
+	// If-None-Match with it is answered 304. A design of more than 250
+	// nodes is shown as a summary of its findings, with the design and the
+	// full report as downloads. Pages and downloads built (not 304s) are
+	// rate-limited per client address: 429 with Retry-After.
 	//
 	// Returns a wrapper object for the known response body format(s).
 	//
 	// Corresponds with GET /reports/{share_id} (the `GetReportsShareId` operationId).
-	GetReportsShareIdWithResponse(ctx context.Context, shareId string, reqEditors ...RequestEditorFn) (*GetReportsShareIdResponse, error)
+	GetReportsShareIdWithResponse(ctx context.Context, shareId string, params *GetReportsShareIdParams, reqEditors ...RequestEditorFn) (*GetReportsShareIdResponse, error)
+
+	// GetReportsShareIdDesignJsonWithResponse Download the design document a stored review read, as it was stored
+	//
+	// Tagged, answered 304 and rate-limited as the report page is; 404 for a review stored before reviews kept their document.
+	//
+	// Returns a wrapper object for the known response body format(s).
+	//
+	// Corresponds with GET /reports/{share_id}/design.json (the `GetReportsShareIdDesignJson` operationId).
+	GetReportsShareIdDesignJsonWithResponse(ctx context.Context, shareId string, params *GetReportsShareIdDesignJsonParams, reqEditors ...RequestEditorFn) (*GetReportsShareIdDesignJsonResponse, error)
+
+	// GetReportsShareIdReportJsonWithResponse Download a stored review's full report, as it was stored
+	//
+	// Tagged, answered 304 and rate-limited as the report page is. Reports stored before format 2 are served in their own format.
+	//
+	// Returns a wrapper object for the known response body format(s).
+	//
+	// Corresponds with GET /reports/{share_id}/report.json (the `GetReportsShareIdReportJson` operationId).
+	GetReportsShareIdReportJsonWithResponse(ctx context.Context, shareId string, params *GetReportsShareIdReportJsonParams, reqEditors ...RequestEditorFn) (*GetReportsShareIdReportJsonResponse, error)
 
 	// GetShelfWithResponse The shelf kiosk page, one page of the shelf at a time
 	//
@@ -4250,7 +4497,8 @@ type ClientWithResponsesInterface interface {
 	// The body is the design document itself (format 1). It is stored byte
 	// for byte once it decodes and validates; its `name` names the design.
 	// Broken JSON is 400; a document that breaks the contract is 422 with a
-	// JSON pointer per problem; nothing is stored in either case.
+	// JSON pointer per problem; nothing is stored in either case. A member
+	// at the quota of designs or of stored bytes is answered 403 naming it.
 	//
 	// Takes any type of body and a specified content type, and returns a wrapper object for the known response body format(s).
 	//
@@ -4262,7 +4510,8 @@ type ClientWithResponsesInterface interface {
 	// The body is the design document itself (format 1). It is stored byte
 	// for byte once it decodes and validates; its `name` names the design.
 	// Broken JSON is 400; a document that breaks the contract is 422 with a
-	// JSON pointer per problem; nothing is stored in either case.
+	// JSON pointer per problem; nothing is stored in either case. A member
+	// at the quota of designs or of stored bytes is answered 403 naming it.
 	//
 	// Takes a body of the `application/json` content type, and returns a wrapper object for the known response body format(s).
 	//
@@ -4336,8 +4585,10 @@ type ClientWithResponsesInterface interface {
 	// The review is stored with its report, status, the limits version used
 	// and the SHA-256 of the document reviewed, and gets a random share id:
 	// `/reports/{share_id}` shows it to anyone holding the id, without a login.
-	// A design edited while it is being reviewed is read and reviewed again;
-	// one that keeps changing is answered 409.
+	// A design edited while it is being reviewed is answered 409; sending the
+	// request again reviews the new document. A member past the hourly quota
+	// of stored reviews is answered 429 with Retry-After, past the stored
+	// bytes 403; both name the quota. Staff have no quotas.
 	//
 	// Returns a wrapper object for the known response body format(s).
 	//
@@ -4679,9 +4930,16 @@ func (r GetReadyzResponse) ContentType() string {
 	return ""
 }
 
+// GetReportsShareIdResponse200Headers the declared response headers of an HTTP 200 response for GetReportsShareId
+type GetReportsShareIdResponse200Headers struct {
+	ETag *string
+}
+
 type GetReportsShareIdResponse struct {
 	Body         []byte
 	HTTPResponse *http.Response
+	// Headers200 the parsed response headers for an HTTP 200 response
+	Headers200 *GetReportsShareIdResponse200Headers
 }
 
 // GetBody returns the raw response body bytes
@@ -4707,6 +4965,102 @@ func (r GetReportsShareIdResponse) StatusCode() int {
 
 // ContentType is a convenience method to retrieve the Content-Type value from the HTTP response headers
 func (r GetReportsShareIdResponse) ContentType() string {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.Header.Get("Content-Type")
+	}
+	return ""
+}
+
+// GetReportsShareIdDesignJsonResponse200Headers the declared response headers of an HTTP 200 response for GetReportsShareIdDesignJson
+type GetReportsShareIdDesignJsonResponse200Headers struct {
+	ETag *string
+}
+
+type GetReportsShareIdDesignJsonResponse struct {
+	Body         []byte
+	HTTPResponse *http.Response
+	// JSON200 the response for an HTTP 200 `application/json` response
+	JSON200 *DesignDocument
+	// Headers200 the parsed response headers for an HTTP 200 response
+	Headers200 *GetReportsShareIdDesignJsonResponse200Headers
+}
+
+// GetJSON200 returns the response for an HTTP 200 `application/json` response
+func (r GetReportsShareIdDesignJsonResponse) GetJSON200() *DesignDocument {
+	return r.JSON200
+}
+
+// GetBody returns the raw response body bytes
+func (r GetReportsShareIdDesignJsonResponse) GetBody() []byte {
+	return r.Body
+}
+
+// Status returns HTTPResponse.Status
+func (r GetReportsShareIdDesignJsonResponse) Status() string {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.Status
+	}
+	return http.StatusText(0)
+}
+
+// StatusCode returns HTTPResponse.StatusCode
+func (r GetReportsShareIdDesignJsonResponse) StatusCode() int {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.StatusCode
+	}
+	return 0
+}
+
+// ContentType is a convenience method to retrieve the Content-Type value from the HTTP response headers
+func (r GetReportsShareIdDesignJsonResponse) ContentType() string {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.Header.Get("Content-Type")
+	}
+	return ""
+}
+
+// GetReportsShareIdReportJsonResponse200Headers the declared response headers of an HTTP 200 response for GetReportsShareIdReportJson
+type GetReportsShareIdReportJsonResponse200Headers struct {
+	ETag *string
+}
+
+type GetReportsShareIdReportJsonResponse struct {
+	Body         []byte
+	HTTPResponse *http.Response
+	// JSON200 the response for an HTTP 200 `application/json` response
+	JSON200 *map[string]interface{}
+	// Headers200 the parsed response headers for an HTTP 200 response
+	Headers200 *GetReportsShareIdReportJsonResponse200Headers
+}
+
+// GetJSON200 returns the response for an HTTP 200 `application/json` response
+func (r GetReportsShareIdReportJsonResponse) GetJSON200() *map[string]interface{} {
+	return r.JSON200
+}
+
+// GetBody returns the raw response body bytes
+func (r GetReportsShareIdReportJsonResponse) GetBody() []byte {
+	return r.Body
+}
+
+// Status returns HTTPResponse.Status
+func (r GetReportsShareIdReportJsonResponse) Status() string {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.Status
+	}
+	return http.StatusText(0)
+}
+
+// StatusCode returns HTTPResponse.StatusCode
+func (r GetReportsShareIdReportJsonResponse) StatusCode() int {
+	if r.HTTPResponse != nil {
+		return r.HTTPResponse.StatusCode
+	}
+	return 0
+}
+
+// ContentType is a convenience method to retrieve the Content-Type value from the HTTP response headers
+func (r GetReportsShareIdReportJsonResponse) ContentType() string {
 	if r.HTTPResponse != nil {
 		return r.HTTPResponse.Header.Get("Content-Type")
 	}
@@ -5596,6 +5950,8 @@ type PostV1DesignsResponse struct {
 	ApplicationproblemJSON400 *Problem
 	// ApplicationproblemJSON401 the response for an HTTP 401 `application/problem+json` response
 	ApplicationproblemJSON401 *Problem
+	// ApplicationproblemJSON403 the response for an HTTP 403 `application/problem+json` response
+	ApplicationproblemJSON403 *Problem
 	// ApplicationproblemJSON413 the response for an HTTP 413 `application/problem+json` response
 	ApplicationproblemJSON413 *Problem
 	// ApplicationproblemJSON422 the response for an HTTP 422 `application/problem+json` response
@@ -5617,6 +5973,11 @@ func (r PostV1DesignsResponse) GetApplicationproblemJSON400() *Problem {
 // GetApplicationproblemJSON401 returns the response for an HTTP 401 `application/problem+json` response
 func (r PostV1DesignsResponse) GetApplicationproblemJSON401() *Problem {
 	return r.ApplicationproblemJSON401
+}
+
+// GetApplicationproblemJSON403 returns the response for an HTTP 403 `application/problem+json` response
+func (r PostV1DesignsResponse) GetApplicationproblemJSON403() *Problem {
+	return r.ApplicationproblemJSON403
 }
 
 // GetApplicationproblemJSON413 returns the response for an HTTP 413 `application/problem+json` response
@@ -6070,6 +6431,11 @@ type PostV1DesignsIdReviewsResponse201Headers struct {
 	Location *string
 }
 
+// PostV1DesignsIdReviewsResponse429Headers the declared response headers of an HTTP 429 response for PostV1DesignsIdReviews
+type PostV1DesignsIdReviewsResponse429Headers struct {
+	RetryAfter int
+}
+
 type PostV1DesignsIdReviewsResponse struct {
 	Body         []byte
 	HTTPResponse *http.Response
@@ -6087,8 +6453,12 @@ type PostV1DesignsIdReviewsResponse struct {
 	ApplicationproblemJSON409 *Problem
 	// ApplicationproblemJSON422 the response for an HTTP 422 `application/problem+json` response
 	ApplicationproblemJSON422 *Problem
+	// ApplicationproblemJSON429 the response for an HTTP 429 `application/problem+json` response
+	ApplicationproblemJSON429 *RateLimited
 	// Headers201 the parsed response headers for an HTTP 201 response
 	Headers201 *PostV1DesignsIdReviewsResponse201Headers
+	// Headers429 the parsed response headers for an HTTP 429 response
+	Headers429 *PostV1DesignsIdReviewsResponse429Headers
 }
 
 // GetJSON201 returns the response for an HTTP 201 `application/json` response
@@ -6124,6 +6494,11 @@ func (r PostV1DesignsIdReviewsResponse) GetApplicationproblemJSON409() *Problem 
 // GetApplicationproblemJSON422 returns the response for an HTTP 422 `application/problem+json` response
 func (r PostV1DesignsIdReviewsResponse) GetApplicationproblemJSON422() *Problem {
 	return r.ApplicationproblemJSON422
+}
+
+// GetApplicationproblemJSON429 returns the response for an HTTP 429 `application/problem+json` response
+func (r PostV1DesignsIdReviewsResponse) GetApplicationproblemJSON429() *RateLimited {
+	return r.ApplicationproblemJSON429
 }
 
 // GetBody returns the raw response body bytes
@@ -6646,17 +7021,53 @@ func (c *ClientWithResponses) GetReadyzWithResponse(ctx context.Context, reqEdit
 
 // GetReportsShareIdWithResponse The printable report of a stored review
 //
-// Anyone holding the share id may open it; no login.
+// Anyone holding the share id may open it; no login. A stored review
+// never changes, so the page has a strong ETag taken from the stored
+// review and the shelf's revision, the same on every replica, and
+// If-None-Match with it is answered 304. A design of more than 250
+// nodes is shown as a summary of its findings, with the design and the
+// full report as downloads. Pages and downloads built (not 304s) are
+// rate-limited per client address: 429 with Retry-After.
 //
 // Returns a wrapper object for the known response body format(s).
 //
 // Corresponds with GET /reports/{share_id} (the `GetReportsShareId` operationId).
-func (c *ClientWithResponses) GetReportsShareIdWithResponse(ctx context.Context, shareId string, reqEditors ...RequestEditorFn) (*GetReportsShareIdResponse, error) {
-	rsp, err := c.GetReportsShareId(ctx, shareId, reqEditors...)
+func (c *ClientWithResponses) GetReportsShareIdWithResponse(ctx context.Context, shareId string, params *GetReportsShareIdParams, reqEditors ...RequestEditorFn) (*GetReportsShareIdResponse, error) {
+	rsp, err := c.GetReportsShareId(ctx, shareId, params, reqEditors...)
 	if err != nil {
 		return nil, err
 	}
 	return ParseGetReportsShareIdResponse(rsp)
+}
+
+// GetReportsShareIdDesignJsonWithResponse Download the design document a stored review read, as it was stored
+//
+// Tagged, answered 304 and rate-limited as the report page is; 404 for a review stored before reviews kept their document.
+//
+// Returns a wrapper object for the known response body format(s).
+//
+// Corresponds with GET /reports/{share_id}/design.json (the `GetReportsShareIdDesignJson` operationId).
+func (c *ClientWithResponses) GetReportsShareIdDesignJsonWithResponse(ctx context.Context, shareId string, params *GetReportsShareIdDesignJsonParams, reqEditors ...RequestEditorFn) (*GetReportsShareIdDesignJsonResponse, error) {
+	rsp, err := c.GetReportsShareIdDesignJson(ctx, shareId, params, reqEditors...)
+	if err != nil {
+		return nil, err
+	}
+	return ParseGetReportsShareIdDesignJsonResponse(rsp)
+}
+
+// GetReportsShareIdReportJsonWithResponse Download a stored review's full report, as it was stored
+//
+// Tagged, answered 304 and rate-limited as the report page is. Reports stored before format 2 are served in their own format.
+//
+// Returns a wrapper object for the known response body format(s).
+//
+// Corresponds with GET /reports/{share_id}/report.json (the `GetReportsShareIdReportJson` operationId).
+func (c *ClientWithResponses) GetReportsShareIdReportJsonWithResponse(ctx context.Context, shareId string, params *GetReportsShareIdReportJsonParams, reqEditors ...RequestEditorFn) (*GetReportsShareIdReportJsonResponse, error) {
+	rsp, err := c.GetReportsShareIdReportJson(ctx, shareId, params, reqEditors...)
+	if err != nil {
+		return nil, err
+	}
+	return ParseGetReportsShareIdReportJsonResponse(rsp)
 }
 
 // GetShelfWithResponse The shelf kiosk page, one page of the shelf at a time
@@ -6925,7 +7336,8 @@ func (c *ClientWithResponses) GetV1DesignsWithResponse(ctx context.Context, para
 // The body is the design document itself (format 1). It is stored byte
 // for byte once it decodes and validates; its `name` names the design.
 // Broken JSON is 400; a document that breaks the contract is 422 with a
-// JSON pointer per problem; nothing is stored in either case.
+// JSON pointer per problem; nothing is stored in either case. A member
+// at the quota of designs or of stored bytes is answered 403 naming it.
 //
 // Takes any type of body and a specified content type, and returns a wrapper object for the known response body format(s).
 //
@@ -6943,7 +7355,8 @@ func (c *ClientWithResponses) PostV1DesignsWithBodyWithResponse(ctx context.Cont
 // The body is the design document itself (format 1). It is stored byte
 // for byte once it decodes and validates; its `name` names the design.
 // Broken JSON is 400; a document that breaks the contract is 422 with a
-// JSON pointer per problem; nothing is stored in either case.
+// JSON pointer per problem; nothing is stored in either case. A member
+// at the quota of designs or of stored bytes is answered 403 naming it.
 //
 // Takes a body of the `application/json` content type, and returns a wrapper object for the known response body format(s).
 //
@@ -7071,8 +7484,10 @@ func (c *ClientWithResponses) GetV1DesignsIdReviewsWithResponse(ctx context.Cont
 // The review is stored with its report, status, the limits version used
 // and the SHA-256 of the document reviewed, and gets a random share id:
 // `/reports/{share_id}` shows it to anyone holding the id, without a login.
-// A design edited while it is being reviewed is read and reviewed again;
-// one that keeps changing is answered 409.
+// A design edited while it is being reviewed is answered 409; sending the
+// request again reviews the new document. A member past the hourly quota
+// of stored reviews is answered 429 with Retry-After, past the stored
+// bytes 403; both name the quota. Staff have no quotas.
 //
 // Returns a wrapper object for the known response body format(s).
 //
@@ -7386,6 +7801,103 @@ func ParseGetReportsShareIdResponse(rsp *http.Response) (*GetReportsShareIdRespo
 	response := &GetReportsShareIdResponse{
 		Body:         bodyBytes,
 		HTTPResponse: rsp,
+	}
+
+	switch {
+	case rsp.StatusCode == 200:
+		var headers GetReportsShareIdResponse200Headers
+		if values := rsp.Header.Values("ETag"); len(values) > 0 {
+			var value string
+			if err := runtime.BindStyledParameterWithOptions("simple", "ETag", values[0], &value, runtime.BindStyledParameterOptions{ParamLocation: runtime.ParamLocationHeader, Explode: false, Required: false, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			}
+			headers.ETag = &value
+		}
+		response.Headers200 = &headers
+	}
+
+	return response, nil
+}
+
+// ParseGetReportsShareIdDesignJsonResponse parses an HTTP response from a GetReportsShareIdDesignJsonWithResponse call
+func ParseGetReportsShareIdDesignJsonResponse(rsp *http.Response) (*GetReportsShareIdDesignJsonResponse, error) {
+	bodyBytes, err := io.ReadAll(rsp.Body)
+	defer func() { _ = rsp.Body.Close() }()
+	if err != nil {
+		return nil, err
+	}
+
+	response := &GetReportsShareIdDesignJsonResponse{
+		Body:         bodyBytes,
+		HTTPResponse: rsp,
+	}
+
+	switch {
+	case strings.Contains(rsp.Header.Get("Content-Type"), "json") && rsp.StatusCode == 200:
+		var dest DesignDocument
+		if err := json.Unmarshal(bodyBytes, &dest); err != nil {
+			return nil, err
+		}
+		response.JSON200 = &dest
+
+	case rsp.StatusCode == 304:
+		break // No content-type
+
+	}
+
+	switch {
+	case rsp.StatusCode == 200:
+		var headers GetReportsShareIdDesignJsonResponse200Headers
+		if values := rsp.Header.Values("ETag"); len(values) > 0 {
+			var value string
+			if err := runtime.BindStyledParameterWithOptions("simple", "ETag", values[0], &value, runtime.BindStyledParameterOptions{ParamLocation: runtime.ParamLocationHeader, Explode: false, Required: false, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			}
+			headers.ETag = &value
+		}
+		response.Headers200 = &headers
+	}
+
+	return response, nil
+}
+
+// ParseGetReportsShareIdReportJsonResponse parses an HTTP response from a GetReportsShareIdReportJsonWithResponse call
+func ParseGetReportsShareIdReportJsonResponse(rsp *http.Response) (*GetReportsShareIdReportJsonResponse, error) {
+	bodyBytes, err := io.ReadAll(rsp.Body)
+	defer func() { _ = rsp.Body.Close() }()
+	if err != nil {
+		return nil, err
+	}
+
+	response := &GetReportsShareIdReportJsonResponse{
+		Body:         bodyBytes,
+		HTTPResponse: rsp,
+	}
+
+	switch {
+	case strings.Contains(rsp.Header.Get("Content-Type"), "json") && rsp.StatusCode == 200:
+		var dest map[string]interface{}
+		if err := json.Unmarshal(bodyBytes, &dest); err != nil {
+			return nil, err
+		}
+		response.JSON200 = &dest
+
+	case rsp.StatusCode == 304:
+		break // No content-type
+
+	}
+
+	switch {
+	case rsp.StatusCode == 200:
+		var headers GetReportsShareIdReportJsonResponse200Headers
+		if values := rsp.Header.Values("ETag"); len(values) > 0 {
+			var value string
+			if err := runtime.BindStyledParameterWithOptions("simple", "ETag", values[0], &value, runtime.BindStyledParameterOptions{ParamLocation: runtime.ParamLocationHeader, Explode: false, Required: false, Type: "string", Format: ""}); err != nil {
+				return nil, err
+			}
+			headers.ETag = &value
+		}
+		response.Headers200 = &headers
 	}
 
 	return response, nil
@@ -8101,6 +8613,13 @@ func ParsePostV1DesignsResponse(rsp *http.Response) (*PostV1DesignsResponse, err
 		}
 		response.ApplicationproblemJSON401 = &dest
 
+	case strings.Contains(rsp.Header.Get("Content-Type"), "json") && rsp.StatusCode == 403:
+		var dest Problem
+		if err := json.Unmarshal(bodyBytes, &dest); err != nil {
+			return nil, err
+		}
+		response.ApplicationproblemJSON403 = &dest
+
 	case strings.Contains(rsp.Header.Get("Content-Type"), "json") && rsp.StatusCode == 413:
 		var dest Problem
 		if err := json.Unmarshal(bodyBytes, &dest); err != nil {
@@ -8553,6 +9072,13 @@ func ParsePostV1DesignsIdReviewsResponse(rsp *http.Response) (*PostV1DesignsIdRe
 		}
 		response.ApplicationproblemJSON422 = &dest
 
+	case strings.Contains(rsp.Header.Get("Content-Type"), "json") && rsp.StatusCode == 429:
+		var dest RateLimited
+		if err := json.Unmarshal(bodyBytes, &dest); err != nil {
+			return nil, err
+		}
+		response.ApplicationproblemJSON429 = &dest
+
 	}
 
 	switch {
@@ -8566,6 +9092,16 @@ func ParsePostV1DesignsIdReviewsResponse(rsp *http.Response) (*PostV1DesignsIdRe
 			headers.Location = &value
 		}
 		response.Headers201 = &headers
+	case rsp.StatusCode == 429:
+		var headers PostV1DesignsIdReviewsResponse429Headers
+		if values := rsp.Header.Values("Retry-After"); len(values) > 0 {
+			var value int
+			if err := runtime.BindStyledParameterWithOptions("simple", "Retry-After", values[0], &value, runtime.BindStyledParameterOptions{ParamLocation: runtime.ParamLocationHeader, Explode: false, Required: true, Type: "integer", Format: ""}); err != nil {
+				return nil, err
+			}
+			headers.RetryAfter = value
+		}
+		response.Headers429 = &headers
 	}
 
 	return response, nil

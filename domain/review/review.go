@@ -46,6 +46,9 @@ func Prepare(limits Limits, version int) (*Rules, error) {
 // Version is the limits version the rules were prepared from.
 func (ru *Rules) Version() int { return ru.version }
 
+// Limits is the limits set the rules were prepared from.
+func (ru *Rules) Limits() Limits { return ru.limits }
+
 // Review checks a design against a limits set: Prepare, then Rules.Review.
 func Review(doc domain.Design, limits Limits, limitsVersion int, components map[int64]domain.Component) (Report, error) {
 	if err := doc.Validate(); err != nil {
