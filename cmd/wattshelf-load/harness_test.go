@@ -281,6 +281,10 @@ func TestShareIDOfReadsTheReportLocation(t *testing.T) {
 func startServer(t *testing.T) (base, token string) {
 	t.Helper()
 	st, _ := storetest.NewStore(t)
+	// As serve does when it starts: a read never stores the defaults.
+	if _, err := st.SeedDefaultLimits(context.Background()); err != nil {
+		t.Fatal(err)
+	}
 	router, err := api.New(api.Config{Store: st, Logger: slog.New(slog.NewTextHandler(io.Discard, nil)), Registry: prometheus.NewRegistry()})
 	if err != nil {
 		t.Fatal(err)
