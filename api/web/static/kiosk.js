@@ -115,13 +115,18 @@
 
   // load asks the server for a page of the shelf and shows it. While the
   // server or the network is away the page on show stays, with a notice.
+  // Only the newest load may change the page: a refresh of the old
+  // address that answers after a search must not undo the search.
+  var loads = 0;
   function load(address) {
+    var ticket = ++loads;
     return fetch(address, { headers: { Accept: 'text/html' }, cache: 'no-store' })
       .then(function (res) {
         if (!res.ok) { throw new Error('shelf page ' + res.status); }
         return res.text();
       })
       .then(function (html) {
+        if (ticket !== loads) { return false; }
         adopt(new DOMParser().parseFromString(html, 'text/html'));
         current = address;
         failures = 0;
@@ -130,6 +135,7 @@
         return true;
       })
       .catch(function () {
+        if (ticket !== loads) { return false; }
         failures++;
         showState('Cannot reach the shelf: the figures shown may be stale. Trying again.');
         return false;
