@@ -44,13 +44,12 @@ const reviewUsage = `usage: wattshelf review FILE... [--server URL] [--token T] 
 Sends each design file (- for standard input) to the service's review and
 prints what it found; with --json, one line of JSON a file:
 {"file": F, "report": {...}} or {"file": F, "exit": N, "error": "..."}.
-A file that cannot be read or reviewed does not stop the others. Exit
-status, the highest any file earned:
+A file that cannot be read or reviewed does not stop the others.
+Exit status, the highest any file earned:
   0  no design reaches the --fail-on level (default fail)
   1  a design reaches it
   2  the service rejected a document, or a file could not be read
-  3  the service could not be reached, could not answer, or is not at that
-     address (a 404 or 405 from a wrong --server)
+  3  the service could not be reached or could not answer (a wrong --server path included)
   4  a design is out of scope (mains, or a source above 50 V DC), whatever --fail-on says
 
 Environment: WATTSHELF_SERVER (default ` + defaultReviewServer + `), WATTSHELF_TOKEN.
