@@ -42,11 +42,14 @@ const (
 const reviewUsage = `usage: wattshelf review FILE... [--server URL] [--token T] [--json] [--fail-on warn|fail] [--limits-version N]
 
 Sends each design file (- for standard input) to the service's review and
-prints what it found. Exit status, the highest any file earned:
+prints what it found; with --json, one line of JSON a file:
+{"file": F, "report": {...}} or {"file": F, "exit": N, "error": "..."}.
+A file that cannot be read or reviewed does not stop the others.
+Exit status, the highest any file earned:
   0  no design reaches the --fail-on level (default fail)
   1  a design reaches it
   2  the service rejected a document, or a file could not be read
-  3  the service could not be reached or could not answer
+  3  the service could not be reached or could not answer (a wrong --server path included)
   4  a design is out of scope (mains, or a source above 50 V DC), whatever --fail-on says
 
 Environment: WATTSHELF_SERVER (default ` + defaultReviewServer + `), WATTSHELF_TOKEN.
@@ -54,6 +57,7 @@ Environment: WATTSHELF_SERVER (default ` + defaultReviewServer + `), WATTSHELF_T
 
 // reviewOptions are the parsed arguments of `wattshelf review`.
 type reviewOptions struct {
+	stdout        io.Writer // where summaries go
 	server        string
 	token         string
 	asJSON        bool
@@ -107,10 +111,15 @@ func parseReviewArgs(args []string, getenv func(string) string) (reviewOptions, 
 // reviewCommand runs `wattshelf review`.
 func reviewCommand(ctx context.Context, args []string, getenv func(string) string, stdin io.Reader, stdout, stderr io.Writer) error {
 	opts, err := parseReviewArgs(args, getenv)
+	if errors.Is(err, flag.ErrHelp) {
+		fmt.Fprint(stdout, reviewUsage)
+		return nil
+	}
 	if err != nil {
 		fmt.Fprint(stderr, reviewUsage)
 		return &exitError{code: 2, msg: err.Error()}
 	}
+	opts.stdout = stdout
 	client := &http.Client{Timeout: 2 * time.Minute}
 	worst := reviewExitClean
 	for _, file := range opts.files {
@@ -148,8 +157,38 @@ type reportCheck struct {
 	Message string   `json:"message"`
 }
 
-// reviewFile reviews one file and returns its exit status.
+// reviewFile reviews one file and returns its exit status. What went
+// wrong goes to standard error, and with --json also to standard output
+// as the file's line, so a script reading the lines hears of every file.
 func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, file string, stdin io.Reader, stdout, stderr io.Writer) int {
+	code, msg, body := reviewOneFile(ctx, client, opts, file, stdin)
+	if msg != "" {
+		fmt.Fprintf(stderr, "%s: %s\n", file, msg)
+	}
+	if opts.asJSON {
+		line := struct {
+			File   string          `json:"file"`
+			Exit   int             `json:"exit,omitempty"`
+			Error  string          `json:"error,omitempty"`
+			Report json.RawMessage `json:"report,omitempty"`
+		}{File: file, Report: bytes.TrimSpace(body)}
+		if msg != "" {
+			line.Exit, line.Error = code, msg
+		}
+		out, err := json.Marshal(line)
+		if err != nil {
+			fmt.Fprintf(stderr, "%s: cannot write its JSON line: %v\n", file, err)
+			return max(code, reviewExitUnreachable)
+		}
+		stdout.Write(append(out, '\n'))
+	}
+	return code
+}
+
+// reviewOneFile reviews one file: its exit status, what went wrong (""
+// when it was reviewed) and, when it was, the report as the service sent
+// it. The summary is printed here unless --json asked for the report.
+func reviewOneFile(ctx context.Context, client *http.Client, opts reviewOptions, file string, stdin io.Reader) (int, string, []byte) {
 	var doc []byte
 	var err error
 	if file == "-" {
@@ -158,46 +197,38 @@ func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, fi
 		doc, err = os.ReadFile(file)
 	}
 	if err != nil {
-		fmt.Fprintf(stderr, "%s: cannot read: %v\n", file, err)
-		return reviewExitRejected
+		return reviewExitRejected, fmt.Sprintf("cannot read: %v", err), nil
 	}
 	status, body, err := postForReview(ctx, client, opts, doc)
 	var problem *apiclient.Problem
 	if err != nil && !errors.As(err, &problem) {
-		fmt.Fprintf(stderr, "%s: cannot reach %s: %v\n", file, opts.server, err)
-		return reviewExitUnreachable
+		return reviewExitUnreachable, fmt.Sprintf("cannot reach %s: %v", opts.server, err), nil
 	}
 	switch {
 	case status >= 500 || status == http.StatusTooManyRequests:
-		fmt.Fprintf(stderr, "%s: the service could not review it (HTTP %d)%s\n", file, status, describeProblem(err))
-		return reviewExitUnreachable
+		return reviewExitUnreachable, fmt.Sprintf("the service could not review it (HTTP %d)%s", status, describeProblem(err)), nil
+	case status == http.StatusNotFound || status == http.StatusMethodNotAllowed:
+		// No review route there: a wrong --server, not a bad document.
+		return reviewExitUnreachable, fmt.Sprintf("no review service answers at %s (HTTP %d); check --server", opts.server, status), nil
 	case status >= 400:
-		fmt.Fprintf(stderr, "%s: rejected (HTTP %d)%s\n", file, status, describeProblem(err))
-		return reviewExitRejected
+		return reviewExitRejected, fmt.Sprintf("rejected (HTTP %d)%s", status, describeProblem(err)), nil
 	case status != http.StatusOK:
-		fmt.Fprintf(stderr, "%s: unexpected answer HTTP %d\n", file, status)
-		return reviewExitUnreachable
+		return reviewExitUnreachable, fmt.Sprintf("unexpected answer HTTP %d", status), nil
 	}
 	var rep reviewReport
 	if err := json.Unmarshal(body, &rep); err != nil || rep.Status == "" {
-		fmt.Fprintf(stderr, "%s: the answer is not a review report\n", file)
-		return reviewExitUnreachable
+		return reviewExitUnreachable, "the answer is not a review report", nil
 	}
-	if opts.asJSON {
-		stdout.Write(body)
-		if !bytes.HasSuffix(body, []byte("\n")) {
-			fmt.Fprintln(stdout)
-		}
-	} else {
-		printReviewSummary(stdout, file, rep)
+	if !opts.asJSON {
+		printReviewSummary(opts.stdout, file, rep)
 	}
 	switch status := review.Status(rep.Status); {
 	case status == review.OutOfScope:
-		return reviewExitOutOfScope
+		return reviewExitOutOfScope, "", body
 	case status.Severity() >= review.Status(opts.failOn).Severity():
-		return reviewExitFindings
+		return reviewExitFindings, "", body
 	}
-	return reviewExitClean
+	return reviewExitClean, "", body
 }
 
 // postForReview sends one document through the API client, waiting out

@@ -154,6 +154,11 @@ func TestReviewCommandExitCodes(t *testing.T) {
 		{"with an unknown token", []string{file("pass.json"), "--server", url, "--token", "wsh_nope"}, noEnv, 2, nil, []string{"HTTP 401"}},
 		{"an old limits version that is not stored", []string{file("pass.json"), "--server", url, "--limits-version", "9"}, noEnv, 2, nil, []string{"limits_version"}},
 		{"no files", []string{"--server", url}, noEnv, 2, nil, []string{"usage: wattshelf review"}},
+		{"--help", []string{"--help"}, noEnv, 0, []string{"usage: wattshelf review", "4  a design is out of scope"}, nil},
+		{"a wrong server path could not review it", []string{file("pass.json"), "--server", url + "/not-here"}, noEnv, 3,
+			nil, []string{"no review service answers", "HTTP 404"}},
+		{"a missing file in the middle hides no other", []string{file("pass.json"), file("absent.json"), file("fail.json"), "--server", url},
+			noEnv, 2, []string{"pass.json: PASS", "fail.json: FAIL"}, []string{"absent.json: cannot read"}},
 		{"a bad --fail-on", []string{file("pass.json"), "--fail-on", "never"}, noEnv, 2, nil, []string{"usage: wattshelf review"}},
 		{"a bad --server", []string{file("pass.json"), "--server", "ftp://x"}, noEnv, 2, nil, []string{"usage: wattshelf review"}},
 	}
@@ -189,13 +194,16 @@ func TestReviewCommandJSON(t *testing.T) {
 	dec := json.NewDecoder(&stdout)
 	var statuses []string
 	for dec.More() {
-		var rep struct {
-			Status   string   `json:"status"`
-			Cautions []string `json:"cautions"`
+		var line struct {
+			Report struct {
+				Status   string   `json:"status"`
+				Cautions []string `json:"cautions"`
+			} `json:"report"`
 		}
-		if err := dec.Decode(&rep); err != nil {
+		if err := dec.Decode(&line); err != nil {
 			t.Fatal(err)
 		}
+		rep := line.Report
 		if len(rep.Cautions) == 0 {
 			t.Fatal("a report without its cautions")
 		}
@@ -258,6 +266,50 @@ func TestREADMEListsTheReviewExitStatuses(t *testing.T) {
 		}
 		if !strings.Contains(string(readme), line+"\n") {
 			t.Errorf("README.md lacks the usage's line %q", line)
+		}
+	}
+}
+
+// With --json every file gets one line of JSON naming it: its report, or
+// what kept it from one; the exit status is still the highest earned.
+func TestReviewCommandJSONLines(t *testing.T) {
+	url, dir, _ := reviewCLIServer(t, api.Config{ReviewBurst: 1000})
+	files := []string{filepath.Join(dir, "pass.json"), filepath.Join(dir, "absent.json"), filepath.Join(dir, "warn.json"), filepath.Join(dir, "broken.json")}
+	var stdout, stderr bytes.Buffer
+	err := run(t.Context(), append([]string{"review", "--json", "--fail-on", "warn", "--server", url}, files...),
+		func(string) string { return "" }, &stdout, &stderr)
+	if got := reviewExitOf(err); got != 2 {
+		t.Fatalf("exit %d (%v), want 2", got, err)
+	}
+	lines := strings.Split(strings.TrimSpace(stdout.String()), "\n")
+	if len(lines) != len(files) {
+		t.Fatalf("%d lines for %d files:\n%s", len(lines), len(files), stdout.String())
+	}
+	for i, line := range lines {
+		var got struct {
+			File   string `json:"file"`
+			Exit   int    `json:"exit"`
+			Error  string `json:"error"`
+			Report *struct {
+				Format int    `json:"format"`
+				Status string `json:"status"`
+			} `json:"report"`
+		}
+		if err := json.Unmarshal([]byte(line), &got); err != nil {
+			t.Fatalf("line %d is not JSON: %v\n%s", i+1, err, line)
+		}
+		if got.File != files[i] {
+			t.Errorf("line %d names %q, want %q", i+1, got.File, files[i])
+		}
+		switch filepath.Base(files[i]) {
+		case "pass.json", "warn.json":
+			if got.Report == nil || got.Report.Format != 2 || got.Exit != 0 {
+				t.Errorf("line %d: %s", i+1, line)
+			}
+		case "absent.json", "broken.json":
+			if got.Report != nil || got.Exit != 2 || got.Error == "" {
+				t.Errorf("line %d: %s", i+1, line)
+			}
 		}
 	}
 }
