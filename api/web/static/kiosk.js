@@ -74,22 +74,20 @@
       throw new Error('not a shelf page');
     }
     var focused = list.contains(document.activeElement) ? document.activeElement : null;
-    var old = new Map();
-    list.querySelectorAll('li.card').forEach(function (card) {
-      old.set(card.getAttribute('data-rev'), card);
-    });
-    var next = document.importNode(freshList, true);
-    next.querySelectorAll('li.card').forEach(function (card) {
-      var same = old.get(card.getAttribute('data-rev'));
-      if (same) {
-        same.setAttribute('data-after', card.getAttribute('data-after'));
-        same.hidden = false;
-        card.replaceWith(same);
-      }
-    });
-    list.replaceChildren.apply(list, Array.prototype.slice.call(next.childNodes));
-    if (focused !== null && focused.isConnected && !focused.closest('[hidden]')) {
-      focused.focus();
+    // The same cards in the same order: nothing to move. Moving them
+    // anyway, on every refresh of a wall screen, would churn the page.
+    var keys = function (parent) {
+      return Array.prototype.map.call(parent.children, function (child) {
+        return child.getAttribute('data-rev') || child.outerHTML;
+      }).join('\n');
+    };
+    if (keys(list) === keys(freshList)) {
+      var mine = list.querySelectorAll('li.card');
+      freshList.querySelectorAll('li.card').forEach(function (card, i) {
+        mine[i].setAttribute('data-after', card.getAttribute('data-after'));
+      });
+    } else {
+      replaceCards(list, freshList, focused);
     }
     ['data-first', 'data-last', 'data-total'].forEach(function (name) {
       main.setAttribute(name, freshMain.getAttribute(name));
@@ -110,6 +108,29 @@
       var chosen = kindSelect.value;
       kindSelect.innerHTML = freshKinds.innerHTML;
       kindSelect.value = chosen;
+    }
+  }
+
+  // replaceCards shows freshList's cards, keeping every card whose content
+  // is unchanged as the same element, so nothing flickers and the keyboard
+  // focus stays where it was.
+  function replaceCards(list, freshList, focused) {
+    var old = new Map();
+    list.querySelectorAll('li.card').forEach(function (card) {
+      old.set(card.getAttribute('data-rev'), card);
+    });
+    var next = document.importNode(freshList, true);
+    next.querySelectorAll('li.card').forEach(function (card) {
+      var same = old.get(card.getAttribute('data-rev'));
+      if (same) {
+        same.setAttribute('data-after', card.getAttribute('data-after'));
+        same.hidden = false;
+        card.replaceWith(same);
+      }
+    });
+    list.replaceChildren.apply(list, Array.prototype.slice.call(next.childNodes));
+    if (focused !== null && focused.isConnected && !focused.closest('[hidden]')) {
+      focused.focus();
     }
   }
 
