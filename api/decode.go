@@ -89,11 +89,5 @@ func (jsonSerializer) Deserialize(c echo.Context, v any) error {
 	return bindStrict(c, v)
 }
 
-// escapePointerToken escapes one reference token of a JSON pointer
-// (RFC 6901 section 3), so a key holding "/" or "~" names itself.
-func escapePointerToken(key string) string {
-	return string(jsontext.Pointer("").AppendToken(key))[1:]
-}
-
 // encodeJSON encodes v through the one strict configuration.
 func encodeJSON(v any) ([]byte, error) { return json.Marshal(v, domain.StrictJSON()) }

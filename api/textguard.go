@@ -32,7 +32,7 @@ func refuseUnstorableText(next echo.HandlerFunc) echo.HandlerFunc {
 		for name, values := range u.Query() {
 			for _, v := range values {
 				if !storableText(name) || !storableText(v) {
-					fields = append(fields, domain.FieldProblem{Pointer: "/" + escapePointerToken(name),
+					fields = append(fields, domain.FieldProblem{Pointer: "/" + domain.PointerToken(name),
 						Detail: "must be UTF-8 text without NUL characters"})
 					break
 				}

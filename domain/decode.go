@@ -222,14 +222,15 @@ func prune(doc any, loc []string) any {
 func pointerOf(loc []string) string {
 	var b strings.Builder
 	for _, t := range loc {
-		b.WriteString("/" + escapePointer(t))
+		b.WriteString("/" + PointerToken(t))
 	}
 	return b.String()
 }
 
-// escapePointer escapes one JSON pointer reference token (RFC 6901).
-func escapePointer(s string) string {
-	return strings.NewReplacer("~", "~0", "/", "~1").Replace(s)
+// PointerToken is s as one reference token of a JSON pointer (RFC 6901
+// section 3): a key holding "/" or "~" names itself.
+func PointerToken(s string) string {
+	return string(jsontext.Pointer("").AppendToken(s))[1:]
 }
 
 // objectAt names the object of a design document at loc.

@@ -142,7 +142,7 @@ func (r *designReader) split(dec *jsontext.Decoder, decoded []Node) ([]Node, map
 		}
 		name := tok.String()
 		if seen[name] {
-			r.add("/"+escapePointer(name), "appears twice in one object")
+			r.add("/"+PointerToken(name), "appears twice in one object")
 		}
 		seen[name] = true
 		if name != "nodes" || dec.PeekKind() != '[' {
@@ -151,7 +151,7 @@ func (r *designReader) split(dec *jsontext.Decoder, decoded []Node) ([]Node, map
 				return nil, nil, err
 			}
 			if len(raw) > maxMemberBytes {
-				r.add("/"+escapePointer(name), "is %d bytes long; no member of a design is longer than %d", len(raw), maxMemberBytes)
+				r.add("/"+PointerToken(name), "is %d bytes long; no member of a design is longer than %d", len(raw), maxMemberBytes)
 				continue
 			}
 			members[name] = raw.Clone()
@@ -275,7 +275,7 @@ func (r *designReader) describe(raw jsontext.Value, at []string, schema *jsonsch
 			switch e := leaf.ErrorKind.(type) {
 			case *kind.AdditionalProperties:
 				for _, name := range e.Properties {
-					r.add(ptr+"/"+escapePointer(name), "is not a field of a %s (the design format lists its fields: GET /v1/schemas/design.json)",
+					r.add(ptr+"/"+PointerToken(name), "is not a field of a %s (the design format lists its fields: GET /v1/schemas/design.json)",
 						objectAt(slices.Concat(at, loc)))
 					doc = prune(doc, append(slices.Clone(loc), name))
 				}
