@@ -129,8 +129,21 @@ func DefaultLimits() Limits {
 }
 
 // Validate reports every problem with the limits set at once, each with a
-// JSON pointer into it.
+// JSON pointer into it, and every value a newer check needs that the set
+// leaves out (limitsNeeds).
 func (l Limits) Validate() error {
+	var p domain.Problems
+	for _, ptr := range l.missing() {
+		p.Add(ptr, "is required: the checks added since this set was written need it (the current defaults hold a sourced value)")
+	}
+	filled, _ := l.completed()
+	addProblems(&p, filled.validateValues())
+	return p.Err()
+}
+
+// validateValues is Validate without the values a newer check needs:
+// those are checked by Validate, or filled by completed, before it runs.
+func (l Limits) validateValues() error {
 	var p domain.Problems
 	addJoined(&p, "/conductors", l.Conductors.Validate())
 

@@ -78,6 +78,9 @@ type Report struct {
 	Feeds         []FeedResult    `json:"feeds"`
 	Runtime       []RuntimeResult `json:"runtime"`
 	Cautions      []string        `json:"cautions"`
+	// NotRun lists the checks the review's limits version predates: they
+	// were not run, so the report cannot speak for them.
+	NotRun []string `json:"not_run,omitzero"`
 }
 
 // Counts tallies the checks by status.

@@ -15,6 +15,7 @@ import (
 type reviewer struct {
 	t       *tree
 	limits  *Limits
+	notRun  []string // checks the limits predate
 	ambient float64
 	checks  []Check
 	spans   []textSpan // of each check's message in text
@@ -30,18 +31,28 @@ type Rules struct {
 	limits  Limits
 	version int
 	rules   map[string]Rule
+	notRun  []string // checks the limits predate: not run, and said so
 }
 
 // Prepare validates a limits set stored as version and readies it for
 // reviews. An unusable limits set is a plain error: it is the service's
 // fault, not the member's.
+//
+// A set stored before some checks existed lacks their values: those are
+// filled from the defaults so the set validates, and the checks are not
+// run (each review says so).
 func Prepare(limits Limits, version int) (*Rules, error) {
-	if err := limits.Validate(); err != nil {
+	filled, notRun := limits.completed()
+	if err := filled.validateValues(); err != nil {
 		// %v, not %w: the problems are in the limits, not in a document.
 		return nil, fmt.Errorf("limits v%d cannot be used: %v", version, err)
 	}
-	return &Rules{limits: limits, version: version, rules: newRules(limits)}, nil
+	return &Rules{limits: filled, version: version, rules: newRules(filled), notRun: notRun}, nil
 }
+
+// NotRun lists the checks the limits predate, which a review under them
+// does not run.
+func (ru *Rules) NotRun() []string { return ru.notRun }
 
 // Version is the limits version the rules were prepared from.
 func (ru *Rules) Version() int { return ru.version }
@@ -90,7 +101,7 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	}
 	t := newTree(nodes)
 	t.solve()
-	r := &reviewer{t: t, limits: limits, ambient: ambient,
+	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun,
 		// A node gets about four checks: its own, and its feed's.
 		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
 	r.text.Grow(320*len(nodes) + 256)
@@ -102,6 +113,10 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 		Feeds:         make([]FeedResult, 0, len(nodes)),
 		Runtime:       []RuntimeResult{},
 		Cautions:      Cautions(),
+		NotRun:        ru.notRun,
+	}
+	if len(ru.notRun) > 0 {
+		rep.Cautions = append(rep.Cautions, notRunCaution(ru.notRun, ru.version))
 	}
 	r.scope()
 
@@ -163,6 +178,10 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	}
 	return rep, nil
 }
+
+// runs reports whether the limits hold what check needs; a check the
+// limits predate is not run.
+func (r *reviewer) runs(check string) bool { return !slices.Contains(r.notRun, check) }
 
 func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
 	r.wireAmpacity(n)

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"strings"
 	"time"
 
 	jsonv2 "github.com/go-json-experiment/json"
@@ -40,7 +41,9 @@ const defaultLimitsActor = "system"
 const defaultLimitsNote = "defaults seeded by wattshelf; every value names its source"
 
 // SeedDefaultLimits stores the review engine's default limits as version 1
-// unless a version 1 exists, and reports whether it stored them. serve
+// unless a version 1 exists, and reports whether it stored them. When the
+// current version predates some checks, it stores a new version with their
+// default values added and every staff value kept (AddNewLimits). serve
 // calls it as it starts and migrate up after migrating; nothing that
 // answers a request does.
 func (s *Store) SeedDefaultLimits(ctx context.Context) (bool, error) {
@@ -48,7 +51,47 @@ func (s *Store) SeedDefaultLimits(ctx context.Context) (bool, error) {
 	if err != nil {
 		return false, fmt.Errorf("encode default limits: %w", err)
 	}
-	return s.EnsureDefaultLimits(ctx, body, defaultLimitsNote)
+	seeded, err := s.EnsureDefaultLimits(ctx, body, defaultLimitsNote)
+	if err != nil {
+		return false, err
+	}
+	if _, err := s.AddNewLimits(ctx); err != nil {
+		return false, err
+	}
+	return seeded, nil
+}
+
+// AddNewLimits stores, when the current limits version lacks values that
+// checks added since need, a new version with the defaults' values added,
+// and returns it (0 when nothing was missing). Two replicas starting
+// together store it once: the second finds the first's version complete.
+func (s *Store) AddNewLimits(ctx context.Context) (int, error) {
+	cur, err := s.CurrentLimits(ctx)
+	if err != nil {
+		return 0, err
+	}
+	var l review.Limits
+	if err := jsonv2.Unmarshal(cur.Body, &l); err != nil {
+		return 0, fmt.Errorf("decode limits v%d: %w", cur.Version, err)
+	}
+	filled, added := l.WithNewDefaults()
+	if len(added) == 0 {
+		return 0, nil
+	}
+	body, err := jsonv2.Marshal(filled, domain.StrictJSON())
+	if err != nil {
+		return 0, fmt.Errorf("encode limits v%d with new defaults: %w", cur.Version, err)
+	}
+	note := fmt.Sprintf("v%d with the defaults added for checks it predates (%s); every staff value kept",
+		cur.Version, strings.Join(added, ", "))
+	put, err := s.PutLimits(ctx, domain.User{Name: defaultLimitsActor}, cur.Version, body, note)
+	if errors.Is(err, domain.ErrPreconditionFailed) {
+		return 0, nil // another replica stored it first
+	}
+	if err != nil {
+		return 0, fmt.Errorf("store limits with new defaults: %w", err)
+	}
+	return put.Version, nil
 }
 
 // EnsureDefaultLimits stores body as version 1 unless a version 1 exists,

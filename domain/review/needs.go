@@ -1,0 +1,108 @@
+package review
+
+import (
+	"errors"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/go-json-experiment/json"
+
+	"wattshelf/domain"
+)
+
+// limitsNeed is what a check added after the first limits sets needs from
+// a limits set. A set stored before the check existed lacks it: a review
+// under that set does not run the check and says so in a caution, and
+// PUT /v1/limits refuses a set without it.
+type limitsNeed struct {
+	check string
+	// missing lists the JSON pointers of the values l lacks, nil when it
+	// has them all.
+	missing func(l *Limits) []string
+	// fill gives l what it lacks from defaults, keeping every value staff
+	// set. Rows the defaults do not have (a staff-added family) get a
+	// cautious value named in their source, so the filled set validates.
+	fill func(l *Limits, defaults *Limits)
+}
+
+// limitsNeeds are the needs of every check that older limits sets cannot
+// run, each family of checks declaring its own.
+func limitsNeeds() []limitsNeed {
+	return slices.Concat(faultNeeds(), partHazardNeeds())
+}
+
+// missing lists every value a newer check needs that l leaves out.
+func (l *Limits) missing() []string {
+	var out []string
+	for _, n := range limitsNeeds() {
+		out = append(out, n.missing(l)...)
+	}
+	return out
+}
+
+// completed is l with every value a newer check needs filled from the
+// defaults, and the checks whose values l itself lacked: a review under l
+// does not run those. l is left as it is.
+func (l Limits) completed() (filled Limits, notRun []string) {
+	filled = l.clone()
+	defaults := DefaultLimits()
+	for _, n := range limitsNeeds() {
+		if len(n.missing(&l)) == 0 {
+			continue
+		}
+		n.fill(&filled, &defaults)
+		if !slices.Contains(notRun, n.check) {
+			notRun = append(notRun, n.check)
+		}
+	}
+	return filled, notRun
+}
+
+// WithNewDefaults is l with the values added since it was written taken
+// from the defaults, and the checks those values serve; nothing when l
+// lacks none. Staff values are kept. serve and migrate up store the result
+// as a new limits version, so reviews under the current limits run every
+// check.
+func (l Limits) WithNewDefaults() (Limits, []string) {
+	filled, added := l.completed()
+	if len(added) == 0 {
+		return l, nil
+	}
+	return filled, added
+}
+
+// clone copies l through JSON, so filling the copy leaves every table of
+// l untouched. Limits are prepared once per version, not per review.
+func (l Limits) clone() Limits {
+	data, err := json.Marshal(l)
+	if err != nil {
+		panic("review: limits do not encode: " + err.Error())
+	}
+	var c Limits
+	if err := json.Unmarshal(data, &c); err != nil {
+		panic("review: limits do not decode: " + err.Error())
+	}
+	return c
+}
+
+// notRunCaution names the checks a review skipped because its limits
+// predate them.
+func notRunCaution(notRun []string, version int) string {
+	return "Limits v" + strconv.Itoa(version) + " were written before these checks, so this review did not run them: " +
+		strings.Join(notRun, ", ") + ". They are not passes. Review again under the current limits."
+}
+
+// addProblems records every problem of a validation error in p.
+func addProblems(p *domain.Problems, err error) {
+	var ve *domain.ValidationError
+	if errors.As(err, &ve) {
+		for _, fp := range ve.Problems {
+			p.Add(fp.Pointer, "%s", fp.Detail)
+		}
+		return
+	}
+	if err != nil {
+		p.Add("", "%v", err)
+	}
+}
