@@ -258,6 +258,7 @@ func TestFormat1ReportStillRenders(t *testing.T) {
 		"pack lasts about",                         // a message
 		"33 CFR 183.455",                           // a basis
 		"review engine 1",                          // the engine that made it
+		"Made under older rules: review again",     // and that it is not today's
 		`data-status="warn"`, `data-status="pass"`, // its findings
 	} {
 		if !strings.Contains(html, want) {

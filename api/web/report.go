@@ -56,6 +56,10 @@ type reportPage struct {
 	Nodes         []review.NodeResult
 	Cautions      []string
 	Rules         map[string]review.Rule
+	// OlderRules says the review was made by an older engine or under
+	// limits that predate some checks (NotRun): it should be made again.
+	OlderRules bool
+	NotRun     []string
 	// NoDocument says the tree lacks what only the document held.
 	NoDocument   bool
 	ShareID      string
@@ -95,6 +99,7 @@ func reportView(in ReportInput) reportPage {
 		DesignName: in.DesignName, Status: string(rep.Status), Counts: rep.Counts,
 		LimitsVersion: rep.LimitsVersion, EngineVersion: rep.EngineVersion, ReviewedAt: in.ReviewedAt,
 		Nodes: rep.Nodes, Cautions: rep.Cautions, Rules: rep.Rules,
+		OlderRules: rep.EngineVersion != review.EngineVersion || len(rep.NotRun) > 0, NotRun: rep.NotRun,
 	}
 	if page.DesignName == "" {
 		page.DesignName = "Untitled design"
@@ -149,6 +154,11 @@ func summaryView(page reportPage, rep review.Report, worst map[string]review.Sta
 func headline(rep review.Report) string {
 	switch rep.Status {
 	case review.Pass:
+		if len(rep.NotRun) > 0 {
+			return fmt.Sprintf("Every check that was run passed, but %s not run under limits version %d: review again "+
+				"under the current limits before you connect the battery.", domain.CountOf(len(rep.NotRun), "check was", "checks were"),
+				rep.LimitsVersion)
+		}
 		if rep.Counts.Pass == 1 {
 			return "The one check passed. Inspect the build before you connect the battery all the same."
 		}

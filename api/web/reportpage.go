@@ -21,7 +21,7 @@ import (
 // reportViewVersion goes into every report ETag beside the templates'
 // digest: bump it when a change to the Go side of the report page
 // changes what a stored review's page looks like.
-const reportViewVersion = 1
+const reportViewVersion = 2
 
 const noReportMessage = "No report is shared under this address. Check the link you were sent."
 

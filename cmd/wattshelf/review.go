@@ -143,6 +143,7 @@ type reviewReport struct {
 		Fail int `json:"fail"`
 	} `json:"counts"`
 	Checks []reportCheck `json:"checks"`
+	NotRun []string      `json:"not_run"`
 }
 
 // reportCheck is one check of a reviewReport.
@@ -291,6 +292,10 @@ func describeProblem(err error) string {
 func printReviewSummary(w io.Writer, file string, rep reviewReport) {
 	fmt.Fprintf(w, "%s: %s (limits v%d; %d pass, %d warn, %d fail)\n",
 		file, strings.ToUpper(rep.Status), rep.LimitsVersion, rep.Counts.Pass, rep.Counts.Warn, rep.Counts.Fail)
+	if len(rep.NotRun) > 0 {
+		fmt.Fprintf(w, "  not run: limits v%d predate %s; review again under the current limits\n",
+			rep.LimitsVersion, strings.Join(rep.NotRun, ", "))
+	}
 	// Worst first, in the order every part of wattshelf uses.
 	findings := slices.Clone(rep.Checks)
 	slices.SortStableFunc(findings, func(a, b reportCheck) int {

@@ -53,7 +53,7 @@ func insulationColumnsC() []string {
 //     below it);
 //   - 19 AWG to 30 AWG, and metric sizes below 18 AWG: the small-size rule.
 func DefaultConductorTable() ConductorTable {
-	const tableSource = "33 CFR 183.425 Table 5 (30 °C ambient); values from memory except the 18-10 AWG cells at 60 °C and 105 °C quoted in issue 3"
+	const tableSource = "33 CFR 183.425 Table 5 (30 °C ambient); values from memory, except the 18-10 AWG cells at 60 °C and 105 °C, read from the table"
 	cfr := []struct {
 		awg  int
 		amps [7]float64 // 60, 75, 80, 90, 105, 125, 200 °C

@@ -6,8 +6,6 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/go-json-experiment/json"
-
 	"wattshelf/domain"
 )
 
@@ -72,17 +70,16 @@ func (l Limits) WithNewDefaults() (Limits, []string) {
 	return filled, added
 }
 
-// clone copies l through JSON, so filling the copy leaves every table of
-// l untouched. Limits are prepared once per version, not per review.
+// clone copies l with its own tables, so a fill, which sets fields of
+// table rows, leaves l untouched. (A row's own slices and maps are
+// shared: fills do not change them.)
 func (l Limits) clone() Limits {
-	data, err := json.Marshal(l)
-	if err != nil {
-		panic("review: limits do not encode: " + err.Error())
-	}
-	var c Limits
-	if err := json.Unmarshal(data, &c); err != nil {
-		panic("review: limits do not decode: " + err.Error())
-	}
+	c := l
+	c.Conductors.Rows = slices.Clone(l.Conductors.Rows)
+	c.Conductors.Bundling = slices.Clone(l.Conductors.Bundling)
+	c.Fuses.Families = slices.Clone(l.Fuses.Families)
+	c.Chemistries = slices.Clone(l.Chemistries)
+	c.Connectors = slices.Clone(l.Connectors)
 	return c
 }
 
