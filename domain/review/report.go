@@ -109,6 +109,11 @@ type Check struct {
 	WarnAt  *float64 `json:"warn_at,omitzero"`
 	Unit    string   `json:"unit"`
 	Message string   `json:"message"`
+	// Remedies are the changes that clear a warn or fail finding, lightest
+	// first; NoRemedy says why none is offered. Both are filled only when
+	// a proposal was asked for (Rules.Propose).
+	Remedies []Remedy `json:"remedies,omitzero"`
+	NoRemedy string   `json:"no_remedy,omitzero"`
 }
 
 // Rule is what a check applies and where it comes from, written once per
