@@ -5,6 +5,8 @@ import (
 	"slices"
 	"strings"
 	"time"
+
+	"wattshelf/domain/electric"
 )
 
 // ComponentKinds returns the kinds of part the shelf holds.
@@ -165,4 +167,30 @@ func (c Component) Public() ShelfItem {
 		MainsOrigin: c.MainsOrigin, Bin: c.Bin, Quantity: c.Quantity, Condition: c.Condition,
 		SpecSource: c.SpecSource, Electrical: c.Electrical, UpdatedAt: c.UpdatedAt,
 	}
+}
+
+// RatingAreaMM2 is the name Rating gives a wire's conductor area, which
+// a part records as its gauge.
+const RatingAreaMM2 = "area_mm2"
+
+// Rating returns the numeric rating of e named by its JSON name
+// ("max_output_a", "rating_a"), or a wire's conductor area as
+// RatingAreaMM2, and whether the part gives it.
+func (e Electrical) Rating(name string) (float64, bool) {
+	if name == RatingAreaMM2 {
+		g, err := electric.ParseGauge(e.Gauge)
+		return g.AreaMM2, err == nil
+	}
+	v := reflect.ValueOf(e)
+	for _, f := range FieldsOf(v.Type()) {
+		if f.Name != name || (f.Kind != "number" && f.Kind != "integer") {
+			continue
+		}
+		fv := v.FieldByIndex(f.Index)
+		if !isSet(fv) {
+			return 0, false
+		}
+		return number(fv), true
+	}
+	return 0, false
 }
