@@ -313,3 +313,54 @@ func TestReviewCommandJSONLines(t *testing.T) {
 		}
 	}
 }
+
+// The summary prints each remedy under its finding, with the shelf parts
+// that would do it (or that none fits), and why a finding has none.
+func TestReviewSummaryPrintsRemedies(t *testing.T) {
+	// As the service words a proposal; the figures are hand-built:
+	// 1.25 × 6 A = 7.5 A, the next blade rating up is 10 A (common practice).
+	const answer = `{"status": "fail", "limits_version": 1, "counts": {"pass": 3, "warn": 1, "fail": 1},
+	 "checks": [
+	  {"check": "fuse.rating", "node": "drv", "status": "fail", "value": 5, "limit": 7.5, "unit": "A",
+	   "message": "the 5 A fuse is under 1.25 × the 6 A it carries",
+	   "remedies": [{"change": "fit a 10 A blade fuse", "patch": [],
+	                 "part": {"kind": "fuse", "at_least": {"rating_a": 7.5}},
+	                 "shelf": [{"id": 23, "name": "Mini blade fuses 10 A", "bin": "F1 fuses", "quantity": 20},
+	                           {"id": 40, "name": "Loose 15 A blade", "bin": "", "quantity": 1}]},
+	                {"change": "use 14AWG wire", "patch": [], "part": {"kind": "wire"}}]},
+	  {"check": "voltage.range", "node": "lamp", "status": "warn", "value": 9, "limit": 10, "unit": "V",
+	   "message": "browns out before the pack is empty", "no_remedy": "no cell count keeps both loads in their windows"},
+	  {"check": "wire.drop", "node": "lamp", "status": "pass", "value": 1, "limit": 10, "unit": "%", "message": "fine"}]}`
+	var rep reviewReport
+	if err := json.Unmarshal([]byte(answer), &rep); err != nil {
+		t.Fatal(err)
+	}
+	var out bytes.Buffer
+	printReviewSummary(&out, "cart.json", rep)
+	want := `cart.json: FAIL (limits v1; 3 pass, 1 warn, 1 fail)
+  fail fuse.rating at drv: 5 A (limit 7.5 A) the 5 A fuse is under 1.25 × the 6 A it carries
+    fix: fit a 10 A blade fuse
+      on the shelf: Mini blade fuses 10 A (part 23, bin F1 fuses, 20 on hand)
+      on the shelf: Loose 15 A blade (part 40, bin no bin given, 1 on hand)
+    fix: use 14AWG wire
+      on the shelf: no wire that fits
+  warn voltage.range at lamp: 9 V (limit 10 V) browns out before the pack is empty
+    no single change clears it: no cell count keeps both loads in their windows
+`
+	if out.String() != want {
+		t.Errorf("summary:\n%s\nwant:\n%s", out.String(), want)
+	}
+}
+
+func TestProposedPath(t *testing.T) {
+	for file, want := range map[string]string{
+		"designs/cart.json": "designs/cart.proposed.json",
+		"cart":              "cart.proposed.json",
+		"a.b/cart.v2.json":  "a.b/cart.v2.proposed.json",
+		"-":                 "proposed.json",
+	} {
+		if got := proposedPath(file); got != want {
+			t.Errorf("proposedPath(%q) = %q, want %q", file, got, want)
+		}
+	}
+}
