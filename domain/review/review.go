@@ -21,6 +21,14 @@ type reviewer struct {
 	spans   []textSpan // of each check's message in text
 	nums    numbers
 	text    strings.Builder // every message said so far, end to end
+	// quiet reviews only say how each check came out: no messages and no
+	// operating point in the report. Propose checks its changes so.
+	quiet bool
+	// kept for Propose, which works out remedies from them
+	needs   []need
+	slot    []int32
+	protAmp []float64
+	protID  []string
 }
 
 // Rules is a limits set that passed Validate, with what every review
@@ -90,6 +98,14 @@ func (ru *Rules) Review(doc domain.Design, components map[int64]domain.Component
 }
 
 func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component) (Report, error) {
+	rep, _, err := ru.run(doc, components, false)
+	return rep, err
+}
+
+// run reviews a validated document and returns the reviewer too, whose
+// tree holds the operating point. A quiet run leaves out the messages and
+// the operating point: its report says only how each check came out.
+func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, quiet bool) (Report, *reviewer, error) {
 	limits := &ru.limits
 	ambient := limits.Policy.DefaultAmbientC.Value
 	if doc.AmbientC != nil {
@@ -97,14 +113,16 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	}
 	nodes, err := build(doc, limits, components, ambient)
 	if err != nil {
-		return Report{}, err
+		return Report{}, nil, err
 	}
 	t := newTree(nodes)
 	t.solve()
-	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun,
+	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun, quiet: quiet,
 		// A node gets about four checks: its own, and its feed's.
 		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
-	r.text.Grow(320*len(nodes) + 256)
+	if !quiet {
+		r.text.Grow(320*len(nodes) + 256)
+	}
 	rep := Report{
 		Format:        ReportFormat,
 		LimitsVersion: ru.version,
@@ -121,7 +139,8 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	r.scope()
 
 	needs, slot := r.brownouts()
-	protAmp, protID := r.protectedConductors()
+	protAmp, protID := t.protectedConductors(func(i int) float64 { return t.nodes[i].feed.ampacity })
+	r.needs, r.slot, r.protAmp, r.protID = needs, slot, protAmp, protID
 	for i := range t.nodes {
 		n := &t.nodes[i]
 		switch n.kind {
@@ -148,12 +167,18 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 		}
 		if n.feed != nil {
 			r.feedChecks(n, protAmp[i], protID[i])
-			rep.Feeds = append(rep.Feeds, r.feedResult(n))
+			if !quiet {
+				rep.Feeds = append(rep.Feeds, r.feedResult(n))
+			}
 		}
-		rep.Nodes = append(rep.Nodes, r.nodeResult(n))
+		if !quiet {
+			rep.Nodes = append(rep.Nodes, r.nodeResult(n))
+		}
 	}
 
-	r.finishMessages()
+	if !quiet {
+		r.finishMessages()
+	}
 	rep.Checks = r.checks
 	rep.Status = Pass
 	rep.Rules = map[string]Rule{}
@@ -174,9 +199,9 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 		}
 	}
 	if err := rep.checkFinite(); err != nil {
-		return Report{}, fmt.Errorf("review of %q: %w", doc.Name, err)
+		return Report{}, nil, fmt.Errorf("review of %q: %w", doc.Name, err)
 	}
-	return rep, nil
+	return rep, r, nil
 }
 
 // runs reports whether the limits hold what check needs; a check the
@@ -338,9 +363,9 @@ func brownoutList(p electric.Pack, loads []loadNeed, nums *numbers) []Brownout {
 
 // protectedConductors finds, for each feed, the smallest ampacity among the
 // conductors a fuse on it would protect: its own and every feed below it
-// down to the next fuse or regulator.
-func (r *reviewer) protectedConductors() ([]float64, []string) {
-	t := r.t
+// down to the next fuse or regulator. ampacity gives each feed's (Propose
+// asks with the wires it would change).
+func (t *tree) protectedConductors(ampacity func(i int) float64) ([]float64, []string) {
 	amp := make([]float64, len(t.nodes))
 	id := make([]string, len(t.nodes))
 	for k := len(t.order) - 1; k >= 0; k-- {
@@ -349,7 +374,7 @@ func (r *reviewer) protectedConductors() ([]float64, []string) {
 		if n.feed == nil {
 			continue
 		}
-		amp[i], id[i] = n.feed.ampacity, n.id
+		amp[i], id[i] = ampacity(i), n.id
 		if n.kind == kindRegulator {
 			continue
 		}
