@@ -326,8 +326,10 @@ func printProposed(opts reviewOptions, answer reviewAnswer, status string) {
 	case !opts.propose:
 	case answer.ProposedFile == "" && review.Status(status) == review.OutOfScope:
 		fmt.Fprintln(opts.stdout, "  no proposed design: none is proposed for a design out of scope")
+	case answer.ProposedFile == "" && review.Status(status) == review.Pass:
+		fmt.Fprintln(opts.stdout, "  no proposed design: nothing needs changing")
 	case answer.ProposedFile == "":
-		fmt.Fprintln(opts.stdout, "  no proposed design came back")
+		fmt.Fprintln(opts.stdout, "  no proposed design: no finding has a single change that clears it")
 	default:
 		fmt.Fprintf(opts.stdout, "  proposed design written to %s: %s when reviewed\n", answer.ProposedFile, strings.ToUpper(answer.ProposedStatus))
 	}

@@ -364,3 +364,87 @@ func TestProposedPath(t *testing.T) {
 		}
 	}
 }
+
+// --propose prints each finding's remedies and writes the proposed design
+// beside the file; the exit status stays the original design's.
+func TestReviewCommandPropose(t *testing.T) {
+	url, dir, _ := reviewCLIServer(t, api.Config{ReviewBurst: 1000})
+	warn, fail := filepath.Join(dir, "warn.json"), filepath.Join(dir, "fail.json")
+	var stdout, stderr bytes.Buffer
+	err := run(t.Context(), []string{"review", "--propose", "--fail-on", "warn", warn, fail, "--server", url},
+		func(string) string { return "" }, &stdout, &stderr)
+	if reviewExitOf(err) != reviewExitFindings {
+		t.Fatalf("exit %d, want %d: %s", reviewExitOf(err), reviewExitFindings, stderr.String())
+	}
+	out := stdout.String()
+	warnOut, failOut, ok := strings.Cut(out, fail+": FAIL")
+	if !ok {
+		t.Fatalf("no summary of fail.json:\n%s", out)
+	}
+	// warn.json's four 2000 mAh cells last 2 h at 1 A; the 10 h asked
+	// need 10 Ah, five strings of them in parallel (10 / 2).
+	written := filepath.Join(dir, "warn.proposed.json")
+	for _, want := range []string{
+		"  warn source.runtime at pack:",
+		"\n    fix: Use 5 strings of cells in parallel in pack instead of 1",
+		"  proposed design written to " + written + ": PASS when reviewed\n",
+	} {
+		if !strings.Contains(warnOut, want) {
+			t.Errorf("the summary of warn.json lacks %q:\n%s", want, warnOut)
+		}
+	}
+	raw, err := os.ReadFile(written)
+	if err != nil {
+		t.Fatal(err)
+	}
+	doc, err := domain.DecodeDesign(raw)
+	if err != nil {
+		t.Fatalf("the proposed design does not decode: %v\n%s", err, raw)
+	}
+	if p := doc.Nodes[0].Parallel; p == nil || *p != 5 {
+		t.Errorf("the proposed pack has %v strings in parallel, want 5", p)
+	}
+	// fail.json gives a 4.5–5.5 V sensor 14 V from ten NiMH cells, and no
+	// cell count suits it: full, n × 1.4 V ≤ 5.5 V allows 3 cells at most
+	// (4 give 5.6 V); at the 1.0 V cutoff, n × 1.0 V ≥ 4.5 V needs 5 or
+	// more. The summary says so, and nothing is written.
+	for _, want := range []string{
+		"  fail voltage.range at sensor:",
+		"\n    no single change clears it: ",
+		"  no proposed design: no finding has a single change that clears it\n",
+	} {
+		if !strings.Contains(failOut, want) {
+			t.Errorf("the summary of fail.json lacks %q:\n%s", want, failOut)
+		}
+	}
+	if _, err := os.Stat(filepath.Join(dir, "fail.proposed.json")); !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("a proposed design was written for fail.json: %v", err)
+	}
+
+	// With --json the line names the proposed file and its status; a
+	// design out of scope gets none.
+	stdout.Reset()
+	mains := filepath.Join(dir, "mains.json")
+	err = run(t.Context(), []string{"review", "--propose", "--json", warn, mains, "--server", url}, func(string) string { return "" }, &stdout, &stderr)
+	if reviewExitOf(err) != reviewExitOutOfScope {
+		t.Fatalf("exit %d, want %d: %s", reviewExitOf(err), reviewExitOutOfScope, stderr.String())
+	}
+	dec := json.NewDecoder(&stdout)
+	var lines []reviewAnswer
+	for dec.More() {
+		var line reviewAnswer
+		if err := dec.Decode(&line); err != nil {
+			t.Fatal(err)
+		}
+		lines = append(lines, line)
+	}
+	if len(lines) != 2 || lines[0].ProposedFile != written || lines[0].ProposedStatus != "pass" || len(lines[0].Report) == 0 {
+		t.Fatalf("JSON lines %+v", lines)
+	}
+	if lines[1].ProposedFile != "" || len(lines[1].Report) == 0 {
+		t.Errorf("the design out of scope: %+v, want its report and no proposed design", lines[1])
+	}
+	if _, err := os.Stat(filepath.Join(dir, "mains.proposed.json")); !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("a proposed design was written for the design out of scope: %v", err)
+	}
+}
