@@ -796,7 +796,7 @@ type Remedy struct {
 		Value interface{} `json:"value,omitempty"`
 	} `json:"patch"`
 
-	// Shelf The shelf's parts that are what part asks for, best fit first (the least oversized, then those known to work), at most five; only parts the shelf holds at least one of and that are not marked faulty.
+	// Shelf The shelf's parts that are what part asks for, best fit first (the least oversized in current or wire area, then those known to work), at most five; only parts the shelf holds at least one of and that are not marked faulty.
 	Shelf *[]struct {
 		Bin      string `json:"bin"`
 		Id       int    `json:"id"`

@@ -44,20 +44,27 @@ func (n PartNeed) Fits(c domain.Component) bool {
 }
 
 // oversize is how far c's ratings overshoot the least the need asks, as
-// the sum over those ratings of ln(value / least): 0 for a part that
-// meets each exactly, and the same for twice the current as for twice
-// the area. The part that overshoots least is the best fit, leaving the
-// bigger parts for the builds that need them.
-func (n PartNeed) oversize(c domain.Component) float64 {
-	total := 0.0
+// sums over those ratings of ln(value / least): 0 for a part that meets
+// each exactly, and the same for twice the current as for twice the area.
+// size sums the ratings that say how big a part is, the currents it
+// carries and a wire's area: the part that overshoots least there is the
+// best fit, leaving the bigger parts for the builds that need them. rest
+// sums the others (a voltage rating), which only break ties: a fuse rated
+// for 250 V serves a 12 V feed as well as one rated for 32 V.
+func (n PartNeed) oversize(c domain.Component) (size, rest float64) {
 	for _, name := range slices.Sorted(maps.Keys(n.AtLeast)) {
 		least := n.AtLeast[name]
 		v, _ := c.Rating(name)
-		if least > 0 && v > least {
-			total += math.Log(v / least)
+		if least <= 0 || v <= least {
+			continue
+		}
+		if name == domain.RatingAreaMM2 || strings.HasSuffix(name, "_a") {
+			size += math.Log(v / least)
+		} else {
+			rest += math.Log(v / least)
 		}
 	}
-	return total
+	return size, rest
 }
 
 // conditionRank puts a part known to work before an untested one.
@@ -69,23 +76,25 @@ func conditionRank(condition string) int {
 }
 
 // Rank returns the parts of shelf that fit the need, best fit first: the
-// least oversized, then those known to work before untested ones, then by
-// id so the order is the same every time.
+// least oversized in current or area, then those known to work before
+// untested ones, then the least oversized in other ratings, then by id so
+// the order is the same every time.
 func (n PartNeed) Rank(shelf []domain.Component) []domain.Component {
 	type scored struct {
-		c        domain.Component
-		oversize float64
+		c          domain.Component
+		size, rest float64
 	}
 	var fit []scored
 	for _, c := range shelf {
 		if n.Fits(c) {
-			fit = append(fit, scored{c, n.oversize(c)})
+			size, rest := n.oversize(c)
+			fit = append(fit, scored{c, size, rest})
 		}
 	}
 	slices.SortFunc(fit, func(a, b scored) int {
-		return cmp.Or(cmp.Compare(a.oversize, b.oversize),
+		return cmp.Or(cmp.Compare(a.size, b.size),
 			cmp.Compare(conditionRank(a.c.Condition), conditionRank(b.c.Condition)),
-			cmp.Compare(a.c.ID, b.c.ID))
+			cmp.Compare(a.rest, b.rest), cmp.Compare(a.c.ID, b.c.ID))
 	})
 	out := make([]domain.Component, len(fit))
 	for i, s := range fit {

@@ -80,6 +80,30 @@ func TestPartNeedRank(t *testing.T) {
 	}
 }
 
+// A higher voltage rating is no oversize that matters: a fuse for a
+// 0.743 A feed on a 12.6 V circuit (three Li-ion cells at 4.2 V full, from
+// memory) must carry 1.25 × 0.743 = 0.93 A (common practice) and be rated
+// 12.6 V or more. A 1 A fuse rated 250 V fits it better than a 5 A one
+// rated 32 V; between two 1 A fuses the lower voltage rating comes first,
+// but a part known to work before an untested one.
+func TestPartNeedRankBySizeBeforeVoltage(t *testing.T) {
+	need := PartNeed{Kind: "fuse", AtLeast: map[string]float64{"rating_a": 0.93, "rating_v": 12.6}}
+	shelf := []domain.Component{
+		shelfPart(1, "blade 5 A", "fuse", 20, "working", domain.Electrical{RatingA: f64(5), RatingV: f64(32)}),
+		shelfPart(2, "glass 1 A", "fuse", 10, "working", domain.Electrical{RatingA: f64(1), RatingV: f64(250)}),
+		shelfPart(3, "blade 1 A", "fuse", 10, "working", domain.Electrical{RatingA: f64(1), RatingV: f64(32)}),
+		shelfPart(4, "blade 1 A untested", "fuse", 10, "untested", domain.Electrical{RatingA: f64(1), RatingV: f64(32)}),
+		shelfPart(5, "blade 1 A, 12 V", "fuse", 10, "working", domain.Electrical{RatingA: f64(1), RatingV: f64(12)}),
+	}
+	var ids []int64
+	for _, c := range need.Rank(shelf) {
+		ids = append(ids, c.ID)
+	}
+	if want := []int64{3, 2, 4, 1}; !slices.Equal(ids, want) {
+		t.Errorf("ranked %v, want %v", ids, want)
+	}
+}
+
 func TestReportFillShelf(t *testing.T) {
 	fuse := &PartNeed{Kind: "fuse", AtLeast: map[string]float64{"rating_a": 7.5}}
 	wire := &PartNeed{Kind: "wire", AtLeast: map[string]float64{domain.RatingAreaMM2: 1.3}}
