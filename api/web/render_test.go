@@ -331,3 +331,45 @@ func findingRow(t *testing.T, html string, c review.Check) string {
 	t.Fatalf("no row for %s at %s", c.Check, c.Node)
 	return ""
 }
+
+// The fume fan's 5 V rail runs from a linear regulator: three Li-ion
+// cells give 3 × 4.2 V = 12.6 V full (from memory), so it sheds
+// (12.6 − 5) V × 0.16 A + 12.6 V × 0.005 A = 1.28 W, and its junction
+// reaches 25 °C + 1.28 W × 65 °C/W = 108 °C, within the 25 °C thermal
+// margin of its 125 °C limit (the limits' policy): a warning, which a
+// buck converter clears. The demo shelf's 3 A buck module (5 V out, up
+// to 28 V in) is such a part and the page names it with its bin; its
+// 7805, a linear regulator, is not offered.
+func TestReportShowsDemoShelfPartUnderAFinding(t *testing.T) {
+	in := demoReport(t, "testdata/demo/designs/fume-fan.json")
+	rules, err := review.Prepare(review.DefaultLimits(), 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := rules.Propose(*in.Design, in.Components)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Report.FillShelf(demoShelf(t))
+	in.Report = p.Report
+	html := renderReportHTML(t, mustViews(t), in)
+	var thermal review.Check
+	for _, c := range p.Report.Checks {
+		if c.Check == review.CheckRegulatorThermal && c.Node == "reg5" {
+			thermal = c
+		}
+	}
+	if thermal.Status != review.Warn {
+		t.Fatalf("regulator.thermal of reg5 is %q, want warn", thermal.Status)
+	}
+	row := findingRow(t, html, thermal)
+	for _, want := range []string{"Would fix it:</strong> Use a buck converter in place of reg5",
+		"Buck module 3 A adjustable (part 9, bin R1 regulators, 6 on hand)"} {
+		if !strings.Contains(row, want) {
+			t.Errorf("the row of reg5's regulator.thermal lacks %q:\n%s", want, row)
+		}
+	}
+	if strings.Contains(row, "7805") {
+		t.Error("a linear regulator is offered in place of a buck converter")
+	}
+}
