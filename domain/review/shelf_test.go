@@ -74,7 +74,7 @@ func TestPartNeedRank(t *testing.T) {
 	for _, c := range need.Rank(shelf) {
 		ids = append(ids, c.ID)
 	}
-	// 10 A overshoots 7.5 A by ln(10/7.5) = 0.29, 15 A by 0.69, 20 A by 0.98.
+	// 10 A overshoots 7.5 A by 10/7.5 = 1.33 times, 15 A by 2, 20 A by 2.67.
 	if want := []int64{3, 7, 2, 6, 1}; !slices.Equal(ids, want) {
 		t.Errorf("ranked %v, want %v", ids, want)
 	}
