@@ -53,7 +53,7 @@ func niceUp(x float64) float64 {
 		return 0
 	}
 	step := math.Pow10(int(math.Floor(math.Log10(x))) - 1)
-	return math.Round(math.Ceil(x/step-1e-9)) * step
+	return clean(math.Ceil(x/step-1e-9) * step)
 }
 
 // niceDown rounds x > 0 down to two significant digits.
@@ -62,7 +62,7 @@ func niceDown(x float64) float64 {
 		return 0
 	}
 	step := math.Pow10(int(math.Floor(math.Log10(x))) - 1)
-	return math.Round(math.Floor(x/step+1e-9)) * step
+	return clean(math.Floor(x/step+1e-9) * step)
 }
 
 // ratingFor is the least two-digit rating of at least need that ok
