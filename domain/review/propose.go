@@ -82,7 +82,8 @@ func (ru *Rules) Propose(doc domain.Design, components map[int64]domain.Componen
 	if err := doc.Validate(); err != nil {
 		return Proposal{}, err
 	}
-	rep, r, err := ru.run(doc, components, false)
+	r := &reviewer{}
+	rep, err := ru.run(doc, components, r)
 	if err != nil {
 		return Proposal{}, err
 	}
@@ -415,7 +416,7 @@ func (p *proposer) offer() bool {
 
 // recheck reviews a changed design quietly.
 func (p *proposer) recheck(d domain.Design) (Report, error) {
-	rep, _, err := p.ru.run(d, p.comps, true)
+	rep, err := p.ru.run(d, p.comps, &reviewer{quiet: true})
 	if err != nil {
 		return Report{}, fmt.Errorf("review a proposed change: %w", err)
 	}

@@ -183,15 +183,18 @@ func (p *proposer) wireCandidates(i int, check string) ([]candidate, string) {
 // protectedWith is protectedConductors with the wires gauges gives.
 func (p *proposer) protectedWith(gauges map[int]electric.Gauge) ([]float64, []string) {
 	t := p.r.t
-	return t.protectedConductors(func(j int) float64 {
-		if g, ok := gauges[j]; ok {
-			f := t.nodes[j].feed
-			if a, err := p.ru.limits.Conductors.Ampacity(g, f.insulationC, f.bundled); err == nil {
-				return a
+	amp := make([]float64, len(t.nodes))
+	for j := range t.nodes {
+		if f := t.nodes[j].feed; f != nil {
+			amp[j] = f.ampacity
+			if g, ok := gauges[j]; ok {
+				if a, err := p.ru.limits.Conductors.Ampacity(g, f.insulationC, f.bundled); err == nil {
+					amp[j] = a
+				}
 			}
 		}
-		return t.nodes[j].feed.ampacity
-	})
+	}
+	return t.protectedConductors(amp)
 }
 
 // firstGauges are the wires the proposal's first remedies give each feed:
