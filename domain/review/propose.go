@@ -82,7 +82,8 @@ func (ru *Rules) Propose(doc domain.Design, components map[int64]domain.Componen
 	if err := doc.Validate(); err != nil {
 		return Proposal{}, err
 	}
-	rep, r, err := ru.run(doc, components, false)
+	r := &reviewer{}
+	rep, err := ru.run(doc, components, r)
 	if err != nil {
 		return Proposal{}, err
 	}
@@ -163,9 +164,10 @@ func (p *proposer) generate() {
 		return
 	}
 	gauges := p.firstGauges()
+	protAmp, protID := p.protectedWith(gauges)
 	for _, k := range fuses {
 		f := &p.findings[k]
-		f.cands, f.noRemedy = p.fuseCandidates(p.rep.Checks[f.check], f.node, gauges)
+		f.cands, f.noRemedy = p.fuseCandidates(p.rep.Checks[f.check], f.node, gauges, protAmp, protID)
 		p.initTries(f)
 	}
 }
@@ -202,8 +204,12 @@ func (p *proposer) check(pick func(k int) int) (domain.Design, outcome, error) {
 		return domain.Design{}, outcome{}, err
 	}
 	o := outcome{status: rep.Status, worse: p.worsened(rep)}
+	now := make(map[checkKey]Status, len(rep.Checks))
+	for _, c := range rep.Checks {
+		now[keyOf(c)] = c.Status
+	}
 	for k := range p.findings {
-		if pick(k) >= 0 && !p.cleared(rep, &p.findings[k]) {
+		if pick(k) >= 0 && !p.cleared(now, &p.findings[k]) {
 			o.open = append(o.open, k)
 		}
 	}
@@ -378,10 +384,18 @@ func (p *proposer) offer() bool {
 	for k := range p.findings {
 		f := &p.findings[k]
 		c := &p.rep.Checks[f.check]
-		for i, cand := range f.cands {
-			if !f.proven[i] {
-				continue
+		// The one the proposal applies first, then the others lightest first.
+		order := make([]int, 0, len(f.cands))
+		if f.chosen >= 0 {
+			order = append(order, f.chosen)
+		}
+		for i := range f.cands {
+			if f.proven[i] && i != f.chosen {
+				order = append(order, i)
 			}
+		}
+		for _, i := range order {
+			cand := &f.cands[i]
 			c.Remedies = append(c.Remedies, Remedy{Change: cand.change, Patch: p.patch(cand.edits), Part: cand.part})
 		}
 		switch {
@@ -402,23 +416,19 @@ func (p *proposer) offer() bool {
 
 // recheck reviews a changed design quietly.
 func (p *proposer) recheck(d domain.Design) (Report, error) {
-	rep, _, err := p.ru.run(d, p.comps, true)
+	rep, err := p.ru.run(d, p.comps, &reviewer{quiet: true})
 	if err != nil {
 		return Report{}, fmt.Errorf("review a proposed change: %w", err)
 	}
 	return rep, nil
 }
 
-// cleared reports whether a review has the finding's check passing, or
-// no longer has it (a linear regulator's heat, once it is a converter).
-func (p *proposer) cleared(rep Report, f *finding) bool {
-	want := keyOf(p.rep.Checks[f.check])
-	for _, c := range rep.Checks {
-		if keyOf(c) == want {
-			return c.Status == Pass
-		}
-	}
-	return true
+// cleared reports whether a review (its statuses by check) has the
+// finding's check passing, or no longer has it (a linear regulator's
+// heat, once it is a converter).
+func (p *proposer) cleared(now map[checkKey]Status, f *finding) bool {
+	s, ok := now[keyOf(p.rep.Checks[f.check])]
+	return !ok || s == Pass
 }
 
 // worsened lists the checks of rep that came out worse than in the
@@ -443,40 +453,43 @@ func (p *proposer) worsened(rep Report) []Check {
 // any other every check in its tree. Where a local remedy on the very
 // node can explain a worse check, only it is blamed.
 func (p *proposer) blame(worse []Check, pick func(k int) int) []int {
+	if len(worse) == 0 {
+		return nil
+	}
+	local := map[int][]int{} // by node
+	tree := map[int][]int{}  // by root
+	var all []int
+	for k := range p.findings {
+		c := pick(k)
+		if c < 0 {
+			continue
+		}
+		all = append(all, k)
+		cand := &p.findings[k].cands[c]
+		seen := -1
+		for _, e := range cand.edits {
+			if cand.local {
+				if e.node != seen {
+					local[e.node] = append(local[e.node], k)
+				}
+			} else if root := p.r.t.nodes[e.node].root; root != seen {
+				tree[root] = append(tree[root], k)
+				e.node = root
+			}
+			seen = e.node
+		}
+	}
 	var out []int
 	for _, w := range worse {
 		at, ok := p.index[w.Node]
-		if !ok || w.Node == "" {
+		switch {
+		case !ok || w.Node == "":
 			// A design-wide check: every remedy in play can have moved it.
-			for k := range p.findings {
-				if pick(k) >= 0 {
-					out = append(out, k)
-				}
-			}
-			continue
-		}
-		var local, tree []int
-		for k := range p.findings {
-			c := pick(k)
-			if c < 0 {
-				continue
-			}
-			cand := &p.findings[k].cands[c]
-			for _, e := range cand.edits {
-				if cand.local && e.node == at {
-					local = append(local, k)
-					break
-				}
-				if !cand.local && p.r.t.nodes[e.node].root == p.r.t.nodes[at].root {
-					tree = append(tree, k)
-					break
-				}
-			}
-		}
-		if len(local) > 0 {
-			out = append(out, local...)
-		} else {
-			out = append(out, tree...)
+			out = append(out, all...)
+		case len(local[at]) > 0:
+			out = append(out, local[at]...)
+		default:
+			out = append(out, tree[p.r.t.nodes[at].root]...)
 		}
 	}
 	slices.Sort(out)

@@ -53,7 +53,7 @@ func niceUp(x float64) float64 {
 		return 0
 	}
 	step := math.Pow10(int(math.Floor(math.Log10(x))) - 1)
-	return math.Round(math.Ceil(x/step-1e-9)) * step
+	return clean(math.Ceil(x/step-1e-9) * step)
 }
 
 // niceDown rounds x > 0 down to two significant digits.
@@ -62,7 +62,7 @@ func niceDown(x float64) float64 {
 		return 0
 	}
 	step := math.Pow10(int(math.Floor(math.Log10(x))) - 1)
-	return math.Round(math.Floor(x/step+1e-9)) * step
+	return clean(math.Floor(x/step+1e-9) * step)
 }
 
 // ratingFor is the least two-digit rating of at least need that ok
@@ -180,6 +180,23 @@ func (p *proposer) wireCandidates(i int, check string) ([]candidate, string) {
 		"for %s A over %s m; shorten the run or split the load.", num(n.run), num(n.feed.lengthM))
 }
 
+// protectedWith is protectedConductors with the wires gauges gives.
+func (p *proposer) protectedWith(gauges map[int]electric.Gauge) ([]float64, []string) {
+	t := p.r.t
+	amp := make([]float64, len(t.nodes))
+	for j := range t.nodes {
+		if f := t.nodes[j].feed; f != nil {
+			amp[j] = f.ampacity
+			if g, ok := gauges[j]; ok {
+				if a, err := p.ru.limits.Conductors.Ampacity(g, f.insulationC, f.bundled); err == nil {
+					amp[j] = a
+				}
+			}
+		}
+	}
+	return t.protectedConductors(amp)
+}
+
 // firstGauges are the wires the proposal's first remedies give each feed:
 // the thickest where two findings ask for one.
 func (p *proposer) firstGauges() map[int]electric.Gauge {
@@ -206,22 +223,13 @@ func (p *proposer) firstGauges() map[int]electric.Gauge {
 
 // fuseCandidates sizes a fuse for the feed to node i against the wires as
 // the proposal leaves them (gauges), for a missing fuse or a wrong one.
-func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge) ([]candidate, string) {
+func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge, protAmp []float64, protID []string) ([]candidate, string) {
 	if i < 0 {
 		return nil, "No remedy is worked out for a finding on the design as a whole."
 	}
 	t := p.r.t
 	n := &t.nodes[i]
 	l := p.ru.limits.Fuses
-	protAmp, protID := t.protectedConductors(func(j int) float64 {
-		if g, ok := gauges[j]; ok {
-			f := t.nodes[j].feed
-			if a, err := p.ru.limits.Conductors.Ampacity(g, f.insulationC, f.bundled); err == nil {
-				return a
-			}
-		}
-		return t.nodes[j].feed.ampacity
-	})
 	lo, hi := l.ContinuousLoadFactor.Value*n.run, l.MaxAmpacityMultiple.Value*protAmp[i]
 	wire := "the wire to " + protID[i]
 	if g, ok := gauges[p.index[protID[i]]]; ok {
@@ -349,9 +357,13 @@ func (p *proposer) connectorCandidates(i int, ptr string) ([]candidate, string) 
 	need := &PartNeed{Kind: "connector", AtLeast: map[string]float64{"rating_a": needA, "rating_v": needV}}
 	fams := slices.Clone(p.ru.limits.Connectors)
 	slices.SortStableFunc(fams, func(a, b ConnectorFamily) int { return cmp.Compare(a.RatingA, b.RatingA) })
+	own := p.doc.Nodes[i].Feed.Connectors[k]
 	for _, fam := range fams {
 		if n.run > u*fam.RatingA || !(fam.RatingV > 0) || n.vHigh > u*fam.RatingV {
 			continue
+		}
+		if fam.Family == own.Family && (own.RatingA != nil || own.RatingV != nil) {
+			continue // the design rates its pair of this family lower: it knows better
 		}
 		c := domain.Connector{Family: fam.Family}
 		return []candidate{{

@@ -98,14 +98,16 @@ func (ru *Rules) Review(doc domain.Design, components map[int64]domain.Component
 }
 
 func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component) (Report, error) {
-	rep, _, err := ru.run(doc, components, false)
-	return rep, err
+	var r reviewer // on the stack: a plain review keeps nothing of it
+	return ru.run(doc, components, &r)
 }
 
-// run reviews a validated document and returns the reviewer too, whose
-// tree holds the operating point. A quiet run leaves out the messages and
-// the operating point: its report says only how each check came out.
-func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, quiet bool) (Report, *reviewer, error) {
+// run reviews a validated document into r, a zero reviewer or one with
+// only quiet set, whose tree then holds the operating point. A quiet run
+// leaves out the messages and the operating point: its report says only
+// how each check came out.
+func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r *reviewer) (Report, error) {
+	quiet := r.quiet
 	limits := &ru.limits
 	ambient := limits.Policy.DefaultAmbientC.Value
 	if doc.AmbientC != nil {
@@ -113,13 +115,13 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, q
 	}
 	nodes, err := build(doc, limits, components, ambient)
 	if err != nil {
-		return Report{}, nil, err
+		return Report{}, err
 	}
 	t := newTree(nodes)
 	t.solve()
-	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun, quiet: quiet,
-		// A node gets about four checks: its own, and its feed's.
-		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
+	r.t, r.limits, r.ambient, r.notRun = t, limits, ambient, ru.notRun
+	// A node gets about four checks: its own, and its feed's.
+	r.checks, r.spans = make([]Check, 0, 4*len(nodes)+8), make([]textSpan, 0, 4*len(nodes)+8)
 	if !quiet {
 		r.text.Grow(320*len(nodes) + 256)
 	}
@@ -139,7 +141,7 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, q
 	r.scope()
 
 	needs, slot := r.brownouts()
-	protAmp, protID := t.protectedConductors(func(i int) float64 { return t.nodes[i].feed.ampacity })
+	protAmp, protID := t.protectedConductors(nil)
 	r.needs, r.slot, r.protAmp, r.protID = needs, slot, protAmp, protID
 	for i := range t.nodes {
 		n := &t.nodes[i]
@@ -199,9 +201,9 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, q
 		}
 	}
 	if err := rep.checkFinite(); err != nil {
-		return Report{}, nil, fmt.Errorf("review of %q: %w", doc.Name, err)
+		return Report{}, fmt.Errorf("review of %q: %w", doc.Name, err)
 	}
-	return rep, r, nil
+	return rep, nil
 }
 
 // runs reports whether the limits hold what check needs; a check the
@@ -363,9 +365,9 @@ func brownoutList(p electric.Pack, loads []loadNeed, nums *numbers) []Brownout {
 
 // protectedConductors finds, for each feed, the smallest ampacity among the
 // conductors a fuse on it would protect: its own and every feed below it
-// down to the next fuse or regulator. ampacity gives each feed's (Propose
-// asks with the wires it would change).
-func (t *tree) protectedConductors(ampacity func(i int) float64) ([]float64, []string) {
+// down to the next fuse or regulator. A non-nil ampacity stands in for
+// the feeds' own (Propose asks with the wires it would change).
+func (t *tree) protectedConductors(ampacity []float64) ([]float64, []string) {
 	amp := make([]float64, len(t.nodes))
 	id := make([]string, len(t.nodes))
 	for k := len(t.order) - 1; k >= 0; k-- {
@@ -374,7 +376,10 @@ func (t *tree) protectedConductors(ampacity func(i int) float64) ([]float64, []s
 		if n.feed == nil {
 			continue
 		}
-		amp[i], id[i] = ampacity(i), n.id
+		amp[i], id[i] = n.feed.ampacity, n.id
+		if ampacity != nil {
+			amp[i] = ampacity[i]
+		}
 		if n.kind == kindRegulator {
 			continue
 		}
