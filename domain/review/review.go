@@ -300,27 +300,29 @@ func (r *reviewer) brownouts() (needs []need, slot []int32) {
 
 func (r *reviewer) runtime(n *node, nd *need) RuntimeResult {
 	p := n.pack
-	share := 0.0
-	var limitedBy string
-	switch {
-	case nd.brownoutV > p.CutoffV():
+	share := p.UsableShare(0)
+	if nd.brownoutV > p.CutoffV() {
 		share = p.UsableShare(nd.brownoutV)
-		limitedBy = fmt.Sprintf("brownout of %s at %s V", nd.brownoutID, num(nd.brownoutV))
-	default:
-		share = p.UsableShare(0)
-		limitedBy = fmt.Sprintf("cell cutoff at %s V", num(p.CutoffV()))
 	}
-	if len(nd.never) > 0 {
-		limitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
-	}
-	res := RuntimeResult{Source: n.id, UsableShare: clean(share), LimitedBy: limitedBy,
-		Pack: packFacts(*p), Brownouts: brownoutList(*p, nd.loads, &r.nums)}
+	res := RuntimeResult{Source: n.id, UsableShare: clean(share)}
 	// A vanishing average current gives hours too large to print; the
 	// runtime is then simply not a concern and is left out.
 	if h := p.RuntimeH(n.avg, share); n.avg > 0 && !math.IsInf(h, 0) && !math.IsNaN(h) {
 		h = clean(h)
 		res.Hours = &h
 	}
+	if r.quiet { // the hours are all its check needs
+		return res
+	}
+	if nd.brownoutV > p.CutoffV() {
+		res.LimitedBy = fmt.Sprintf("brownout of %s at %s V", nd.brownoutID, num(nd.brownoutV))
+	} else {
+		res.LimitedBy = fmt.Sprintf("cell cutoff at %s V", num(p.CutoffV()))
+	}
+	if len(nd.never) > 0 {
+		res.LimitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
+	}
+	res.Pack, res.Brownouts = packFacts(*p), brownoutList(*p, nd.loads, &r.nums)
 	return res
 }
 
