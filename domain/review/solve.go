@@ -141,7 +141,7 @@ func (t *tree) currents() float64 {
 // cannot carry the power at all; the regulator is marked collapsed and
 // draws the most the feed can deliver, V_p/(2R), at V_p/2.
 func (t *tree) switchingCurrents(n *node) {
-	vp := t.nodes[n.parent].outLow
+	vp := t.nodes[n.parent].outLow - n.revDropV
 	r := n.feed.resistance
 	powerIn := n.outputV * n.outRun / n.efficiency
 	n.collapsed = false
@@ -192,7 +192,9 @@ func (t *tree) voltages() {
 			n.vLow, n.vNom, n.vHigh = n.outputV, n.outputV, n.outputV
 		default:
 			p := &t.nodes[n.parent]
-			drop := n.run * n.feed.resistance
+			// A reverse-polarity diode or FET loses its drop at the low and
+			// nominal ends; the high end, at no load, is taken without it.
+			drop := n.run*n.feed.resistance + n.revDropV
 			n.vLow, n.vNom, n.vHigh = max(p.outLow-drop, 0), max(p.outNom-drop, 0), p.outHigh
 		}
 		switch n.kind {
@@ -245,7 +247,7 @@ func (t *tree) paths() {
 			continue
 		}
 		m := t.nodes[n.parent].outPath()
-		drop := n.run * n.feed.resistance
+		drop := n.run*n.feed.resistance + n.revDropV
 		m.ceiling -= drop
 		if !m.flat {
 			m.shift += drop
