@@ -259,7 +259,8 @@ func (r *reviewer) connectorPolarity(n *node) {
 // railSum is what the parts on one rail with a motor ask of the node that
 // makes the rail.
 type railSum struct {
-	motors     []string
+	motors     []string // the first few, for messages
+	motorCount int
 	clampV     float64 // the lowest clamp a driver on the rail states; 0: none
 	lowestMax  float64 // +Inf: no part on the rail states a maximum
 	threatened []int32 // parts other than motors that state a maximum voltage
@@ -287,7 +288,10 @@ func (r *reviewer) rails() map[int32]*railSum {
 			s = &railSum{lowestMax: math.Inf(1)}
 			sums[of[i]] = s
 		}
-		s.motors = append(s.motors, n.id)
+		if len(s.motors) < shownParts {
+			s.motors = append(s.motors, n.id)
+		}
+		s.motorCount++
 	}
 	if sums == nil {
 		return nil
@@ -359,8 +363,8 @@ func (r *reviewer) railBackfeed(n *node, s *railSum) {
 		conds = append(conds, above("clamp", Warn, clamp, s.lowestMax, "V"))
 	}
 	r.emit(CheckRailBackfeed, n.id, conds, func(c cond, passed bool) string {
-		motors, push := joinIDs(s.motors), " pushes"
-		if len(s.motors) > 1 {
+		motors, push := s.motorText(), " pushes"
+		if s.motorCount > 1 {
 			push = " push"
 		}
 		switch {
@@ -380,7 +384,7 @@ func (r *reviewer) railBackfeed(n *node, s *railSum) {
 			threat = "the rise threatens " + r.threatenedText(s, math.Inf(1))
 		}
 		slows := " slows down or stops, the current it pushes"
-		if len(s.motors) > 1 {
+		if s.motorCount > 1 {
 			slows = " slow down or stop, the current they push"
 		}
 		return n.id + " is " + sinkless(n) + ": when " + motors + slows + " back has " +
@@ -401,10 +405,21 @@ func sinkless(n *node) string {
 	return "a switching regulator that does not state it sinks current"
 }
 
+// shownParts is how many parts a message names before it counts the rest:
+// a rail of a large design can feed thousands.
+const shownParts = 5
+
+// motorText names the motors on a rail: the first few, then how many more.
+func (s *railSum) motorText() string {
+	if more := s.motorCount - len(s.motors); more > 0 {
+		return strings.Join(s.motors, ", ") + " and " + strconv.Itoa(more) + " more"
+	}
+	return joinIDs(s.motors)
+}
+
 // threatenedText lists the parts on a rail whose maximum voltage is below
 // under, with their maxima; the first few, then how many more.
 func (r *reviewer) threatenedText(s *railSum, under float64) string {
-	const shown = 5
 	var parts []string
 	more := 0
 	for _, j := range s.threatened {
@@ -413,7 +428,7 @@ func (r *reviewer) threatenedText(s *railSum, under float64) string {
 		if m >= under {
 			continue
 		}
-		if len(parts) == shown {
+		if len(parts) == shownParts {
 			more++
 			continue
 		}

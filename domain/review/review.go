@@ -102,9 +102,10 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	t := newTree(nodes)
 	t.solve()
 	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun,
-		// A node gets about four checks: its own, and its feed's.
-		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
-	r.text.Grow(320*len(nodes) + 256)
+		// A node gets about four checks: its own, and its feed's; a
+		// switching regulator one more for its heat.
+		checks: make([]Check, 0, 4*len(nodes)+t.nSwitching+8), spans: make([]textSpan, 0, 4*len(nodes)+t.nSwitching+8)}
+	r.text.Grow(320*len(nodes) + 80*t.nSwitching + 256)
 	rep := Report{
 		Format:        ReportFormat,
 		LimitsVersion: ru.version,

@@ -22,6 +22,7 @@ type tree struct {
 	childStart []int32 // children of i are child[childStart[i]:childStart[i+1]]
 	child      []int32
 	switching  bool // any switching regulator
+	nSwitching int  // how many: each gets a heat check of its own
 	converged  bool
 	steps      int
 }
@@ -36,6 +37,7 @@ func newTree(nodes []node) *tree {
 		}
 		if nodes[i].switching() {
 			t.switching = true
+			t.nSwitching++
 		}
 	}
 	for i := 0; i < n; i++ {
