@@ -1,7 +1,6 @@
 package review
 
 import (
-	"errors"
 	"fmt"
 	"slices"
 	"strings"
@@ -398,7 +397,7 @@ func TestOlderLimitsLackThePartHazardValues(t *testing.T) {
 	}
 	want = append(want, "/regulators/no_heatsink_max_w")
 	var got []string
-	for _, p := range problemsOf(t, l.Validate()) {
+	for _, p := range problems(t, l.Validate()) {
 		got = append(got, p.Pointer)
 	}
 	slices.Sort(got)
@@ -468,18 +467,9 @@ func TestOlderLimitsLackThePartHazardValues(t *testing.T) {
 func TestPartHazardLimitsValidate(t *testing.T) {
 	l := DefaultLimits()
 	l.Regulators.NoHeatsinkMaxW.Value = 0
-	if ps := problemsOf(t, l.Validate()); !hasPointer(ps, "/regulators/no_heatsink_max_w/value") {
+	if ps := problems(t, l.Validate()); !hasPointer(ps, "/regulators/no_heatsink_max_w/value") {
 		t.Errorf("a board limit of 0 W: %v", ps)
 	}
-}
-
-func problemsOf(t *testing.T, err error) []domain.FieldProblem {
-	t.Helper()
-	var ve *domain.ValidationError
-	if !errors.As(err, &ve) {
-		t.Fatalf("want a *domain.ValidationError, got %T: %v", err, err)
-	}
-	return ve.Problems
 }
 
 func hasPointer(ps []domain.FieldProblem, ptr string) bool {
