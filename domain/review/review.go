@@ -102,9 +102,10 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	t := newTree(nodes)
 	t.solve()
 	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun,
-		// A node gets about four checks: its own, and its feed's.
-		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
-	r.text.Grow(320*len(nodes) + 256)
+		// A node gets about four checks: its own, and its feed's; a
+		// switching regulator one more for its heat.
+		checks: make([]Check, 0, 4*len(nodes)+t.nSwitching+8), spans: make([]textSpan, 0, 4*len(nodes)+t.nSwitching+8)}
+	r.text.Grow(320*len(nodes) + 80*t.nSwitching + 256)
 	rep := Report{
 		Format:        ReportFormat,
 		LimitsVersion: ru.version,
@@ -122,6 +123,8 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 
 	needs, slot := r.brownouts()
 	protAmp, protID := r.protectedConductors()
+	rails := r.rails()
+	heatRuns, polarityRuns := r.runs(CheckRegulatorHeat), r.runs(CheckConnectorPolarity)
 	for i := range t.nodes {
 		n := &t.nodes[i]
 		switch n.kind {
@@ -133,21 +136,39 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 			if run.Hours != nil {
 				r.sourceRuntime(n, *run.Hours, doc.TargetRuntimeH, run.LimitedBy)
 			}
+			if n.protection != nil {
+				amp, id := r.minUnfusedAmpacity(i, protAmp, protID)
+				r.batteryProtection(n, amp, id)
+				if c := perStringCaution(n); c != "" {
+					rep.Cautions = append(rep.Cautions, c)
+				}
+			}
 		case kindSupply:
 			r.sourceCurrent(n, math.Inf(-1), "")
 		case kindRegulator:
 			r.regulatorHeadroom(n)
 			r.regulatorCurrent(n)
-			if n.topo == topoLinear {
+			switch {
+			case n.thetaJA > 0:
 				r.regulatorThermal(n)
+			case heatRuns:
+				r.regulatorHeat(n)
 			}
 		case kindDriver:
 			r.driverChecks(n)
 		case kindMotor, kindLoad:
 			r.voltageRange(n)
 		}
+		if rails != nil && (n.isSource() || n.kind == kindRegulator) {
+			if s := rails[int32(i)]; s != nil {
+				r.railBackfeed(n, s)
+			}
+		}
 		if n.feed != nil {
 			r.feedChecks(n, protAmp[i], protID[i])
+			if polarityRuns {
+				r.connectorPolarity(n)
+			}
 			rep.Feeds = append(rep.Feeds, r.feedResult(n))
 		}
 		rep.Nodes = append(rep.Nodes, r.nodeResult(n))
@@ -374,11 +395,11 @@ func (r *reviewer) nodeResult(n *node) NodeResult {
 	if n.kind == kindRegulator {
 		res.Collapsed = n.switching() && (n.collapsed || !r.t.converged)
 		res.OutVLow, res.OutVNominal, res.OutVHigh = r.nums.ptr(n.outLow), r.nums.ptr(n.outNom), r.nums.ptr(n.outHigh)
-		if n.topo == topoLinear {
+		if n.thetaJA > 0 {
 			p, tj := r.junction(n)
 			res.DissipationW, res.JunctionC = r.nums.ptr(p), r.nums.ptr(tj)
 		} else {
-			res.DissipationW = r.nums.ptr(electric.SwitchingLossW(n.outputV, n.outRun, n.efficiency))
+			res.DissipationW = r.nums.ptr(heat(n))
 		}
 	}
 	return res
