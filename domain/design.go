@@ -120,6 +120,9 @@ type Connector struct {
 	Family  string   `json:"family,omitzero" doc:"a stored connector family; its ratings fill what is left out"`
 	RatingA *float64 `json:"rating_a,omitzero" unit:"A" min:"0.001" max:"1000" doc:"current rating"`
 	RatingV *float64 `json:"rating_v,omitzero" unit:"V" min:"0.001" max:"1000" doc:"voltage rating"`
+	// A stored family says whether it fixes polarity; only a connector of
+	// no family says it here.
+	FixesPolarity *bool `json:"fixes_polarity,omitzero" default:"false" doc:"a connector that names no family: true when it cannot be mated the wrong way round (a keyed housing wired to a standard); a family's stored entry says it for a connector that names one"`
 }
 
 // ComponentIDs returns the stored components the design refers to, each
@@ -302,6 +305,7 @@ func (n Node) checkConsistency(p *Problems, ptr string) {
 	below(n.CellCutoffV, n.CellNominalV, "cell_cutoff_v", "cell_nominal_v", "")
 	below(n.CellNominalV, n.CellFullV, "cell_nominal_v", "cell_full_v", "")
 	below(n.CellCutoffV, n.CellFullV, "cell_cutoff_v", "cell_full_v", "")
+	below(n.ProtectionCellUnderV, n.ProtectionCellOverV, "protection_cell_under_v", "protection_cell_over_v", "")
 	if n.NoLoadA != nil && n.StallA != nil && *n.NoLoadA >= *n.StallA {
 		p.Add(ptr+"/no_load_a", "is %g A, not below stall_a %g A", *n.NoLoadA, *n.StallA)
 	}
@@ -378,6 +382,9 @@ func (f *Feed) check(p *Problems, ptr string) {
 		checkDeclared(p, cp, reflect.ValueOf(c).Elem(), "", "")
 		if c.Family == "" && c.RatingA == nil {
 			p.Add(cp+"/rating_a", "is required when the connector names no family")
+		}
+		if c.Family != "" && c.FixesPolarity != nil {
+			p.Add(cp+"/fixes_polarity", "is for a connector that names no family: the stored family %q says whether it fixes polarity", c.Family)
 		}
 	}
 }

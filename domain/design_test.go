@@ -250,6 +250,29 @@ func TestValidateFindsEachProblem(t *testing.T) {
 		{"connector without rating", func(_ map[string]any, n []any) { feedOf(n, 1)["connectors"] = []any{map[string]any{}} }, "/nodes/1/feed/connectors/0/rating_a", "names no family"},
 		{"bad component id", func(_ map[string]any, n []any) { node(n, 4)["component_id"] = 0 }, "/nodes/4/component_id", "at least 1"},
 		{"ambient", func(d map[string]any, _ []any) { d["ambient_c"] = 500 }, "/ambient_c", "at most 100 °C"},
+		// The part hazard fields.
+		{"protection over-voltage past a cell", func(_ map[string]any, n []any) { node(n, 0)["protection_cell_over_v"] = 25 }, "/nodes/0/protection_cell_over_v", "at most 20 V"},
+		{"protection trip of zero", func(_ map[string]any, n []any) { node(n, 0)["protection_trip_a"] = 0 }, "/nodes/0/protection_trip_a", "at least 0.001 and"},
+		{"protection cut-offs crossed", func(_ map[string]any, n []any) {
+			node(n, 0)["protection_cell_under_v"] = 4.3
+			node(n, 0)["protection_cell_over_v"] = 4.2
+		}, "/nodes/0/protection_cell_under_v", "above protection_cell_over_v"},
+		{"per-string protection on a load", func(_ map[string]any, n []any) { node(n, 4)["protection_per_string"] = true }, "/nodes/4/protection_per_string", "does not apply to a load"},
+		{"reverse protection drop past 10 V", func(_ map[string]any, n []any) { node(n, 4)["reverse_protection_drop_v"] = 12 }, "/nodes/4/reverse_protection_drop_v", "at most 10 V"},
+		{"negative reverse protection drop", func(_ map[string]any, n []any) { node(n, 1)["reverse_protection_drop_v"] = -0.3 }, "/nodes/1/reverse_protection_drop_v", "at least 0 and"},
+		{"reverse protection on a motor", func(_ map[string]any, n []any) { node(n, 2)["reverse_protection_drop_v"] = 0.3 }, "/nodes/2/reverse_protection_drop_v", "does not apply to a motor"},
+		{"polarity-free driver", func(_ map[string]any, n []any) { node(n, 1)["polarity_free"] = true }, "/nodes/1/polarity_free", "does not apply to a driver"},
+		{"clamp of zero", func(_ map[string]any, n []any) { node(n, 1)["clamp_v"] = 0 }, "/nodes/1/clamp_v", "at least 0.001 and"},
+		{"clamp past 1 kV", func(_ map[string]any, n []any) { node(n, 3)["clamp_v"] = 1200 }, "/nodes/3/clamp_v", "at most 1000 V"},
+		{"linear regulator that sinks", func(_ map[string]any, n []any) { node(n, 3)["sinks_current"] = true }, "/nodes/3/sinks_current", "does not apply to a linear regulator"},
+		{"thermal resistance of a buck out of range", func(_ map[string]any, n []any) {
+			node(n, 3)["topology"] = "buck"
+			delete(node(n, 3), "dropout_v")
+			node(n, 3)["theta_ja_c_per_w"] = 0.01
+		}, "/nodes/3/theta_ja_c_per_w", "at least 0.1"},
+		{"polarity of a connector with a family", func(_ map[string]any, n []any) {
+			feedOf(n, 1)["connectors"] = []any{map[string]any{"family": "xt30", "fixes_polarity": false}}
+		}, "/nodes/1/feed/connectors/0/fixes_polarity", "names no family"},
 		{"no nodes", func(d map[string]any, _ []any) { d["nodes"] = []any{} }, "/nodes", "is empty"},
 	}
 	for _, tt := range tests {

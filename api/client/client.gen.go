@@ -234,14 +234,18 @@ func (e RemedyPatchOp) Valid() bool {
 
 // Defines values for ReportChecksCheck.
 const (
+	BatteryProtection ReportChecksCheck = "battery.protection"
+	ConnectorPolarity ReportChecksCheck = "connector.polarity"
 	ConnectorRating   ReportChecksCheck = "connector.rating"
 	DriverCurrent     ReportChecksCheck = "driver.current"
 	DriverVoltage     ReportChecksCheck = "driver.voltage"
 	FuseMissing       ReportChecksCheck = "fuse.missing"
 	FusePlacement     ReportChecksCheck = "fuse.placement"
 	FuseRating        ReportChecksCheck = "fuse.rating"
+	RailBackfeed      ReportChecksCheck = "rail.backfeed"
 	RegulatorCurrent  ReportChecksCheck = "regulator.current"
 	RegulatorHeadroom ReportChecksCheck = "regulator.headroom"
+	RegulatorHeat     ReportChecksCheck = "regulator.heat"
 	RegulatorThermal  ReportChecksCheck = "regulator.thermal"
 	ScopeMains        ReportChecksCheck = "scope.mains"
 	SourceCurrent     ReportChecksCheck = "source.current"
@@ -254,6 +258,10 @@ const (
 // Valid indicates whether the value is a known member of the ReportChecksCheck enum.
 func (e ReportChecksCheck) Valid() bool {
 	switch e {
+	case BatteryProtection:
+		return true
+	case ConnectorPolarity:
+		return true
 	case ConnectorRating:
 		return true
 	case DriverCurrent:
@@ -266,9 +274,13 @@ func (e ReportChecksCheck) Valid() bool {
 		return true
 	case FuseRating:
 		return true
+	case RailBackfeed:
+		return true
 	case RegulatorCurrent:
 		return true
 	case RegulatorHeadroom:
+		return true
+	case RegulatorHeat:
 		return true
 	case RegulatorThermal:
 		return true
@@ -420,6 +432,7 @@ type Component struct {
 	Bin             *string             `json:"bin,omitempty"`
 	CellCapacityMah *float64            `json:"cell_capacity_mah,omitempty"`
 	Chemistry       *string             `json:"chemistry,omitempty"`
+	ClampV          *float64            `json:"clamp_v,omitempty"`
 	Condition       *ComponentCondition `json:"condition,omitempty"`
 	ContinuousA     *float64            `json:"continuous_a,omitempty"`
 	CreatedAt       time.Time           `json:"created_at"`
@@ -448,25 +461,32 @@ type Component struct {
 	Notes *string `json:"notes,omitempty"`
 
 	// Origin What it was salvaged from, or bought.
-	Origin       *string              `json:"origin,omitempty"`
-	OutputV      *float64             `json:"output_v,omitempty"`
-	Owner        string               `json:"owner"`
-	Parallel     *int                 `json:"parallel,omitempty"`
-	PeakA        *float64             `json:"peak_a,omitempty"`
-	Quantity     *int                 `json:"quantity,omitempty"`
-	QuiescentA   *float64             `json:"quiescent_a,omitempty"`
-	RatedV       *float64             `json:"rated_v,omitempty"`
-	RatingA      *float64             `json:"rating_a,omitempty"`
-	RatingV      *float64             `json:"rating_v,omitempty"`
-	RunningA     *float64             `json:"running_a,omitempty"`
-	Series       *int                 `json:"series,omitempty"`
-	SpecSource   *ComponentSpecSource `json:"spec_source,omitempty"`
-	StallA       *float64             `json:"stall_a,omitempty"`
-	ThetaJaCPerW *float64             `json:"theta_ja_c_per_w,omitempty"`
-	TjMaxC       *float64             `json:"tj_max_c,omitempty"`
-	Topology     *string              `json:"topology,omitempty"`
-	UpdatedAt    time.Time            `json:"updated_at"`
-	Version      int                  `json:"version"`
+	Origin                 *string              `json:"origin,omitempty"`
+	OutputV                *float64             `json:"output_v,omitempty"`
+	Owner                  string               `json:"owner"`
+	Parallel               *int                 `json:"parallel,omitempty"`
+	PeakA                  *float64             `json:"peak_a,omitempty"`
+	PolarityFree           *bool                `json:"polarity_free,omitempty"`
+	ProtectionCellOverV    *float64             `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV   *float64             `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString    *bool                `json:"protection_per_string,omitempty"`
+	ProtectionTripA        *float64             `json:"protection_trip_a,omitempty"`
+	Quantity               *int                 `json:"quantity,omitempty"`
+	QuiescentA             *float64             `json:"quiescent_a,omitempty"`
+	RatedV                 *float64             `json:"rated_v,omitempty"`
+	RatingA                *float64             `json:"rating_a,omitempty"`
+	RatingV                *float64             `json:"rating_v,omitempty"`
+	ReverseProtectionDropV *float64             `json:"reverse_protection_drop_v,omitempty"`
+	RunningA               *float64             `json:"running_a,omitempty"`
+	Series                 *int                 `json:"series,omitempty"`
+	SinksCurrent           *bool                `json:"sinks_current,omitempty"`
+	SpecSource             *ComponentSpecSource `json:"spec_source,omitempty"`
+	StallA                 *float64             `json:"stall_a,omitempty"`
+	ThetaJaCPerW           *float64             `json:"theta_ja_c_per_w,omitempty"`
+	TjMaxC                 *float64             `json:"tj_max_c,omitempty"`
+	Topology               *string              `json:"topology,omitempty"`
+	UpdatedAt              time.Time            `json:"updated_at"`
+	Version                int                  `json:"version"`
 }
 
 // ComponentCondition defines model for Component.Condition.
@@ -480,6 +500,7 @@ type ComponentInput struct {
 	Bin             *string                  `json:"bin,omitempty"`
 	CellCapacityMah *float64                 `json:"cell_capacity_mah,omitempty"`
 	Chemistry       *string                  `json:"chemistry,omitempty"`
+	ClampV          *float64                 `json:"clamp_v,omitempty"`
 	Condition       *ComponentInputCondition `json:"condition,omitempty"`
 	ContinuousA     *float64                 `json:"continuous_a,omitempty"`
 	CurrentA        *float64                 `json:"current_a,omitempty"`
@@ -506,22 +527,29 @@ type ComponentInput struct {
 	Notes *string `json:"notes,omitempty"`
 
 	// Origin What it was salvaged from, or bought.
-	Origin       *string                   `json:"origin,omitempty"`
-	OutputV      *float64                  `json:"output_v,omitempty"`
-	Parallel     *int                      `json:"parallel,omitempty"`
-	PeakA        *float64                  `json:"peak_a,omitempty"`
-	Quantity     *int                      `json:"quantity,omitempty"`
-	QuiescentA   *float64                  `json:"quiescent_a,omitempty"`
-	RatedV       *float64                  `json:"rated_v,omitempty"`
-	RatingA      *float64                  `json:"rating_a,omitempty"`
-	RatingV      *float64                  `json:"rating_v,omitempty"`
-	RunningA     *float64                  `json:"running_a,omitempty"`
-	Series       *int                      `json:"series,omitempty"`
-	SpecSource   *ComponentInputSpecSource `json:"spec_source,omitempty"`
-	StallA       *float64                  `json:"stall_a,omitempty"`
-	ThetaJaCPerW *float64                  `json:"theta_ja_c_per_w,omitempty"`
-	TjMaxC       *float64                  `json:"tj_max_c,omitempty"`
-	Topology     *string                   `json:"topology,omitempty"`
+	Origin                 *string                   `json:"origin,omitempty"`
+	OutputV                *float64                  `json:"output_v,omitempty"`
+	Parallel               *int                      `json:"parallel,omitempty"`
+	PeakA                  *float64                  `json:"peak_a,omitempty"`
+	PolarityFree           *bool                     `json:"polarity_free,omitempty"`
+	ProtectionCellOverV    *float64                  `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV   *float64                  `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString    *bool                     `json:"protection_per_string,omitempty"`
+	ProtectionTripA        *float64                  `json:"protection_trip_a,omitempty"`
+	Quantity               *int                      `json:"quantity,omitempty"`
+	QuiescentA             *float64                  `json:"quiescent_a,omitempty"`
+	RatedV                 *float64                  `json:"rated_v,omitempty"`
+	RatingA                *float64                  `json:"rating_a,omitempty"`
+	RatingV                *float64                  `json:"rating_v,omitempty"`
+	ReverseProtectionDropV *float64                  `json:"reverse_protection_drop_v,omitempty"`
+	RunningA               *float64                  `json:"running_a,omitempty"`
+	Series                 *int                      `json:"series,omitempty"`
+	SinksCurrent           *bool                     `json:"sinks_current,omitempty"`
+	SpecSource             *ComponentInputSpecSource `json:"spec_source,omitempty"`
+	StallA                 *float64                  `json:"stall_a,omitempty"`
+	ThetaJaCPerW           *float64                  `json:"theta_ja_c_per_w,omitempty"`
+	TjMaxC                 *float64                  `json:"tj_max_c,omitempty"`
+	Topology               *string                   `json:"topology,omitempty"`
 }
 
 // ComponentInputCondition defines model for ComponentInput.Condition.
@@ -571,35 +599,43 @@ type DesignSummary struct {
 
 // Electrical Ratings in SI units; every field is optional.
 type Electrical struct {
-	CellCapacityMah *float64 `json:"cell_capacity_mah,omitempty"`
-	Chemistry       *string  `json:"chemistry,omitempty"`
-	ContinuousA     *float64 `json:"continuous_a,omitempty"`
-	CurrentA        *float64 `json:"current_a,omitempty"`
-	DropoutV        *float64 `json:"dropout_v,omitempty"`
-	Efficiency      *float64 `json:"efficiency,omitempty"`
-	Gauge           *string  `json:"gauge,omitempty"`
-	MaxDischargeA   *float64 `json:"max_discharge_a,omitempty"`
-	MaxInputV       *float64 `json:"max_input_v,omitempty"`
-	MaxOutputA      *float64 `json:"max_output_a,omitempty"`
-	MaxV            *float64 `json:"max_v,omitempty"`
-	MinInputV       *float64 `json:"min_input_v,omitempty"`
-	MinV            *float64 `json:"min_v,omitempty"`
-	NoLoadA         *float64 `json:"no_load_a,omitempty"`
-	NoLoadRpm       *float64 `json:"no_load_rpm,omitempty"`
-	NominalV        *float64 `json:"nominal_v,omitempty"`
-	OutputV         *float64 `json:"output_v,omitempty"`
-	Parallel        *int     `json:"parallel,omitempty"`
-	PeakA           *float64 `json:"peak_a,omitempty"`
-	QuiescentA      *float64 `json:"quiescent_a,omitempty"`
-	RatedV          *float64 `json:"rated_v,omitempty"`
-	RatingA         *float64 `json:"rating_a,omitempty"`
-	RatingV         *float64 `json:"rating_v,omitempty"`
-	RunningA        *float64 `json:"running_a,omitempty"`
-	Series          *int     `json:"series,omitempty"`
-	StallA          *float64 `json:"stall_a,omitempty"`
-	ThetaJaCPerW    *float64 `json:"theta_ja_c_per_w,omitempty"`
-	TjMaxC          *float64 `json:"tj_max_c,omitempty"`
-	Topology        *string  `json:"topology,omitempty"`
+	CellCapacityMah        *float64 `json:"cell_capacity_mah,omitempty"`
+	Chemistry              *string  `json:"chemistry,omitempty"`
+	ClampV                 *float64 `json:"clamp_v,omitempty"`
+	ContinuousA            *float64 `json:"continuous_a,omitempty"`
+	CurrentA               *float64 `json:"current_a,omitempty"`
+	DropoutV               *float64 `json:"dropout_v,omitempty"`
+	Efficiency             *float64 `json:"efficiency,omitempty"`
+	Gauge                  *string  `json:"gauge,omitempty"`
+	MaxDischargeA          *float64 `json:"max_discharge_a,omitempty"`
+	MaxInputV              *float64 `json:"max_input_v,omitempty"`
+	MaxOutputA             *float64 `json:"max_output_a,omitempty"`
+	MaxV                   *float64 `json:"max_v,omitempty"`
+	MinInputV              *float64 `json:"min_input_v,omitempty"`
+	MinV                   *float64 `json:"min_v,omitempty"`
+	NoLoadA                *float64 `json:"no_load_a,omitempty"`
+	NoLoadRpm              *float64 `json:"no_load_rpm,omitempty"`
+	NominalV               *float64 `json:"nominal_v,omitempty"`
+	OutputV                *float64 `json:"output_v,omitempty"`
+	Parallel               *int     `json:"parallel,omitempty"`
+	PeakA                  *float64 `json:"peak_a,omitempty"`
+	PolarityFree           *bool    `json:"polarity_free,omitempty"`
+	ProtectionCellOverV    *float64 `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV   *float64 `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString    *bool    `json:"protection_per_string,omitempty"`
+	ProtectionTripA        *float64 `json:"protection_trip_a,omitempty"`
+	QuiescentA             *float64 `json:"quiescent_a,omitempty"`
+	RatedV                 *float64 `json:"rated_v,omitempty"`
+	RatingA                *float64 `json:"rating_a,omitempty"`
+	RatingV                *float64 `json:"rating_v,omitempty"`
+	ReverseProtectionDropV *float64 `json:"reverse_protection_drop_v,omitempty"`
+	RunningA               *float64 `json:"running_a,omitempty"`
+	Series                 *int     `json:"series,omitempty"`
+	SinksCurrent           *bool    `json:"sinks_current,omitempty"`
+	StallA                 *float64 `json:"stall_a,omitempty"`
+	ThetaJaCPerW           *float64 `json:"theta_ja_c_per_w,omitempty"`
+	TjMaxC                 *float64 `json:"tj_max_c,omitempty"`
+	Topology               *string  `json:"topology,omitempty"`
 }
 
 // Limits A whole limits set; every value names its source.
@@ -637,10 +673,13 @@ type Limits struct {
 		Source        *string `json:"source,omitempty"`
 	} `json:"conductors"`
 	Connectors []struct {
-		Family  string   `json:"family"`
-		RatingA float64  `json:"rating_a"`
-		RatingV *float64 `json:"rating_v,omitempty"`
-		Source  *string  `json:"source,omitempty"`
+		Family string `json:"family"`
+
+		// FixesPolarity Whether a mated pair goes together one way round only.
+		FixesPolarity *bool    `json:"fixes_polarity,omitempty"`
+		RatingA       float64  `json:"rating_a"`
+		RatingV       *float64 `json:"rating_v,omitempty"`
+		Source        *string  `json:"source,omitempty"`
 	} `json:"connectors"`
 	Fuses struct {
 		ContinuousLoadFactor Sourced `json:"continuous_load_factor"`
@@ -662,6 +701,7 @@ type Limits struct {
 		UtilisationPct  *Sourced `json:"utilisation_pct,omitempty"`
 	} `json:"policy"`
 	Regulators struct {
+		NoHeatsinkMaxW      *Sourced `json:"no_heatsink_max_w,omitempty"`
 		SwitchingEfficiency *Sourced `json:"switching_efficiency,omitempty"`
 		TjMaxC              *Sourced `json:"tj_max_c,omitempty"`
 	} `json:"regulators"`
@@ -940,46 +980,54 @@ type ReportRuntimeBrownoutsOutcome string
 
 // ShelfItem defines model for ShelfItem.
 type ShelfItem struct {
-	Bin             string        `json:"bin"`
-	CellCapacityMah *float64      `json:"cell_capacity_mah,omitempty"`
-	Chemistry       *string       `json:"chemistry,omitempty"`
-	Condition       string        `json:"condition"`
-	ContinuousA     *float64      `json:"continuous_a,omitempty"`
-	CurrentA        *float64      `json:"current_a,omitempty"`
-	Description     *string       `json:"description,omitempty"`
-	DropoutV        *float64      `json:"dropout_v,omitempty"`
-	Efficiency      *float64      `json:"efficiency,omitempty"`
-	Gauge           *string       `json:"gauge,omitempty"`
-	Id              int           `json:"id"`
-	Kind            ComponentKind `json:"kind"`
-	MainsOrigin     *bool         `json:"mains_origin,omitempty"`
-	MaxDischargeA   *float64      `json:"max_discharge_a,omitempty"`
-	MaxInputV       *float64      `json:"max_input_v,omitempty"`
-	MaxOutputA      *float64      `json:"max_output_a,omitempty"`
-	MaxV            *float64      `json:"max_v,omitempty"`
-	MinInputV       *float64      `json:"min_input_v,omitempty"`
-	MinV            *float64      `json:"min_v,omitempty"`
-	Name            string        `json:"name"`
-	NoLoadA         *float64      `json:"no_load_a,omitempty"`
-	NoLoadRpm       *float64      `json:"no_load_rpm,omitempty"`
-	NominalV        *float64      `json:"nominal_v,omitempty"`
-	Origin          *string       `json:"origin,omitempty"`
-	OutputV         *float64      `json:"output_v,omitempty"`
-	Parallel        *int          `json:"parallel,omitempty"`
-	PeakA           *float64      `json:"peak_a,omitempty"`
-	Quantity        int           `json:"quantity"`
-	QuiescentA      *float64      `json:"quiescent_a,omitempty"`
-	RatedV          *float64      `json:"rated_v,omitempty"`
-	RatingA         *float64      `json:"rating_a,omitempty"`
-	RatingV         *float64      `json:"rating_v,omitempty"`
-	RunningA        *float64      `json:"running_a,omitempty"`
-	Series          *int          `json:"series,omitempty"`
-	SpecSource      string        `json:"spec_source"`
-	StallA          *float64      `json:"stall_a,omitempty"`
-	ThetaJaCPerW    *float64      `json:"theta_ja_c_per_w,omitempty"`
-	TjMaxC          *float64      `json:"tj_max_c,omitempty"`
-	Topology        *string       `json:"topology,omitempty"`
-	UpdatedAt       time.Time     `json:"updated_at"`
+	Bin                    string        `json:"bin"`
+	CellCapacityMah        *float64      `json:"cell_capacity_mah,omitempty"`
+	Chemistry              *string       `json:"chemistry,omitempty"`
+	ClampV                 *float64      `json:"clamp_v,omitempty"`
+	Condition              string        `json:"condition"`
+	ContinuousA            *float64      `json:"continuous_a,omitempty"`
+	CurrentA               *float64      `json:"current_a,omitempty"`
+	Description            *string       `json:"description,omitempty"`
+	DropoutV               *float64      `json:"dropout_v,omitempty"`
+	Efficiency             *float64      `json:"efficiency,omitempty"`
+	Gauge                  *string       `json:"gauge,omitempty"`
+	Id                     int           `json:"id"`
+	Kind                   ComponentKind `json:"kind"`
+	MainsOrigin            *bool         `json:"mains_origin,omitempty"`
+	MaxDischargeA          *float64      `json:"max_discharge_a,omitempty"`
+	MaxInputV              *float64      `json:"max_input_v,omitempty"`
+	MaxOutputA             *float64      `json:"max_output_a,omitempty"`
+	MaxV                   *float64      `json:"max_v,omitempty"`
+	MinInputV              *float64      `json:"min_input_v,omitempty"`
+	MinV                   *float64      `json:"min_v,omitempty"`
+	Name                   string        `json:"name"`
+	NoLoadA                *float64      `json:"no_load_a,omitempty"`
+	NoLoadRpm              *float64      `json:"no_load_rpm,omitempty"`
+	NominalV               *float64      `json:"nominal_v,omitempty"`
+	Origin                 *string       `json:"origin,omitempty"`
+	OutputV                *float64      `json:"output_v,omitempty"`
+	Parallel               *int          `json:"parallel,omitempty"`
+	PeakA                  *float64      `json:"peak_a,omitempty"`
+	PolarityFree           *bool         `json:"polarity_free,omitempty"`
+	ProtectionCellOverV    *float64      `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV   *float64      `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString    *bool         `json:"protection_per_string,omitempty"`
+	ProtectionTripA        *float64      `json:"protection_trip_a,omitempty"`
+	Quantity               int           `json:"quantity"`
+	QuiescentA             *float64      `json:"quiescent_a,omitempty"`
+	RatedV                 *float64      `json:"rated_v,omitempty"`
+	RatingA                *float64      `json:"rating_a,omitempty"`
+	RatingV                *float64      `json:"rating_v,omitempty"`
+	ReverseProtectionDropV *float64      `json:"reverse_protection_drop_v,omitempty"`
+	RunningA               *float64      `json:"running_a,omitempty"`
+	Series                 *int          `json:"series,omitempty"`
+	SinksCurrent           *bool         `json:"sinks_current,omitempty"`
+	SpecSource             string        `json:"spec_source"`
+	StallA                 *float64      `json:"stall_a,omitempty"`
+	ThetaJaCPerW           *float64      `json:"theta_ja_c_per_w,omitempty"`
+	TjMaxC                 *float64      `json:"tj_max_c,omitempty"`
+	Topology               *string       `json:"topology,omitempty"`
+	UpdatedAt              time.Time     `json:"updated_at"`
 }
 
 // Sourced defines model for Sourced.

@@ -167,6 +167,8 @@ func TestElectricalCSVColumnsCoverTheType(t *testing.T) {
 			fv.Set(reflect.New(f.Type.Elem()))
 		case reflect.String:
 			fv.SetString("x")
+		case reflect.Bool:
+			fv.SetBool(true)
 		}
 	}
 	raw, err := json.Marshal(e)

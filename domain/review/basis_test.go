@@ -33,19 +33,24 @@ func TestRulesNameRuleAndSource(t *testing.T) {
 	l := DefaultLimits()
 	rules := newRules(l)
 	want := map[string][]string{
-		CheckWireAmpacity:     {"33 CFR 183.425 Table 5", "80 %", "common practice"},
-		CheckWireDrop:         {"IEC 60028", "10 %", "3 %", "marine DC wiring practice"},
-		CheckFuseMissing:      {"33 CFR 183.455"},
-		CheckFuseRating:       {"1.5 ×", "33 CFR 183.455", "1.25 ×", "common practice"},
-		CheckFusePlacement:    {"0.178 m", "1.016 m", "33 CFR 183.455"},
-		CheckDriverCurrent:    {"80 %", "common practice"},
-		CheckRegulatorThermal: {"25 °C", "common practice"},
-		CheckConnectorRating:  {"80 %"},
-		CheckScopeMains:       {"50 V DC", "33 CFR 183.455"},
+		CheckWireAmpacity:      {"33 CFR 183.425 Table 5", "80 %", "common practice"},
+		CheckWireDrop:          {"IEC 60028", "10 %", "3 %", "marine DC wiring practice"},
+		CheckFuseMissing:       {"33 CFR 183.455"},
+		CheckFuseRating:        {"1.5 ×", "33 CFR 183.455", "1.25 ×", "common practice"},
+		CheckFusePlacement:     {"0.178 m", "1.016 m", "33 CFR 183.455"},
+		CheckDriverCurrent:     {"80 %", "common practice"},
+		CheckRegulatorThermal:  {"25 °C", "common practice"},
+		CheckConnectorRating:   {"80 %"},
+		CheckScopeMains:        {"50 V DC", "33 CFR 183.455"},
+		CheckRegulatorHeat:     {"1.50 W", "P_out·(1/η − 1)", "V_in·I_q", "common practice, from memory"},
+		CheckBatteryProtection: {"over- and under-voltage", "over-current trip"},
+		CheckConnectorPolarity: {"reverse-polarity protection", "brushed motors"},
+		CheckRailBackfeed:      {"clamp", "battery"},
 	}
 	for _, check := range []string{CheckVoltageRange, CheckRegulatorHeadroom, CheckRegulatorCurrent, CheckRegulatorThermal,
 		CheckDriverVoltage, CheckDriverCurrent, CheckSourceCurrent, CheckSourceRuntime, CheckWireAmpacity, CheckWireDrop,
-		CheckFuseMissing, CheckFuseRating, CheckFusePlacement, CheckConnectorRating, CheckScopeMains} {
+		CheckFuseMissing, CheckFuseRating, CheckFusePlacement, CheckConnectorRating, CheckScopeMains,
+		CheckRegulatorHeat, CheckBatteryProtection, CheckConnectorPolarity, CheckRailBackfeed} {
 		r, ok := rules[check]
 		if !ok || r.Basis == "" || r.Source == "" || len(r.Basis) > 400 {
 			t.Errorf("rule of %s: %+v", check, r)
@@ -56,8 +61,8 @@ func TestRulesNameRuleAndSource(t *testing.T) {
 			}
 		}
 	}
-	if len(rules) != 15 {
-		t.Errorf("%d rules, want one for each of the 15 checks", len(rules))
+	if len(rules) != 19 {
+		t.Errorf("%d rules, want one for each of the 19 checks", len(rules))
 	}
 	// The values come from the limits, not from the code.
 	l.Policy.UtilisationPct = Sourced{70, "the space's own rule: 70 %"}

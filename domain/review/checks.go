@@ -2,6 +2,7 @@ package review
 
 import (
 	"fmt"
+	"maps"
 	"math"
 	"strconv"
 	"strings"
@@ -64,7 +65,7 @@ func newRules(l Limits) map[string]Rule {
 	// the report names.
 	datasheet := "the part's datasheet"
 	rating := Rule{Basis: "the part's rating (its datasheet); " + warnAbove, Source: datasheet + "; " + cite(u.Source)}
-	return map[string]Rule{
+	rules := map[string]Rule{
 		CheckVoltageRange: {Basis: "the part's min_v and max_v against its input range at the operating point: full source and no " +
 			"load at the high end, cutoff and feed drops at the low end", Source: datasheet},
 		CheckRegulatorHeadroom: {Basis: "a linear regulator needs an input of at least output_v + dropout_v, and at most " +
@@ -99,6 +100,8 @@ func newRules(l Limits) map[string]Rule {
 		CheckScopeMains: {Basis: fmt.Sprintf("mains is out of scope, and so is any source above %g V DC (%s)",
 			l.Policy.InScopeMaxV.Value, cite(l.Policy.InScopeMaxV.Source)), Source: cite(l.Policy.InScopeMaxV.Source)},
 	}
+	maps.Copy(rules, partHazardRules(l))
+	return rules
 }
 
 // cite is the citation a stored source opens with: the text before its
@@ -343,7 +346,7 @@ func (r *reviewer) regulatorHeadroom(n *node) {
 		conds = append(conds, above("overvoltage", Fail, n.vHigh, n.maxInputV, "V"))
 	}
 	need := n.outputV + n.dropoutV
-	vp := r.t.nodes[n.parent].outLow
+	vp := r.t.nodes[n.parent].outLow - n.revDropV // after its reverse-polarity protection
 	var powerIn, needVp float64
 	lo := n.minWorkingInputV()
 	if n.topo == topoLinear {
@@ -412,10 +415,15 @@ func (r *reviewer) regulatorCurrent(n *node) {
 	})
 }
 
-// junction is a linear regulator's heat and junction temperature at its
-// input high end.
+// junction is a regulator's heat and junction temperature at its input
+// high end: a linear one's drop times its current, a switching one's
+// loss (heat); both with the quiescent draw at the input.
 func (r *reviewer) junction(n *node) (powerW, tjC float64) {
-	powerW = max(electric.LinearDissipationW(n.vHigh, n.outHigh, n.outRun, n.quiescentA), 0)
+	if n.switching() {
+		powerW = heat(n)
+	} else {
+		powerW = max(electric.LinearDissipationW(n.vHigh, n.outHigh, n.outRun, n.quiescentA), 0)
+	}
 	return powerW, electric.JunctionTempC(r.ambient, powerW, n.thetaJA)
 }
 
@@ -432,8 +440,12 @@ func (r *reviewer) regulatorThermal(n *node) {
 			return r.say(txt(n.id), txt(" sheds "), val(powerW), txt(" W; its junction stays at "), val(tj), txt(" °C, well below "),
 				val(n.tjMaxC), txt(" °C."))
 		case c.what == "limit":
-			return fmt.Sprintf("%s sheds %s W; its junction reaches %s °C at %s °C ambient, at or over its %s °C limit. "+
-				"Use a switching regulator, a heatsink, or a lower input voltage.", n.id, num(powerW), num(tj), num(r.ambient), num(n.tjMaxC))
+			remedy := "Use a switching regulator, a heatsink, or a lower input voltage."
+			if n.switching() {
+				remedy = "Add a heatsink, or use a more efficient or larger converter."
+			}
+			return fmt.Sprintf("%s sheds %s W; its junction reaches %s °C at %s °C ambient, at or over its %s °C limit. %s",
+				n.id, num(powerW), num(tj), num(r.ambient), num(n.tjMaxC), remedy)
 		}
 		return fmt.Sprintf("%s sheds %s W; its junction reaches %s °C, within %s °C of its %s °C limit.", n.id, num(powerW),
 			num(tj), num(margin), num(n.tjMaxC))

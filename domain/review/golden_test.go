@@ -83,25 +83,35 @@ func TestDemoDesignVerdicts(t *testing.T) {
 		status   Status
 		findings []finding // every check that does not pass
 	}{
-		// Pass: every part inside its ratings over the whole discharge.
+		// Pass: every part inside its ratings over the whole discharge, its
+		// LiFePO4 pack behind a stated protection board.
 		{"seedling-cart", Pass, nil},
 		// Warn: a driver and a connector near their ratings, a slow fuse a
-		// little far from the pack, a short runtime, a warm linear regulator.
+		// little far from the pack, a short runtime, a warm linear regulator;
+		// a Li-ion pack that states no protection circuit, and the LED strip
+		// on a barrel plug that a centre-negative lead would reverse.
 		{"fume-fan", Warn, []finding{
 			{"source.current", "pack"}, {"source.runtime", "pack"}, {"driver.voltage", "fan_driver"},
 			{"driver.current", "fan_driver"}, {"fuse.rating", "fan_driver"}, {"fuse.placement", "fan_driver"},
 			{"connector.rating", "fan_driver"}, {"regulator.thermal", "reg5"}, {"voltage.range", "work_light"},
+			{"battery.protection", "pack"}, {"connector.polarity", "work_light"},
 		}},
 		// Fail: an overloaded driver with no fuse on the pack's feed, a motor
-		// and a camera outside their windows, a thin wire, a small regulator.
+		// and a camera outside their windows, a thin wire, a small regulator;
+		// a Li-ion pack that states no protection circuit, and the camera on
+		// a plain pin header that mates either way round.
 		{"camera-slider", Fail, []finding{
 			{"source.current", "pack"}, {"driver.voltage", "slide_driver"}, {"driver.current", "slide_driver"},
 			{"wire.ampacity", "slide_driver"}, {"fuse.missing", "slide_driver"}, {"voltage.range", "sled_motor"},
 			{"wire.ampacity", "pan_motor"}, {"regulator.current", "cam_buck"}, {"fuse.rating", "cam_buck"},
 			{"voltage.range", "camera"}, {"wire.drop", "camera"},
+			{"battery.protection", "pack"}, {"connector.polarity", "camera"},
 		}},
-		// Out of scope: it includes the mains side of a wall adapter.
-		{"sawdust-sweeper", OutOfScope, []finding{{"scope.mains", "wall_adapter"}, {"source.current", "wall_adapter"}}},
+		// Out of scope: it includes the mains side of a wall adapter; and the
+		// adapter, which cannot sink current, takes what the brush motor
+		// pushes back with no clamp on its rail.
+		{"sawdust-sweeper", OutOfScope, []finding{{"scope.mains", "wall_adapter"}, {"source.current", "wall_adapter"},
+			{"rail.backfeed", "wall_adapter"}}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.design, func(t *testing.T) {

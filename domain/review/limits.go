@@ -55,13 +55,19 @@ type ConnectorFamily struct {
 	Family  string  `json:"family"`
 	RatingA float64 `json:"rating_a"`
 	RatingV float64 `json:"rating_v,omitempty"`
-	Source  string  `json:"source"`
+	// FixesPolarity says whether a mated pair can only go together one way
+	// round; nil in a set stored before it was asked.
+	FixesPolarity *bool  `json:"fixes_polarity,omitempty"`
+	Source        string `json:"source"`
 }
 
 // RegulatorDefaults fill what a regulator node leaves out.
 type RegulatorDefaults struct {
 	SwitchingEfficiency Sourced `json:"switching_efficiency"`
 	TjMaxC              Sourced `json:"tj_max_c"`
+	// NoHeatsinkMaxW is the most heat a switching regulator that gives no
+	// thermal resistance may shed from its board alone.
+	NoHeatsinkMaxW Sourced `json:"no_heatsink_max_w"`
 }
 
 // Policy holds the thresholds that are the space's own choice.
@@ -102,21 +108,40 @@ func DefaultLimits() Limits {
 			NonCriticalPct: Sourced{10, "marine DC wiring practice: 10 % for other loads (common practice, as in ABYC E-11; from memory)"},
 		},
 		Chemistries: chemList,
+		// Polarity (common practice): a housing whose shape lets the pair
+		// mate one way only fixes polarity once its leads are wired to a
+		// convention; a round plug, a loose terminal or a clip does not.
 		Connectors: []ConnectorFamily{
-			{Family: "pin-header-2.54mm", RatingA: 3, Source: "0.1 in pin header and socket, 3 A per contact: " + memory},
-			{Family: "jst-ph-2mm", RatingA: 2, RatingV: 100, Source: "2.0 mm pitch wire-to-board, 2 A and 100 V: " + memory},
-			{Family: "jst-xh-2.5mm", RatingA: 3, RatingV: 250, Source: "2.5 mm pitch wire-to-board, 3 A and 250 V: " + memory},
-			{Family: "barrel-5.5x2.1mm", RatingA: 2.5, RatingV: 24, Source: "5.5 × 2.1 mm DC barrel plug, 2.5 A and 24 V (many are rated lower): " + memory},
-			{Family: "screw-terminal-5mm", RatingA: 10, RatingV: 250, Source: "5 mm pitch PCB screw terminal, 10 A: " + memory},
-			{Family: "xt30", RatingA: 15, RatingV: 500, Source: "XT30 pair, 15 A continuous: " + memory},
-			{Family: "xt60", RatingA: 30, RatingV: 500, Source: "XT60 pair, 30 A continuous: " + memory},
-			{Family: "powerpole-15", RatingA: 15, RatingV: 600, Source: "15 A Powerpole contacts: " + memory},
-			{Family: "powerpole-30", RatingA: 30, RatingV: 600, Source: "30 A Powerpole contacts: " + memory},
-			{Family: "spade-6.3mm", RatingA: 15, Source: "6.3 mm quick-connect tab, 15 A: " + memory},
+			{Family: "pin-header-2.54mm", RatingA: 3, FixesPolarity: boolPtr(false), Source: "0.1 in pin header and socket, 3 A per contact: " + memory +
+				"; a plain header has no key and mates reversed or offset (common practice)"},
+			{Family: "jst-ph-2mm", RatingA: 2, RatingV: 100, FixesPolarity: boolPtr(true), Source: "2.0 mm pitch wire-to-board, 2 A and 100 V: " + memory +
+				"; its housing is keyed (common practice)"},
+			{Family: "jst-xh-2.5mm", RatingA: 3, RatingV: 250, FixesPolarity: boolPtr(true), Source: "2.5 mm pitch wire-to-board, 3 A and 250 V: " + memory +
+				"; its housing is keyed (common practice)"},
+			{Family: "barrel-5.5x2.1mm", RatingA: 2.5, RatingV: 24, FixesPolarity: boolPtr(false), Source: "5.5 × 2.1 mm DC barrel plug, 2.5 A and 24 V (many are rated lower): " + memory +
+				"; adapters come centre-positive or centre-negative, so the plug does not fix polarity (common practice)"},
+			{Family: "screw-terminal-5mm", RatingA: 10, RatingV: 250, FixesPolarity: boolPtr(false), Source: "5 mm pitch PCB screw terminal, 10 A: " + memory +
+				"; either wire goes in either clamp (common practice)"},
+			{Family: "xt30", RatingA: 15, RatingV: 500, FixesPolarity: boolPtr(true), Source: "XT30 pair, 15 A continuous: " + memory +
+				"; its housing mates one way only (common practice)"},
+			{Family: "xt60", RatingA: 30, RatingV: 500, FixesPolarity: boolPtr(true), Source: "XT60 pair, 30 A continuous: " + memory +
+				"; its housing mates one way only (common practice)"},
+			{Family: "powerpole-15", RatingA: 15, RatingV: 600, FixesPolarity: boolPtr(true), Source: "15 A Powerpole contacts: " + memory +
+				"; fixes polarity when assembled to the usual red-right, tongue-up layout (common practice)"},
+			{Family: "powerpole-30", RatingA: 30, RatingV: 600, FixesPolarity: boolPtr(true), Source: "30 A Powerpole contacts: " + memory +
+				"; fixes polarity when assembled to the usual red-right, tongue-up layout (common practice)"},
+			{Family: "spade-6.3mm", RatingA: 15, FixesPolarity: boolPtr(false), Source: "6.3 mm quick-connect tab, 15 A: " + memory +
+				"; each tab takes either lead (common practice)"},
+			{Family: "ring-terminal", RatingA: 15, FixesPolarity: boolPtr(false), Source: "insulated crimp ring terminal for 16–14 AWG wire, 15 A: " + memory +
+				"; each stud takes either lead (common practice)"},
+			{Family: "clip-leads", RatingA: 3, FixesPolarity: boolPtr(false), Source: "test leads with crocodile clips, 3 A (many small ones are rated lower): " + memory +
+				"; either clip goes on either terminal (common practice)"},
 		},
 		Regulators: RegulatorDefaults{
 			SwitchingEfficiency: Sourced{0.85, "common practice: a small buck or boost module at a moderate load (from memory)"},
 			TjMaxC:              Sourced{125, "common practice: the junction limit on most regulator datasheets"},
+			NoHeatsinkMaxW: Sourced{1.5, "common practice, from memory: a small converter module cooled only by its own " +
+				"board in still air runs hot somewhere between 1 and 2 W of loss; 1.5 W sits in that range, not a measured figure"},
 		},
 		Policy: Policy{
 			InScopeMaxV: Sourced{50, "33 CFR 183.455 and the conductor rules above are written for systems " +
@@ -208,6 +233,7 @@ func (l Limits) validateValues() error {
 
 	checkSourced(&p, "/regulators/switching_efficiency", l.Regulators.SwitchingEfficiency, 0.01, 1)
 	checkSourced(&p, "/regulators/tj_max_c", l.Regulators.TjMaxC, 1, domain.MaxTemperatureC)
+	checkSourced(&p, "/regulators/no_heatsink_max_w", l.Regulators.NoHeatsinkMaxW, 0.01, 100)
 	checkSourced(&p, "/policy/in_scope_max_v", l.Policy.InScopeMaxV, 1, domain.MaxVoltageV)
 	checkSourced(&p, "/policy/utilisation_pct", l.Policy.UtilisationPct, 1, 100)
 	checkSourced(&p, "/policy/thermal_margin_c", l.Policy.ThermalMarginC, 0, 200)

@@ -47,6 +47,7 @@ type node struct {
 	// smaller by it
 	pack          *electric.Pack
 	maxDischargeA float64
+	protection    *protection // a battery's protection circuit, as far as the design states it
 
 	// supply, regulator
 	outputV float64
@@ -64,6 +65,13 @@ type node struct {
 	maxInputV   float64 // 0: not given
 	continuousA float64
 	peakRatingA float64 // driver; 0: not given
+
+	// energy a motor pushes back, and a reversed supply
+	sinks        bool    // supply, switching regulator: takes current back
+	clampV       float64 // supply, regulator, driver; 0: no clamp stated
+	revDropV     float64 // regulator, driver, load: its reverse-polarity protection's drop
+	revProtected bool    // it states reverse-polarity protection
+	polarityFree bool    // a load that works either way round
 
 	// motor, load
 	ratedV, stallA, runningA float64
@@ -110,6 +118,7 @@ type fuse struct {
 type connector struct {
 	family           string
 	ratingA, ratingV float64 // ratingV 0: unknown
+	fixesPolarity    bool    // the family's stored answer, or the connector's own without a family
 }
 
 // feedPtr is the JSON pointer of the node's feed.
@@ -221,6 +230,12 @@ func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {
 		chem.CutoffV = or(dn.CellCutoffV, chem.CutoffV)
 		chem.InternalOhm = or(dn.CellInternalOhm, chem.InternalOhm)
 		n.pack = &electric.Pack{Chem: chem, Series: *dn.Series, Parallel: *dn.Parallel, CellCapacityAh: *dn.CellCapacityMAh / 1000}
+		if isLithium(chem.Name) {
+			n.protection = &protection{
+				overV: or(dn.ProtectionCellOverV, 0), underV: or(dn.ProtectionCellUnderV, 0),
+				tripA: or(dn.ProtectionTripA, 0), perString: dn.ProtectionPerString,
+			}
+		}
 		// The node's cell values override the stored ones; together they
 		// must still describe a cell (cutoff below nominal, and so on).
 		addJoined(p, n.ptr, n.pack.Validate())
@@ -228,24 +243,33 @@ func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {
 	case domain.NodeSupply:
 		n.kind = kindSupply
 		n.outputV, n.maxA = *dn.OutputV, *dn.MaxA
+		n.sinks, n.clampV = dn.SinksCurrent, or(dn.ClampV, 0)
 	case domain.NodeRegulator:
 		n.kind = kindRegulator
 		n.topo = parseTopology(dn.Topology)
 		n.outputV, n.maxOutA = *dn.OutputV, *dn.MaxOutputA
 		n.quiescentA = or(dn.QuiescentA, 0)
 		n.maxInputV = or(dn.MaxInputV, 0)
+		n.clampV = or(dn.ClampV, 0)
+		n.setReverse(dn)
+		// A switching regulator's thermal resistance is optional: without
+		// it, its heat is judged as a board's with no heat sink.
+		n.thetaJA = or(dn.ThetaJACPerW, 0)
+		n.tjMaxC = or(dn.TjMaxC, limits.Regulators.TjMaxC.Value)
 		if n.topo == topoLinear {
-			n.dropoutV, n.thetaJA = *dn.DropoutV, *dn.ThetaJACPerW
-			n.tjMaxC = or(dn.TjMaxC, limits.Regulators.TjMaxC.Value)
+			n.dropoutV = *dn.DropoutV
 		} else {
 			n.efficiency = or(dn.Efficiency, limits.Regulators.SwitchingEfficiency.Value)
 			n.minInputV = or(dn.MinInputV, 0)
+			n.sinks = dn.SinksCurrent
 		}
 	case domain.NodeDriver:
 		n.kind = kindDriver
 		n.maxInputV, n.continuousA = *dn.MaxInputV, *dn.ContinuousA
 		n.peakRatingA = or(dn.PeakA, 0)
 		n.quiescentA = or(dn.QuiescentA, 0)
+		n.clampV = or(dn.ClampV, 0)
+		n.setReverse(dn)
 	case domain.NodeMotor:
 		n.kind = kindMotor
 		n.ratedV, n.stallA = *dn.RatedV, *dn.StallA
@@ -262,8 +286,16 @@ func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {
 		n.peakA = or(dn.PeakA, n.currentA)
 		n.duty = or(dn.Duty, 1)
 		n.critical = dn.Critical
+		n.polarityFree = dn.PolarityFree
+		n.setReverse(dn)
 		n.setRange(dn)
 	}
+}
+
+// setReverse reads the node's reverse-polarity protection: stating its
+// drop says it has one.
+func (n *node) setReverse(dn domain.Node) {
+	n.revProtected, n.revDropV = dn.ReverseProtectionDropV != nil, or(dn.ReverseProtectionDropV, 0)
 }
 
 func (n *node) setRange(dn domain.Node) {
@@ -376,13 +408,17 @@ func resolveFeed(p *domain.Problems, f *feed, ptr string, df domain.Feed, limits
 		}
 	}
 	for k, dc := range df.Connectors {
-		c := connector{family: dc.Family, ratingA: or(dc.RatingA, 0), ratingV: or(dc.RatingV, 0)}
-		if dc.Family != "" && (dc.RatingA == nil || dc.RatingV == nil) {
+		c := connector{family: dc.Family, ratingA: or(dc.RatingA, 0), ratingV: or(dc.RatingV, 0),
+			fixesPolarity: dc.FixesPolarity != nil && *dc.FixesPolarity}
+		if dc.Family != "" {
 			fam, ok := limits.connectorFamily(dc.Family)
 			switch {
 			case ok:
 				c.ratingA = or(dc.RatingA, fam.RatingA)
 				c.ratingV = or(dc.RatingV, fam.RatingV)
+				// A family that does not say (limits stored before it was
+				// asked) counts as not fixing polarity.
+				c.fixesPolarity = fam.FixesPolarity != nil && *fam.FixesPolarity
 			case dc.RatingA == nil:
 				p.Add(fmt.Sprintf("%s/connectors/%d/rating_a", ptr, k),
 					"is required: the limits store no connector family %q to take it from (stored: %s)", dc.Family,

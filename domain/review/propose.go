@@ -602,7 +602,7 @@ func (p *proposer) patch(edits []edit) []PatchOp {
 		}
 		return strings.Compare(a.path, b.path)
 	})
-	var node map[string]any // the node being patched, as JSON, to see which members it has
+	var node domain.Node // the node being patched, to see which members it has
 	for i, e := range sorted {
 		ptr := p.r.t.nodes[e.node].ptr
 		if i == 0 || sorted[i-1].node != e.node {
@@ -611,7 +611,7 @@ func (p *proposer) patch(edits []edit) []PatchOp {
 			ops = append(ops, more...)
 		}
 		if e.value == nil {
-			if has(node, e.path) {
+			if hasMember(node, e.path) {
 				ops = append(ops, PatchOp{Op: "remove", Path: ptr + e.path})
 			}
 			continue
@@ -621,49 +621,43 @@ func (p *proposer) patch(edits []edit) []PatchOp {
 	return ops
 }
 
-// nodeBefore is node i as the edits of a patch find it, as JSON, and the
+// nodeBefore is node i as the edits of a patch find it, and the
 // operations that take its component's values into the document first
 // when an edit changes the part: remove its component_id, add what the
 // component gave it (except what the edits set or remove anyway).
-func (p *proposer) nodeBefore(i int, edits []edit) (map[string]any, []PatchOp) {
+func (p *proposer) nodeBefore(i int, edits []edit) (domain.Node, []PatchOp) {
 	orig := p.doc.Nodes[i]
-	n := orig
-	var ops []PatchOp
-	part := slices.ContainsFunc(edits, func(e edit) bool { return e.node == i && e.part })
-	if part && orig.ComponentID != nil {
-		n = p.materialized(i)
-		ptr := p.r.t.nodes[i].ptr
-		ops = append(ops, PatchOp{Op: "remove", Path: ptr + "/component_id"})
-		was, now := reflect.ValueOf(orig.Ratings), reflect.ValueOf(n.Ratings)
-		for _, fd := range domain.FieldsOf(reflect.TypeFor[domain.Ratings]()) {
-			v := now.FieldByIndex(fd.Index)
-			if v.IsZero() || !was.FieldByIndex(fd.Index).IsZero() ||
-				slices.ContainsFunc(edits, func(e edit) bool { return e.node == i && e.path == "/"+fd.Name }) {
-				continue
-			}
-			ops = append(ops, PatchOp{Op: "add", Path: ptr + "/" + fd.Name, Value: mustJSON(v.Interface())})
+	if orig.ComponentID == nil || !slices.ContainsFunc(edits, func(e edit) bool { return e.node == i && e.part }) {
+		return orig, nil
+	}
+	n := p.materialized(i)
+	ptr := p.r.t.nodes[i].ptr
+	ops := []PatchOp{{Op: "remove", Path: ptr + "/component_id"}}
+	was, now := reflect.ValueOf(orig.Ratings), reflect.ValueOf(n.Ratings)
+	for _, fd := range domain.FieldsOf(reflect.TypeFor[domain.Ratings]()) {
+		v := now.FieldByIndex(fd.Index)
+		if v.IsZero() || !was.FieldByIndex(fd.Index).IsZero() ||
+			slices.ContainsFunc(edits, func(e edit) bool { return e.node == i && e.path == "/"+fd.Name }) {
+			continue
 		}
+		ops = append(ops, PatchOp{Op: "add", Path: ptr + "/" + fd.Name, Value: mustJSON(v.Interface())})
 	}
-	var m map[string]any
-	if err := json.Unmarshal(mustJSON(n), &m); err != nil {
-		panic(fmt.Sprintf("a node does not read back: %v", err)) // it was just written
-	}
-	return m, ops
+	return n, ops
 }
 
-// has reports whether a JSON object has the member at a JSON pointer.
-func has(obj map[string]any, ptr string) bool {
-	var cur any = obj
-	for _, tok := range strings.Split(strings.TrimPrefix(ptr, "/"), "/") {
-		m, ok := cur.(map[string]any)
-		if !ok {
-			return false
-		}
-		if cur, ok = m[tok]; !ok {
-			return false
+// hasMember reports whether node n has the member a removal names: one
+// of its ratings ("/dropout_v"), or its fuse's voltage rating.
+func hasMember(n domain.Node, path string) bool {
+	if path == "/feed/fuse/voltage_rating_v" {
+		return n.Feed != nil && n.Feed.Fuse != nil && n.Feed.Fuse.VoltageRatingV != nil
+	}
+	v := reflect.ValueOf(n.Ratings)
+	for _, fd := range domain.FieldsOf(reflect.TypeFor[domain.Ratings]()) {
+		if "/"+fd.Name == path {
+			return !v.FieldByIndex(fd.Index).IsZero()
 		}
 	}
-	return true
+	panic("a remedy removes " + path + ", which hasMember does not know") // the remedies name only these
 }
 
 func mustJSON(v any) jsontext.Value {

@@ -333,6 +333,19 @@ func TestProposePackVoltage(t *testing.T) {
 	noFailLeft(t, prop)
 }
 
+func TestProposeSupplyVoltage(t *testing.T) {
+	// A 24 V supply feeds a lamp rated 9–15 V: 24 > 15, fail. The lamp's
+	// 1 A drops 0.01 V on 0.01 Ω, so the supply must give 9.01 V or more,
+	// and 15 V at most (no load, no drop at the high end).
+	js := doc("", supplyOf(24, 3), `{"id": "lamp", "type": "load", "current_a": 1, "min_v": 9, "max_v": 15, `+
+		feedJS("bench", "1mm2", 0.29, `, "fuse": {"rating_a": 2, "family": "blade", "distance_from_source_m": 0.1}`)+`}`)
+	prop := proposeDoc(t, js, nil)
+	checkRemedy(t, prop, wantRemedy{CheckVoltageRange, "lamp", Fail,
+		[]string{"15.0 V supply", "from 9.01 V to 15.0 V"},
+		[]string{`add /nodes/0/output_v 15`}})
+	noFailLeft(t, prop)
+}
+
 func TestProposeRuntime(t *testing.T) {
 	// LiFePO4 4S1P of 3000 mAh at 1 A lasts 3 Ah / 1 A = 3 h, short of 6 h:
 	// warn. Runtime grows with the strings in parallel: ⌈1 × 6 / 3⌉ = 2.

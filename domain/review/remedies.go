@@ -46,47 +46,38 @@ func (p *proposer) candidates(c Check, i int) ([]candidate, string) {
 	return nil, "No remedy is worked out for " + c.Check + " findings."
 }
 
-// niceUp rounds x > 0 up to two significant digits: the rating a part
-// would need, said as a catalogue would.
-func niceUp(x float64) float64 {
+// twoDigits rounds x > 0 to two significant digits, up or down: a
+// rating a part would need, said as a catalogue would.
+func twoDigits(x float64, up bool) float64 {
 	if !(x > 0) {
 		return 0
 	}
 	step := math.Pow10(int(math.Floor(math.Log10(x))) - 1)
-	return clean(math.Ceil(x/step-1e-9) * step)
-}
-
-// niceDown rounds x > 0 down to two significant digits.
-func niceDown(x float64) float64 {
-	if !(x > 0) {
-		return 0
+	if up {
+		return clean(math.Ceil(x/step-1e-9) * step)
 	}
-	step := math.Pow10(int(math.Floor(math.Log10(x))) - 1)
 	return clean(math.Floor(x/step+1e-9) * step)
 }
 
 // ratingFor is the least two-digit rating of at least need that ok
 // accepts, the way the check compares it; 0 when none near it does.
-func ratingFor(need float64, ok func(v float64) bool) float64 {
-	v := niceUp(need)
-	for range 3 {
-		if ok(v) {
-			return v
-		}
-		v = niceUp(v * (1 + 1e-6))
-	}
-	return 0
-}
+func ratingFor(need float64, ok func(v float64) bool) float64 { return twoDigitsOK(need, true, ok) }
 
-// limitFor is ratingFor downwards: the greatest two-digit value of at
-// most limit that ok accepts, 0 when none near it does.
-func limitFor(limit float64, ok func(v float64) bool) float64 {
-	v := niceDown(limit)
+// limitFor is the greatest two-digit value of at most limit that ok
+// accepts; 0 when none near it does.
+func limitFor(limit float64, ok func(v float64) bool) float64 { return twoDigitsOK(limit, false, ok) }
+
+func twoDigitsOK(x float64, up bool, ok func(v float64) bool) float64 {
+	step := 1 - 1e-6
+	if up {
+		step = 1 + 1e-6
+	}
+	v := twoDigits(x, up)
 	for range 3 {
 		if v > 0 && ok(v) {
 			return v
 		}
-		v = niceDown(v * (1 - 1e-6))
+		v = twoDigits(v*step, up)
 	}
 	return 0
 }

@@ -63,6 +63,10 @@ const (
 	CheckFusePlacement     = "fuse.placement"
 	CheckConnectorRating   = "connector.rating"
 	CheckScopeMains        = "scope.mains"
+	CheckRegulatorHeat     = "regulator.heat"
+	CheckBatteryProtection = "battery.protection"
+	CheckConnectorPolarity = "connector.polarity"
+	CheckRailBackfeed      = "rail.backfeed"
 )
 
 // Report is the outcome of a review.

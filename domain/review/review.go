@@ -120,10 +120,11 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 	t := newTree(nodes)
 	t.solve()
 	r.t, r.limits, r.ambient, r.notRun = t, limits, ambient, ru.notRun
-	// A node gets about four checks: its own, and its feed's.
-	r.checks, r.spans = make([]Check, 0, 4*len(nodes)+8), make([]textSpan, 0, 4*len(nodes)+8)
+	// A node gets about four checks: its own, and its feed's; a
+	// switching regulator one more for its heat.
+	r.checks, r.spans = make([]Check, 0, 4*len(nodes)+t.nSwitching+8), make([]textSpan, 0, 4*len(nodes)+t.nSwitching+8)
 	if !quiet {
-		r.text.Grow(320*len(nodes) + 256)
+		r.text.Grow(320*len(nodes) + 80*t.nSwitching + 256)
 	}
 	rep := Report{
 		Format:        ReportFormat,
@@ -143,6 +144,8 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 	needs, slot := r.brownouts()
 	protAmp, protID := t.protectedConductors(nil)
 	r.needs, r.slot, r.protAmp, r.protID = needs, slot, protAmp, protID
+	rails := r.rails()
+	heatRuns, polarityRuns := r.runs(CheckRegulatorHeat), r.runs(CheckConnectorPolarity)
 	for i := range t.nodes {
 		n := &t.nodes[i]
 		switch n.kind {
@@ -154,21 +157,39 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 			if run.Hours != nil {
 				r.sourceRuntime(n, *run.Hours, doc.TargetRuntimeH, run.LimitedBy)
 			}
+			if n.protection != nil {
+				amp, id := r.minUnfusedAmpacity(i, protAmp, protID)
+				r.batteryProtection(n, amp, id)
+				if c := perStringCaution(n); c != "" {
+					rep.Cautions = append(rep.Cautions, c)
+				}
+			}
 		case kindSupply:
 			r.sourceCurrent(n, math.Inf(-1), "")
 		case kindRegulator:
 			r.regulatorHeadroom(n)
 			r.regulatorCurrent(n)
-			if n.topo == topoLinear {
+			switch {
+			case n.thetaJA > 0:
 				r.regulatorThermal(n)
+			case heatRuns:
+				r.regulatorHeat(n)
 			}
 		case kindDriver:
 			r.driverChecks(n)
 		case kindMotor, kindLoad:
 			r.voltageRange(n)
 		}
+		if rails != nil && (n.isSource() || n.kind == kindRegulator) {
+			if s := rails[int32(i)]; s != nil {
+				r.railBackfeed(n, s)
+			}
+		}
 		if n.feed != nil {
 			r.feedChecks(n, protAmp[i], protID[i])
+			if polarityRuns {
+				r.connectorPolarity(n)
+			}
 			if !quiet {
 				rep.Feeds = append(rep.Feeds, r.feedResult(n))
 			}
@@ -300,27 +321,29 @@ func (r *reviewer) brownouts() (needs []need, slot []int32) {
 
 func (r *reviewer) runtime(n *node, nd *need) RuntimeResult {
 	p := n.pack
-	share := 0.0
-	var limitedBy string
-	switch {
-	case nd.brownoutV > p.CutoffV():
+	share := p.UsableShare(0)
+	if nd.brownoutV > p.CutoffV() {
 		share = p.UsableShare(nd.brownoutV)
-		limitedBy = fmt.Sprintf("brownout of %s at %s V", nd.brownoutID, num(nd.brownoutV))
-	default:
-		share = p.UsableShare(0)
-		limitedBy = fmt.Sprintf("cell cutoff at %s V", num(p.CutoffV()))
 	}
-	if len(nd.never) > 0 {
-		limitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
-	}
-	res := RuntimeResult{Source: n.id, UsableShare: clean(share), LimitedBy: limitedBy,
-		Pack: packFacts(*p), Brownouts: brownoutList(*p, nd.loads, &r.nums)}
+	res := RuntimeResult{Source: n.id, UsableShare: clean(share)}
 	// A vanishing average current gives hours too large to print; the
 	// runtime is then simply not a concern and is left out.
 	if h := p.RuntimeH(n.avg, share); n.avg > 0 && !math.IsInf(h, 0) && !math.IsNaN(h) {
 		h = clean(h)
 		res.Hours = &h
 	}
+	if r.quiet { // the hours are all its check needs
+		return res
+	}
+	if nd.brownoutV > p.CutoffV() {
+		res.LimitedBy = fmt.Sprintf("brownout of %s at %s V", nd.brownoutID, num(nd.brownoutV))
+	} else {
+		res.LimitedBy = fmt.Sprintf("cell cutoff at %s V", num(p.CutoffV()))
+	}
+	if len(nd.never) > 0 {
+		res.LimitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
+	}
+	res.Pack, res.Brownouts = packFacts(*p), brownoutList(*p, nd.loads, &r.nums)
 	return res
 }
 
@@ -404,11 +427,11 @@ func (r *reviewer) nodeResult(n *node) NodeResult {
 	if n.kind == kindRegulator {
 		res.Collapsed = n.switching() && (n.collapsed || !r.t.converged)
 		res.OutVLow, res.OutVNominal, res.OutVHigh = r.nums.ptr(n.outLow), r.nums.ptr(n.outNom), r.nums.ptr(n.outHigh)
-		if n.topo == topoLinear {
+		if n.thetaJA > 0 {
 			p, tj := r.junction(n)
 			res.DissipationW, res.JunctionC = r.nums.ptr(p), r.nums.ptr(tj)
 		} else {
-			res.DissipationW = r.nums.ptr(electric.SwitchingLossW(n.outputV, n.outRun, n.efficiency))
+			res.DissipationW = r.nums.ptr(heat(n))
 		}
 	}
 	return res

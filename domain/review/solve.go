@@ -22,6 +22,7 @@ type tree struct {
 	childStart []int32 // children of i are child[childStart[i]:childStart[i+1]]
 	child      []int32
 	switching  bool // any switching regulator
+	nSwitching int  // how many: each gets a heat check of its own
 	converged  bool
 	steps      int
 }
@@ -36,6 +37,7 @@ func newTree(nodes []node) *tree {
 		}
 		if nodes[i].switching() {
 			t.switching = true
+			t.nSwitching++
 		}
 	}
 	for i := 0; i < n; i++ {
@@ -141,7 +143,7 @@ func (t *tree) currents() float64 {
 // cannot carry the power at all; the regulator is marked collapsed and
 // draws the most the feed can deliver, V_p/(2R), at V_p/2.
 func (t *tree) switchingCurrents(n *node) {
-	vp := t.nodes[n.parent].outLow
+	vp := t.nodes[n.parent].outLow - n.revDropV
 	r := n.feed.resistance
 	powerIn := n.outputV * n.outRun / n.efficiency
 	n.collapsed = false
@@ -192,7 +194,9 @@ func (t *tree) voltages() {
 			n.vLow, n.vNom, n.vHigh = n.outputV, n.outputV, n.outputV
 		default:
 			p := &t.nodes[n.parent]
-			drop := n.run * n.feed.resistance
+			// A reverse-polarity diode or FET loses its drop at the low and
+			// nominal ends; the high end, at no load, is taken without it.
+			drop := n.run*n.feed.resistance + n.revDropV
 			n.vLow, n.vNom, n.vHigh = max(p.outLow-drop, 0), max(p.outNom-drop, 0), p.outHigh
 		}
 		switch n.kind {
@@ -245,7 +249,7 @@ func (t *tree) paths() {
 			continue
 		}
 		m := t.nodes[n.parent].outPath()
-		drop := n.run * n.feed.resistance
+		drop := n.run*n.feed.resistance + n.revDropV
 		m.ceiling -= drop
 		if !m.flat {
 			m.shift += drop

@@ -304,12 +304,17 @@ func (p *proposer) supplyWindow(root int, low float64, lowID string) *sourceWind
 	case v < floor:
 		v = math.Ceil(floor*10-1e-9) / 10
 	case v > hi:
-		v = math.Floor(hi*10+1e-9) / 10
+		// The search stops a hair under the ceiling: take the tenth at it
+		// when the ceiling itself is allowed.
+		v = math.Floor(hi*10+1e-6) / 10
+		if ok, _ := p.highOK(root, v, c, ignore, false); !ok {
+			v -= 0.1
+		}
 	default:
 		return &sourceWindow{why: fmt.Sprintf("The %s V of %s already suits every part whose input follows it (%s–%s V "+
 			"would): the finding comes from the wiring or a part on the way.", num(src.outputV), src.id, num(floor), num(hi))}
 	}
-	if v < floor || v > hi {
+	if ok, _ := p.highOK(root, v, c, ignore, false); v < floor || !ok {
 		return &sourceWindow{why: fmt.Sprintf("No supply voltage in tenths of a volt lies from %s V to %s V.", num(floor), num(hi))}
 	}
 	return &sourceWindow{cands: []candidate{{
