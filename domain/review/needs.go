@@ -2,6 +2,7 @@ package review
 
 import (
 	"errors"
+	"fmt"
 	"slices"
 	"strconv"
 	"strings"
@@ -45,15 +46,24 @@ func (l *Limits) missing() []string {
 // defaults, and the checks whose values l itself lacked: a review under l
 // does not run those. l is left as it is.
 func (l Limits) completed() (filled Limits, notRun []string) {
-	filled = l.clone()
+	for _, n := range limitsNeeds() {
+		if len(n.missing(&l)) > 0 && !slices.Contains(notRun, n.check) {
+			notRun = append(notRun, n.check)
+		}
+	}
+	if len(notRun) == 0 {
+		return l, nil
+	}
+	filled, err := l.clone()
+	if err != nil {
+		// JSON cannot carry it (a NaN), and validateValues refuses it for
+		// that: it is left unfilled.
+		return l, notRun
+	}
 	defaults := DefaultLimits()
 	for _, n := range limitsNeeds() {
-		if len(n.missing(&l)) == 0 {
-			continue
-		}
-		n.fill(&filled, &defaults)
-		if !slices.Contains(notRun, n.check) {
-			notRun = append(notRun, n.check)
+		if slices.Contains(notRun, n.check) {
+			n.fill(&filled, &defaults)
 		}
 	}
 	return filled, notRun
@@ -74,16 +84,16 @@ func (l Limits) WithNewDefaults() (Limits, []string) {
 
 // clone copies l through JSON, so filling the copy leaves every table of
 // l untouched. Limits are prepared once per version, not per review.
-func (l Limits) clone() Limits {
+func (l Limits) clone() (Limits, error) {
 	data, err := json.Marshal(l)
 	if err != nil {
-		panic("review: limits do not encode: " + err.Error())
+		return Limits{}, fmt.Errorf("encode limits: %w", err)
 	}
 	var c Limits
 	if err := json.Unmarshal(data, &c); err != nil {
-		panic("review: limits do not decode: " + err.Error())
+		return Limits{}, fmt.Errorf("decode limits: %w", err)
 	}
-	return c
+	return c, nil
 }
 
 // notRunCaution names the checks a review skipped because its limits
