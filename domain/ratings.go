@@ -41,6 +41,9 @@ type Ratings struct {
 	MaxInputV    *float64 `json:"max_input_v,omitzero" for:"regulator driver" unit:"V" min:"0.001" max:"1000" doc:"highest input voltage the part is rated for"`
 	ContinuousA  *float64 `json:"continuous_a,omitzero" for:"driver" unit:"A" min:"0.001" max:"1000" doc:"output current the driver carries continuously"`
 
+	// supply, regulator and driver
+	CurrentLimitA *float64 `json:"current_limit_a,omitzero" for:"supply regulator driver" unit:"A" min:"0.001" max:"1000" doc:"the current the part holds its output to, as its datasheet states: a supply's or regulator's into a short, a driver's into a stalled motor"`
+
 	// driver (a rating) and load (a draw)
 	PeakA *float64 `json:"peak_a,omitzero" for:"driver load" unit:"A" min:"0" max:"1000" default:"a load: its current_a" doc:"a driver: the surge current it is rated for; a load: the most it draws in a surge"`
 
