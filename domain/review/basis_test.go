@@ -42,10 +42,14 @@ func TestRulesNameRuleAndSource(t *testing.T) {
 		CheckRegulatorThermal: {"25 °C", "common practice"},
 		CheckConnectorRating:  {"80 %"},
 		CheckScopeMains:       {"50 V DC", "33 CFR 183.455"},
+		CheckFuseInterrupt:    {"V_full / (R_internal + R_wire)", "10 ×", "breaking capacity", "DC voltage rating"},
+		CheckMotorStall:       {"stall_a × V_high / rated_v", "current_limit_a", "peak_a", "continuous_a"},
+		CheckWireTemperature:  {"30 °C", "33 CFR 183.425 Table 5", "√((T_ins − T_amb) / (T_ins − 30))", "NFPA 70 310.15(B)", "0.8"},
 	}
 	for _, check := range []string{CheckVoltageRange, CheckRegulatorHeadroom, CheckRegulatorCurrent, CheckRegulatorThermal,
 		CheckDriverVoltage, CheckDriverCurrent, CheckSourceCurrent, CheckSourceRuntime, CheckWireAmpacity, CheckWireDrop,
-		CheckFuseMissing, CheckFuseRating, CheckFusePlacement, CheckConnectorRating, CheckScopeMains} {
+		CheckFuseMissing, CheckFuseRating, CheckFusePlacement, CheckConnectorRating, CheckScopeMains,
+		CheckFuseInterrupt, CheckMotorStall, CheckWireTemperature} {
 		r, ok := rules[check]
 		if !ok || r.Basis == "" || r.Source == "" || len(r.Basis) > 400 {
 			t.Errorf("rule of %s: %+v", check, r)
@@ -56,8 +60,8 @@ func TestRulesNameRuleAndSource(t *testing.T) {
 			}
 		}
 	}
-	if len(rules) != 15 {
-		t.Errorf("%d rules, want one for each of the 15 checks", len(rules))
+	if len(rules) != 18 {
+		t.Errorf("%d rules, want one for each of the 18 checks", len(rules))
 	}
 	// The values come from the limits, not from the code.
 	l.Policy.UtilisationPct = Sourced{70, "the space's own rule: 70 %"}

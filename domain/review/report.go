@@ -63,6 +63,9 @@ const (
 	CheckFusePlacement     = "fuse.placement"
 	CheckConnectorRating   = "connector.rating"
 	CheckScopeMains        = "scope.mains"
+	CheckFuseInterrupt     = "fuse.interrupt"
+	CheckMotorStall        = "motor.stall"
+	CheckWireTemperature   = "wire.temperature"
 )
 
 // Report is the outcome of a review.

@@ -15,7 +15,8 @@ import (
 type reviewer struct {
 	t       *tree
 	limits  *Limits
-	notRun  []string // checks the limits predate
+	notRun  []string    // checks the limits predate
+	paths   []faultPath // for the fault checks; nil when none runs
 	ambient float64
 	checks  []Check
 	spans   []textSpan // of each check's message in text
@@ -95,7 +96,11 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	if doc.AmbientC != nil {
 		ambient = *doc.AmbientC
 	}
-	nodes, err := build(doc, limits, components, ambient)
+	var heat *wireHeat
+	if !slices.Contains(ru.notRun, CheckWireTemperature) {
+		heat = &wireHeat{tableAmbientC: limits.Faults.TableAmbientC.Value, enclosedFactor: limits.Faults.EnclosedFactor.Value}
+	}
+	nodes, err := build(doc, limits, components, ambient, heat)
 	if err != nil {
 		return Report{}, err
 	}
@@ -122,6 +127,9 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 
 	needs, slot := r.brownouts()
 	protAmp, protID := r.protectedConductors()
+	if r.runs(CheckFuseInterrupt) || r.runs(CheckMotorStall) {
+		r.paths = r.faultPaths()
+	}
 	for i := range t.nodes {
 		n := &t.nodes[i]
 		switch n.kind {
@@ -145,9 +153,12 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 			r.driverChecks(n)
 		case kindMotor, kindLoad:
 			r.voltageRange(n)
+			if n.kind == kindMotor && r.runs(CheckMotorStall) {
+				r.motorStall(n, i)
+			}
 		}
 		if n.feed != nil {
-			r.feedChecks(n, protAmp[i], protID[i])
+			r.feedChecks(n, i, protAmp[i], protID[i])
 			rep.Feeds = append(rep.Feeds, r.feedResult(n))
 		}
 		rep.Nodes = append(rep.Nodes, r.nodeResult(n))
@@ -183,7 +194,10 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 // limits predate is not run.
 func (r *reviewer) runs(check string) bool { return !slices.Contains(r.notRun, check) }
 
-func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
+func (r *reviewer) feedChecks(n *node, i int, protAmp float64, protID string) {
+	if r.runs(CheckWireTemperature) {
+		r.wireTemperature(n)
+	}
 	r.wireAmpacity(n)
 	r.wireDrop(n)
 	fromSource := r.t.nodes[n.parent].isSource()
@@ -192,6 +206,9 @@ func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
 	}
 	if n.feed.fuse != nil {
 		r.fuseRating(n, protAmp, protID)
+		if r.runs(CheckFuseInterrupt) {
+			r.fuseInterrupt(n, i)
+		}
 		if fromSource {
 			r.fusePlacement(n)
 		}
