@@ -298,14 +298,14 @@ func validateBundling(bs []BundlingFactor) []error {
 // temperature correction equation of NFPA 70 (NEC) 310.15(B) (from
 // memory). The heat a conductor may make goes with the temperature rise its
 // insulation allows, and its current with the square root of that heat. It
-// is 1 at or below the table's ambient (cooler air earns no credit) and 0
-// at or above the insulation's rating, where no current is safe.
+// is 0 at or above the insulation's rating, where no current is safe, and
+// otherwise 1 at or below the table's ambient (cooler air earns no credit).
 func AmbientDerating(insulationC, ambientC, tableAmbientC float64) float64 {
 	switch {
-	case ambientC <= tableAmbientC:
-		return 1
 	case ambientC >= insulationC:
 		return 0
+	case ambientC <= tableAmbientC:
+		return 1
 	}
 	return math.Sqrt((insulationC - ambientC) / (insulationC - tableAmbientC))
 }

@@ -102,6 +102,11 @@ func TestAmbientDerating(t *testing.T) {
 	} {
 		within(t, "derating", AmbientDerating(c.insulation, c.ambient, 30), c.want, 1e-12)
 	}
+	// Insulation rated below the table's ambient (a staff table may have
+	// such a column): air at its rating is still too hot.
+	if got := AmbientDerating(25, 25, 30); got != 0 {
+		t.Errorf("25 °C insulation in 25 °C air: %g, want 0", got)
+	}
 	// The NEC table's figures are the equation's, rounded to two places.
 	if got := math.Round(100*AmbientDerating(90, 40, 30)) / 100; got != 0.91 {
 		t.Errorf("90 °C insulation at 40 °C: %g, want 0.91", got)

@@ -544,10 +544,11 @@ func (r *reviewer) stallFuseText(fz *node, gated bool, gate electric.ClearingGat
 }
 
 // wireTemperature says what the air around a feed's wire leaves of its
-// ampacity, where it takes any: above the table's ambient, or in a box.
+// ampacity, where it takes any: above the table's ambient, in a box, or
+// at the insulation's rating.
 func (r *reviewer) wireTemperature(n *node) {
 	f := n.feed
-	if r.ambient <= r.limits.Faults.TableAmbientC.Value && !f.enclosed {
+	if r.ambient <= r.limits.Faults.TableAmbientC.Value && !f.enclosed && r.ambient < f.insulationC {
 		return
 	}
 	var room [6]cond // a check has at most five conditions: they stay on the stack
