@@ -342,12 +342,22 @@ func (r *reviewer) prospectiveShort(i int) (amps, loopOhm float64) {
 	return src.maxOutA * r.limits.Faults.UnstatedLimitMultiple.Value, loopOhm
 }
 
-// fuseName is "the 5 A blade fuse", or "the 5 A fuse" without a family.
-func fuseName(fu *fuse) string {
-	if fu.family != nil {
-		return "the " + num(fu.ratingA) + " A " + fu.family.Name + " fuse"
+// The messages of the fault checks are written with say, failing ones
+// too: a large build can fail them on every fuse and motor (a big pack
+// behind blade fuses), and fmt would box every number of every sentence.
+
+// sayFuse writes "the 5.00 A blade fuse", or "the 5.00 A fuse" without a
+// family; "The …" when it opens a sentence.
+func (r *reviewer) sayFuse(fu *fuse, opens bool) {
+	the := "the "
+	if opens {
+		the = "The "
 	}
-	return "the " + num(fu.ratingA) + " A fuse"
+	if fu.family != nil {
+		r.say(txt(the), val(fu.ratingA), txt(" A "), txt(fu.family.Name), txt(" fuse"))
+		return
+	}
+	r.say(txt(the), val(fu.ratingA), txt(" A fuse"))
 }
 
 func (r *reviewer) fuseInterrupt(n *node, i int) {
@@ -381,61 +391,72 @@ func (r *reviewer) fuseInterrupt(n *node, i int) {
 				txt(" A a short past it could draw (up to "), val(breaking), txt(" A), and its "), val(fu.voltageV),
 				txt(" V DC rating covers the "), val(n.vHigh), txt(" V circuit."))
 		case c.what == "breaking":
-			also := ""
+			r.say(txt("A short just past "))
+			r.sayFuse(fu, false)
+			r.say(txt(" on the feed to "), txt(n.id), txt(" could draw "), val(amps), txt(" A ("))
+			r.sayShortCause(i, loopOhm)
+			r.say(txt("), more than the "), val(breaking), txt(" A it can break: it can arc across and keep burning. Use a fuse "+
+				"whose datasheet gives a breaking capacity above that at "), val(n.vHigh), txt(" V DC."))
 			switch {
 			case fu.voltageV == 0:
-				also = " Nor has it a known DC voltage rating."
+				r.say(txt(" Nor has it a known DC voltage rating."))
 			case fu.voltageV < n.vHigh:
-				also = " Its " + num(fu.voltageV) + " V DC rating is below the circuit's too."
+				r.say(txt(" Its "), val(fu.voltageV), txt(" V DC rating is below the circuit's too."))
 			}
-			return fmt.Sprintf("A short just past %s on the feed to %s could draw %s A (%s), more than the %s A it can "+
-				"break: it can arc across and keep burning. Use a fuse whose datasheet gives a breaking capacity above "+
-				"that at %s V DC.%s", fuseName(fu), n.id, num(amps), r.shortCause(i, loopOhm), num(breaking), num(n.vHigh), also)
+			return ""
 		case c.what == "voltage":
-			return fmt.Sprintf("%s on the feed to %s is rated %s V DC, below the %s V the circuit reaches: it may not put "+
-				"out its own arc when it blows. Use a fuse rated for at least %s V DC.", capital(fuseName(fu)), n.id,
-				num(fu.voltageV), num(n.vHigh), num(n.vHigh))
+			r.sayFuse(fu, true)
+			return r.say(txt(" on the feed to "), txt(n.id), txt(" is rated "), val(fu.voltageV), txt(" V DC, below the "),
+				val(n.vHigh), txt(" V the circuit reaches: it may not put out its own arc when it blows. Use a fuse rated for "+
+					"at least "), val(n.vHigh), txt(" V DC."))
 		case c.what == "breaking unknown":
-			return fmt.Sprintf("%s on the feed to %s names no family and no breaking_capacity_a, so nothing says it can "+
-				"break the %s A a short past it could draw (%s). Give breaking_capacity_a from its datasheet.",
-				capital(fuseName(fu)), n.id, num(amps), r.shortCause(i, loopOhm))
+			r.sayFuse(fu, true)
+			r.say(txt(" on the feed to "), txt(n.id), txt(" names no family and no breaking_capacity_a, so nothing says it can "+
+				"break the "), val(amps), txt(" A a short past it could draw ("))
+			r.sayShortCause(i, loopOhm)
+			return r.say(txt("). Give breaking_capacity_a from its datasheet."))
 		case c.what == "breaking ac":
-			return fmt.Sprintf("A short past %s on the feed to %s could draw %s A (%s). The family's breaking capacity, "+
-				"%s A, is stated for AC only, an upper bound on what it breaks on DC: only the fuse's datasheet can confirm "+
-				"it; give breaking_capacity_a from it.", fuseName(fu), n.id, num(amps), r.shortCause(i, loopOhm),
-				num(breaking))
+			r.say(txt("A short past "))
+			r.sayFuse(fu, false)
+			r.say(txt(" on the feed to "), txt(n.id), txt(" could draw "), val(amps), txt(" A ("))
+			r.sayShortCause(i, loopOhm)
+			return r.say(txt("). The family's breaking capacity, "), val(breaking), txt(" A, is stated for AC only, an upper "+
+				"bound on what it breaks on DC: only the fuse's datasheet can confirm it; give breaking_capacity_a from it."))
 		}
-		why := "it gives no voltage_rating_v and names no family"
-		if fu.family != nil {
-			why = "the " + fu.family.Name + " family has no DC rating"
-			if fu.family.MaxVoltageV > 0 {
-				why += " (its " + num(fu.family.MaxVoltageV) + " V is for AC)"
-			}
+		r.sayFuse(fu, true)
+		r.say(txt(" on the feed to "), txt(n.id), txt(" has no known DC voltage rating: "))
+		switch {
+		case fu.family == nil:
+			r.say(txt("it gives no voltage_rating_v and names no family"))
+		case fu.family.MaxVoltageV > 0:
+			r.say(txt("the "), txt(fu.family.Name), txt(" family has no DC rating (its "), val(fu.family.MaxVoltageV),
+				txt(" V is for AC)"))
+		default:
+			r.say(txt("the "), txt(fu.family.Name), txt(" family has no DC rating"))
 		}
-		return fmt.Sprintf("%s on the feed to %s has no known DC voltage rating: %s. The circuit reaches %s V DC; give "+
-			"voltage_rating_v from the fuse's datasheet.", capital(fuseName(fu)), n.id, why, num(n.vHigh))
+		return r.say(txt(". The circuit reaches "), val(n.vHigh), txt(" V DC; give voltage_rating_v from the fuse's datasheet."))
 	})
 }
 
-// shortCause says where a prospective short current comes from.
-func (r *reviewer) shortCause(i int, loopOhm float64) string {
+// sayShortCause says where a prospective short current comes from.
+func (r *reviewer) sayShortCause(i int, loopOhm float64) {
 	src := &r.t.nodes[r.paths[i].from]
 	switch {
 	case src.kind == kindBattery:
-		return fmt.Sprintf("%s's %s V over its %s Ω and %s Ω of wire", src.id, num(src.pack.FullV()),
-			num(src.pack.InternalOhm()), num(loopOhm))
+		r.say(txt(src.id), txt("'s "), val(src.pack.FullV()), txt(" V over its "), val(src.pack.InternalOhm()), txt(" Ω and "),
+			val(loopOhm), txt(" Ω of wire"))
+		return
 	case src.currentLimitA > 0:
-		return src.id + "'s stated current limit"
+		r.say(txt(src.id), txt("'s stated current limit"))
+		return
 	}
 	rated := src.maxA
 	if src.kind == kindRegulator {
 		rated = src.maxOutA
 	}
-	return fmt.Sprintf("%s states no current_limit_a: %s × its %s A", src.id,
-		num(r.limits.Faults.UnstatedLimitMultiple.Value), num(rated))
+	r.say(txt(src.id), txt(" states no current_limit_a: "), val(r.limits.Faults.UnstatedLimitMultiple.Value), txt(" × its "),
+		val(rated), txt(" A"))
 }
-
-func capital(s string) string { return strings.ToUpper(s[:1]) + s[1:] }
 
 func speedOf(fu *fuse) string {
 	if fu.fast {
@@ -463,26 +484,24 @@ func (r *reviewer) motorStall(n *node, i int) {
 		}
 	}
 	held := n.run + extra
-	var gate electric.ClearingGate
-	var fz *node
-	gated, through := false, 0.0
+	// The first fuse above, and whether the jam reaches its family's gate.
+	st := stallFuse{}
 	if fp.fuse >= 0 {
-		fz = &nodes[fp.fuse]
-		through = fz.run + extra
-		if fam := fz.feed.fuse.family; fam != nil {
-			gate, gated = fam.Gate(speedOf(fz.feed.fuse))
+		st.at = &nodes[fp.fuse]
+		st.through = st.at.run + extra
+		if fam := st.at.feed.fuse.family; fam != nil {
+			st.gate, st.gated = fam.Gate(speedOf(st.at.feed.fuse))
+			st.opens = st.gate.Multiple * st.at.feed.fuse.ratingA
 		}
 	}
-	opens := 0.0
-	if gated {
-		opens = gate.Multiple * fz.feed.fuse.ratingA
-	}
-	if gated && through >= opens {
-		conds := append(room[:0], below("cleared", Fail, through, opens, "A"))
+	if st.gated && st.through >= st.opens {
+		conds := append(room[:0], below("cleared", Fail, st.through, st.opens, "A"))
 		r.emit(CheckMotorStall, n.id, conds, func(cond, bool) string {
-			return r.say(txt("If "), txt(n.id), txt(" jams it draws "), val(held), txt(" A; "), txt(fuseName(fz.feed.fuse)),
-				txt(" on the feed to "), txt(fz.id), txt(" then carries "), val(through), txt(" A, past the "), val(opens),
-				txt(" A ("), val(gate.Multiple), txt(" × its rating) that opens it within "), val(gate.WithinS), txt(" s."))
+			r.say(txt("If "), txt(n.id), txt(" jams it draws "), val(held), txt(" A; "))
+			r.sayFuse(st.at.feed.fuse, false)
+			return r.say(txt(" on the feed to "), txt(st.at.id), txt(" then carries "), val(st.through), txt(" A, past the "),
+				val(st.opens), txt(" A ("), val(st.gate.Multiple), txt(" × its rating) that opens it within "), val(st.gate.WithinS),
+				txt(" s."))
 		})
 		return
 	}
@@ -499,48 +518,70 @@ func (r *reviewer) motorStall(n *node, i int) {
 	wireA := w.run + extra
 	conds = append(conds, above("wire", Fail, wireA, w.feed.ampacity, "A"))
 	r.emit(CheckMotorStall, n.id, conds, func(c cond, passed bool) string {
-		jam := fmt.Sprintf("If %s jams it draws %s A (its stall current at %s V)", n.id, num(stall), num(n.vHigh))
 		if limited {
-			jam = fmt.Sprintf("If %s jams, %s holds its output to its %s A current limit, so it draws %s A", n.id, drv.id,
-				num(drv.currentLimitA), num(held))
+			r.say(txt("If "), txt(n.id), txt(" jams, "), txt(drv.id), txt(" holds its output to its "), val(drv.currentLimitA),
+				txt(" A current limit, so it draws "), val(held), txt(" A"))
+		} else {
+			r.say(txt("If "), txt(n.id), txt(" jams it draws "), val(stall), txt(" A (its stall current at "), val(n.vHigh), txt(" V)"))
 		}
 		switch {
 		case passed && drv != nil:
-			return fmt.Sprintf("%s for as long as the jam lasts: %s carries %s A, within its continuous_a of %s A, and the "+
-				"tightest wire, the feed to %s, %s A of its %s A ampacity.", jam, drv.id, num(drvOut), num(drv.continuousA),
-				w.id, num(wireA), num(w.feed.ampacity))
+			return r.say(txt(" for as long as the jam lasts: "), txt(drv.id), txt(" carries "), val(drvOut),
+				txt(" A, within its continuous_a of "), val(drv.continuousA), txt(" A, and the tightest wire, the feed to "),
+				txt(w.id), txt(", "), val(wireA), txt(" A of its "), val(w.feed.ampacity), txt(" A ampacity."))
 		case passed:
-			return fmt.Sprintf("%s for as long as the jam lasts: the tightest wire on its path, the feed to %s, carries %s A "+
-				"of its %s A ampacity.", jam, w.id, num(wireA), num(w.feed.ampacity))
+			return r.say(txt(" for as long as the jam lasts: the tightest wire on its path, the feed to "), txt(w.id),
+				txt(", carries "), val(wireA), txt(" A of its "), val(w.feed.ampacity), txt(" A ampacity."))
 		case c.what == "driver peak":
-			return fmt.Sprintf("%s, and %s must pass %s A, above its peak_a of %s A, until something stops it: %s. Fit a "+
-				"driver that limits its current (current_limit_a) or is rated for the stall, or a fuse that opens at it.",
-				jam, drv.id, num(drvOut), num(drv.peakRatingA), r.stallFuseText(fz, gated, gate, through))
+			r.say(txt(", and "), txt(drv.id), txt(" must pass "), val(drvOut), txt(" A, above its peak_a of "), val(drv.peakRatingA),
+				txt(" A, until something stops it: "))
+			r.sayStallFuse(&st)
+			return r.say(txt(". Fit a driver that limits its current (current_limit_a) or is rated for the stall, or a fuse " +
+				"that opens at it."))
 		case c.what == "driver continuous":
-			return fmt.Sprintf("%s, and %s must pass %s A, above its continuous_a of %s A, for as long as the jam lasts: "+
-				"%s. Fit a driver that limits its current (current_limit_a) to what it carries continuously, or a fuse "+
-				"that opens at the stall.", jam, drv.id, num(drvOut), num(drv.continuousA),
-				r.stallFuseText(fz, gated, gate, through))
+			r.say(txt(", and "), txt(drv.id), txt(" must pass "), val(drvOut), txt(" A, above its continuous_a of "),
+				val(drv.continuousA), txt(" A, for as long as the jam lasts: "))
+			r.sayStallFuse(&st)
+			return r.say(txt(". Fit a driver that limits its current (current_limit_a) to what it carries continuously, " +
+				"or a fuse that opens at the stall."))
 		}
-		return fmt.Sprintf("%s, and the %s feed to %s then carries %s A, above its ampacity of %s A, for as long as the jam "+
-			"lasts: %s. Use thicker wire, or a fuse or driver current limit that stops the stall.", jam, w.feed.gauge.Label,
-			w.id, num(wireA), num(w.feed.ampacity), r.stallFuseText(fz, gated, gate, through))
+		r.say(txt(", and the "), txt(w.feed.gauge.Label), txt(" feed to "), txt(w.id), txt(" then carries "), val(wireA),
+			txt(" A, above its ampacity of "), val(w.feed.ampacity), txt(" A, for as long as the jam lasts: "))
+		r.sayStallFuse(&st)
+		return r.say(txt(". Use thicker wire, or a fuse or driver current limit that stops the stall."))
 	})
 }
 
-// stallFuseText says why the fuse above a jammed motor does not stop it.
-func (r *reviewer) stallFuseText(fz *node, gated bool, gate electric.ClearingGate, through float64) string {
+// stallFuse is the first fuse above a jammed motor: at is the node whose
+// feed it is on (nil: none), through what it carries in the jam, and
+// gated whether its family stores a gate for its speed, which opens it
+// at opens amps.
+type stallFuse struct {
+	at             *node
+	through, opens float64
+	gate           electric.ClearingGate
+	gated          bool
+}
+
+// sayStallFuse says why the fuse above a jammed motor does not stop it.
+func (r *reviewer) sayStallFuse(st *stallFuse) {
 	switch {
-	case fz == nil:
-		return "no fuse on its path stops it"
-	case fz.feed.fuse.family == nil:
-		return fuseName(fz.feed.fuse) + " on the feed to " + fz.id + " names no family, so when it would open is unknown"
-	case !gated:
-		return "the limits store no " + speedOf(fz.feed.fuse) + " opening gate for the " + fz.feed.fuse.family.Name + " family"
+	case st.at == nil:
+		r.say(txt("no fuse on its path stops it"))
+		return
+	case st.at.feed.fuse.family == nil:
+		r.sayFuse(st.at.feed.fuse, false)
+		r.say(txt(" on the feed to "), txt(st.at.id), txt(" names no family, so when it would open is unknown"))
+		return
+	case !st.gated:
+		r.say(txt("the limits store no "), txt(speedOf(st.at.feed.fuse)), txt(" opening gate for the "),
+			txt(st.at.feed.fuse.family.Name), txt(" family"))
+		return
 	}
-	return fmt.Sprintf("%s (%s) on the feed to %s sees %s A, short of the %s A (%s × its rating) that opens it within %s s",
-		fuseName(fz.feed.fuse), speedOf(fz.feed.fuse), fz.id, num(through), num(gate.Multiple*fz.feed.fuse.ratingA),
-		num(gate.Multiple), num(gate.WithinS))
+	r.sayFuse(st.at.feed.fuse, false)
+	r.say(txt(" ("), txt(speedOf(st.at.feed.fuse)), txt(") on the feed to "), txt(st.at.id), txt(" sees "), val(st.through),
+		txt(" A, short of the "), val(st.opens), txt(" A ("), val(st.gate.Multiple), txt(" × its rating) that opens it within "),
+		val(st.gate.WithinS), txt(" s"))
 }
 
 // wireTemperature says what the air around a feed's wire leaves of its
@@ -554,17 +595,20 @@ func (r *reviewer) wireTemperature(n *node) {
 	var room [6]cond // a check has at most five conditions: they stay on the stack
 	conds := append(room[:0], atLeast("insulation", Fail, r.ambient, f.insulationC, "°C"))
 	r.emit(CheckWireTemperature, n.id, conds, func(c cond, passed bool) string {
-		where := " in " + num(r.ambient) + " °C air"
-		if f.enclosed {
-			where += ", inside a closed box,"
-		}
+		r.say(txt("The "), txt(f.gauge.Label), txt(" feed to "), txt(n.id))
 		if passed {
-			return fmt.Sprintf("The %s feed to %s, its insulation rated %s °C,%s keeps %s of its %s A table ampacity: "+
-				"%s A, which its ampacity and fuse checks use.", f.gauge.Label, n.id, num(f.insulationC), where,
-				pct(f.derating), num(f.tableAmp), num(f.ampacity))
+			r.say(txt(", its insulation rated "), val(f.insulationC), txt(" °C, in "), val(r.ambient), txt(" °C air"))
+			if f.enclosed {
+				r.say(txt(", inside a closed box,"))
+			}
+			return r.say(txt(" keeps "), txt(pct(f.derating)), txt(" of its "), val(f.tableAmp), txt(" A table ampacity: "),
+				val(f.ampacity), txt(" A, which its ampacity and fuse checks use."))
 		}
-		return fmt.Sprintf("The %s feed to %s runs%s at or above the %s °C its insulation is rated for: it can carry no "+
-			"current safely. Use wire with insulation rated well above the air around it, or keep it out of the heat.",
-			f.gauge.Label, n.id, where, num(f.insulationC))
+		r.say(txt(" runs in "), val(r.ambient), txt(" °C air"))
+		if f.enclosed {
+			r.say(txt(", inside a closed box,"))
+		}
+		return r.say(txt(" at or above the "), val(f.insulationC), txt(" °C its insulation is rated for: it can carry no "+
+			"current safely. Use wire with insulation rated well above the air around it, or keep it out of the heat."))
 	})
 }

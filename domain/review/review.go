@@ -107,9 +107,10 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	t := newTree(nodes)
 	t.solve()
 	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun,
-		// A node gets about four checks: its own, and its feed's.
-		checks: make([]Check, 0, 4*len(nodes)+8), spans: make([]textSpan, 0, 4*len(nodes)+8)}
-	r.text.Grow(320*len(nodes) + 256)
+		// A node gets about four and a half checks: its own, its feed's and
+		// the fault checks' (a fuse's and a motor's), of about 100 bytes each.
+		checks: make([]Check, 0, 9*len(nodes)/2+8), spans: make([]textSpan, 0, 9*len(nodes)/2+8)}
+	r.text.Grow(448*len(nodes) + 256)
 	rep := Report{
 		Format:        ReportFormat,
 		LimitsVersion: ru.version,
