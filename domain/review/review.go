@@ -15,7 +15,8 @@ import (
 type reviewer struct {
 	t       *tree
 	limits  *Limits
-	notRun  []string // checks the limits predate
+	notRun  []string    // checks the limits predate
+	paths   []faultPath // for the fault checks; nil when none runs
 	ambient float64
 	checks  []Check
 	spans   []textSpan // of each check's message in text
@@ -95,17 +96,22 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	if doc.AmbientC != nil {
 		ambient = *doc.AmbientC
 	}
-	nodes, err := build(doc, limits, components, ambient)
+	var heat *wireHeat
+	if !slices.Contains(ru.notRun, CheckWireTemperature) {
+		heat = &wireHeat{tableAmbientC: limits.Faults.TableAmbientC.Value, enclosedFactor: limits.Faults.EnclosedFactor.Value}
+	}
+	nodes, err := build(doc, limits, components, ambient, heat)
 	if err != nil {
 		return Report{}, err
 	}
 	t := newTree(nodes)
 	t.solve()
 	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun,
-		// A node gets about four checks: its own, and its feed's; a
-		// switching regulator one more for its heat.
-		checks: make([]Check, 0, 4*len(nodes)+t.nSwitching+8), spans: make([]textSpan, 0, 4*len(nodes)+t.nSwitching+8)}
-	r.text.Grow(320*len(nodes) + 80*t.nSwitching + 256)
+		// A node gets about four and a half checks: its own, its feed's and
+		// the fault checks' (a fuse's and a motor's), of about 100 bytes
+		// each; a switching regulator one more for its heat.
+		checks: make([]Check, 0, 9*len(nodes)/2+t.nSwitching+8), spans: make([]textSpan, 0, 9*len(nodes)/2+t.nSwitching+8)}
+	r.text.Grow(448*len(nodes) + 80*t.nSwitching + 256)
 	rep := Report{
 		Format:        ReportFormat,
 		LimitsVersion: ru.version,
@@ -125,6 +131,9 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	protAmp, protID := r.protectedConductors()
 	rails := r.rails()
 	heatRuns, polarityRuns := r.runs(CheckRegulatorHeat), r.runs(CheckConnectorPolarity)
+	if r.runs(CheckFuseInterrupt) || r.runs(CheckMotorStall) {
+		r.paths = r.faultPaths()
+	}
 	for i := range t.nodes {
 		n := &t.nodes[i]
 		switch n.kind {
@@ -158,6 +167,9 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 			r.driverChecks(n)
 		case kindMotor, kindLoad:
 			r.voltageRange(n)
+			if n.kind == kindMotor && r.runs(CheckMotorStall) {
+				r.motorStall(n, i)
+			}
 		}
 		if rails != nil && (n.isSource() || n.kind == kindRegulator) {
 			if s := rails[int32(i)]; s != nil {
@@ -165,7 +177,7 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 			}
 		}
 		if n.feed != nil {
-			r.feedChecks(n, protAmp[i], protID[i])
+			r.feedChecks(n, i, protAmp[i], protID[i])
 			if polarityRuns {
 				r.connectorPolarity(n)
 			}
@@ -204,7 +216,10 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 // limits predate is not run.
 func (r *reviewer) runs(check string) bool { return !slices.Contains(r.notRun, check) }
 
-func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
+func (r *reviewer) feedChecks(n *node, i int, protAmp float64, protID string) {
+	if r.runs(CheckWireTemperature) {
+		r.wireTemperature(n)
+	}
 	r.wireAmpacity(n)
 	r.wireDrop(n)
 	fromSource := r.t.nodes[n.parent].isSource()
@@ -213,6 +228,9 @@ func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
 	}
 	if n.feed.fuse != nil {
 		r.fuseRating(n, protAmp, protID)
+		if r.runs(CheckFuseInterrupt) {
+			r.fuseInterrupt(n, i)
+		}
 		if fromSource {
 			r.fusePlacement(n)
 		}
