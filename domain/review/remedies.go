@@ -42,6 +42,12 @@ func (p *proposer) candidates(c Check, i int) ([]candidate, string) {
 		return p.sourceCurrent(i)
 	case CheckSourceRuntime:
 		return p.runtime(i)
+	case CheckRegulatorHeat:
+		return p.regulatorHeat(i)
+	case CheckConnectorPolarity:
+		return p.connectorPolarity(i)
+	case CheckRailBackfeed:
+		return p.railBackfeed(i)
 	}
 	return nil, "No remedy is worked out for " + c.Check + " findings."
 }
@@ -346,16 +352,13 @@ func (p *proposer) connectorCandidates(i int, ptr string) ([]candidate, string) 
 	needA := ratingFor(n.run/u, func(v float64) bool { return !(n.run > u*v) })
 	needV := ratingFor(n.vHigh/u, func(v float64) bool { return !(n.vHigh > u*v) })
 	need := &PartNeed{Kind: "connector", AtLeast: map[string]float64{"rating_a": needA, "rating_v": needV}}
-	fams := slices.Clone(p.ru.limits.Connectors)
-	slices.SortStableFunc(fams, func(a, b ConnectorFamily) int { return cmp.Compare(a.RatingA, b.RatingA) })
-	own := p.doc.Nodes[i].Feed.Connectors[k]
-	for _, fam := range fams {
-		if n.run > u*fam.RatingA || !(fam.RatingV > 0) || n.vHigh > u*fam.RatingV {
-			continue
-		}
-		if fam.Family == own.Family && (own.RatingA != nil || own.RatingV != nil) {
-			continue // the design rates its pair of this family lower: it knows better
-		}
+	// The design rates its own pair of a family lower than the family:
+	// it knows better, so that family is not offered again.
+	own, skip := p.doc.Nodes[i].Feed.Connectors[k], ""
+	if own.RatingA != nil || own.RatingV != nil {
+		skip = own.Family
+	}
+	if fam, ok := p.connectorFamily(n, n.feed.connectors[k].fixesPolarity, skip); ok {
 		c := domain.Connector{Family: fam.Family}
 		return []candidate{{
 			change: fmt.Sprintf("Use a %s connector pair on the feed to %s instead: rated %s A and %s V for %s A at up to %s V "+
@@ -366,6 +369,9 @@ func (p *proposer) connectorCandidates(i int, ptr string) ([]candidate, string) 
 		}}, ""
 	}
 	c := domain.Connector{RatingA: ptrF(needA), RatingV: ptrF(needV)}
+	if n.feed.connectors[k].fixesPolarity {
+		c.FixesPolarity = boolPtr(true)
+	}
 	return []candidate{{
 		change: fmt.Sprintf("Use a connector pair on the feed to %s rated at least %s A and %s V: no stored family is.", n.id,
 			num(needA), num(needV)),
@@ -411,22 +417,40 @@ func (p *proposer) regulatorCurrent(i int) ([]candidate, string) {
 	}}, ""
 }
 
-// toSwitching makes linear regulator i a converter of topology topo,
-// which holds its output from any input its feed can carry.
-func (p *proposer) toSwitching(i int, topo string, why string) candidate {
+// toSwitching makes regulator i a converter of topology topo, which
+// holds its output from any input its feed can carry. The design's θJA
+// was the old part's, so it goes, and the converter's heat is judged as a
+// board's with no heat sink: where the limits' default efficiency sheds
+// more than that, the converter must be more efficient, and says so.
+func (p *proposer) toSwitching(i int, topo string, why string) (candidate, bool) {
 	n := &p.r.t.nodes[i]
 	eff := p.ru.limits.Regulators.SwitchingEfficiency.Value
+	effSaid := "at " + pct(eff) + " efficiency (the limits' default)"
+	limit := p.ru.limits.Regulators.NoHeatsinkMaxW.Value
+	out, iq := n.outputV*n.outRun, n.vHigh*n.quiescentA
+	if n.switching() {
+		eff = n.efficiency
+		effSaid = "at its " + pct(eff) + " efficiency"
+	}
+	var edits []edit
+	if out*(1/eff-1)+iq > limit {
+		need := ratingFor(out/(out+limit-iq), func(v float64) bool { return out*(1/v-1)+iq <= limit })
+		if limit <= iq || !(need > 0) || need >= 1 {
+			return candidate{}, false
+		}
+		eff, effSaid = need, "at "+pct(need)+" efficiency or better"
+		edits = append(edits, setField(i, "efficiency", need, func(n *domain.Node, v *float64) { n.Efficiency = v }))
+	}
 	loss := electric.SwitchingLossW(n.outputV, n.outRun, eff)
 	rank := 1.0
 	if topo == domain.TopologyBuckBoost {
 		rank = 2
 	}
-	edits := []edit{{node: i, path: "/topology", value: topo, rank: rank, part: true, set: func(n *domain.Node) { n.Topology = topo }}}
+	edits = append(edits, edit{node: i, path: "/topology", value: topo, rank: rank, part: true, set: func(n *domain.Node) { n.Topology = topo }},
+		removeField(i, "theta_ja_c_per_w", func(n *domain.Node) { n.ThetaJACPerW = nil }),
+		removeField(i, "tj_max_c", func(n *domain.Node) { n.TjMaxC = nil }))
 	if n.topo == topoLinear {
-		edits = append(edits,
-			removeField(i, "dropout_v", func(n *domain.Node) { n.DropoutV = nil }),
-			removeField(i, "theta_ja_c_per_w", func(n *domain.Node) { n.ThetaJACPerW = nil }),
-			removeField(i, "tj_max_c", func(n *domain.Node) { n.TjMaxC = nil }))
+		edits = append(edits, removeField(i, "dropout_v", func(n *domain.Node) { n.DropoutV = nil }))
 	} else {
 		edits = append(edits, removeField(i, "min_input_v", func(n *domain.Node) { n.MinInputV = nil }))
 	}
@@ -434,35 +458,36 @@ func (p *proposer) toSwitching(i int, topo string, why string) candidate {
 	if topo == domain.TopologyBuckBoost {
 		kind = "a buck-boost converter"
 	}
-	return candidate{
-		change: fmt.Sprintf("Use %s in place of %s (%s): at %s efficiency (the limits' default) it sheds about %s W delivering "+
-			"%s A at %s V.", kind, n.id, why, pct(eff), num(loss), num(n.outRun), num(n.outputV)),
-		edits: edits, part: regulatorNeed(n, topo),
+	need := regulatorNeed(n, topo)
+	if len(edits) > 0 && edits[0].path == "/efficiency" {
+		need.AtLeast["efficiency"] = eff
 	}
+	return candidate{
+		change: fmt.Sprintf("Use %s in place of %s (%s): %s it sheds about %s W delivering %s A at %s V.", kind, n.id, why,
+			effSaid, num(loss), num(n.outRun), num(n.outputV)),
+		edits: edits, part: need,
+	}, true
 }
 
 func (p *proposer) regulatorThermal(i int) ([]candidate, string) {
 	n := &p.r.t.nodes[i]
+	if n.switching() {
+		return p.switchingThermal(i)
+	}
 	powerW, tj := p.r.junction(n)
 	topo := domain.TopologyBuck
 	if n.vLow < n.outputV {
 		topo = domain.TopologyBuckBoost
 	}
-	out := []candidate{p.toSwitching(i, topo, fmt.Sprintf("the linear one sheds %s W and its junction reaches %s °C", num(powerW), num(tj)))}
-	margin := p.ru.limits.Policy.ThermalMarginC.Value
-	ceiling := n.tjMaxC - margin
-	if powerW > 0 && ceiling > p.r.ambient {
-		theta := limitFor((ceiling-p.r.ambient)/powerW, func(v float64) bool { return p.r.ambient+powerW*v < ceiling })
-		if theta >= 0.1 {
-			out = append(out, candidate{
-				change: fmt.Sprintf("Mount %s on a heatsink that brings θJA to %s °C/W or less: shedding %s W, its junction stays "+
-					"at %s °C, %s °C under its %s °C limit.", n.id, num(theta), num(powerW), num(p.r.ambient+powerW*theta),
-					num(n.tjMaxC-(p.r.ambient+powerW*theta)), num(n.tjMaxC)),
-				edits: []edit{setField(i, "theta_ja_c_per_w", theta, func(n *domain.Node, v *float64) { n.ThetaJACPerW = v })},
-				local: true,
-			})
-			out[len(out)-1].edits[0].rank = -theta // the lower θJA is the stronger change
-		}
+	var out []candidate
+	if c, ok := p.toSwitching(i, topo, fmt.Sprintf("the linear one sheds %s W and its junction reaches %s °C", num(powerW), num(tj))); ok {
+		out = append(out, c)
+	}
+	if c, ok := p.heatsinkFor(i, powerW); ok {
+		out = append(out, c)
+	}
+	if len(out) == 0 {
+		return nil, fmt.Sprintf("Neither a converter nor a heatsink keeps %s's heat in bounds: it sheds %s W.", n.id, num(powerW))
 	}
 	return out, ""
 }
@@ -495,8 +520,10 @@ func (p *proposer) regulatorHeadroom(i int) ([]candidate, string) {
 			})
 			out[len(out)-1].edits[0].rank = -d
 		}
-		out = append(out, p.toSwitching(i, domain.TopologyBuckBoost, fmt.Sprintf("its input falls to %s V, below the %s V it needs",
-			num(n.vLow), num(n.outputV+n.dropoutV))))
+		if c, ok := p.toSwitching(i, domain.TopologyBuckBoost, fmt.Sprintf("its input falls to %s V, below the %s V it needs",
+			num(n.vLow), num(n.outputV+n.dropoutV))); ok {
+			out = append(out, c)
+		}
 	default:
 		lo := n.minWorkingInputV()
 		if n.minInputV > 0 && n.vLow < n.minInputV && (n.topo != topoBuck || n.vLow >= n.outputV) {
@@ -514,8 +541,10 @@ func (p *proposer) regulatorHeadroom(i int) ([]candidate, string) {
 			}
 		}
 		if n.topo != topoBuckBoost {
-			out = append(out, p.toSwitching(i, domain.TopologyBuckBoost, fmt.Sprintf("its input runs from %s V to %s V, and it needs "+
-				"%s V or more to hold %s V", num(n.vLow), num(n.vHigh), num(max(lo, n.outputV)), num(n.outputV))))
+			if c, ok := p.toSwitching(i, domain.TopologyBuckBoost, fmt.Sprintf("its input runs from %s V to %s V, and it needs "+
+				"%s V or more to hold %s V", num(n.vLow), num(n.vHigh), num(max(lo, n.outputV)), num(n.outputV))); ok {
+				out = append(out, c)
+			}
 		}
 	}
 	out = append(out, p.sourceCandidates(n.root, 1)...)
