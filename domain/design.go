@@ -101,6 +101,7 @@ type Wire struct {
 	LengthM     float64  `json:"length_m" unit:"m" min:"0.001" max:"100" doc:"length one way; the return conductor is the same length and size"`
 	InsulationC *float64 `json:"insulation_c,omitzero" unit:"°C" min:"1" max:"300" default:"105" doc:"temperature rating of the insulation; picks the ampacity column"`
 	Bundled     *int     `json:"bundled,omitzero" min:"1" max:"1000" default:"1" doc:"current-carrying conductors run together, for the bundling factor"`
+	Enclosed    bool     `json:"enclosed,omitzero" default:"false" doc:"true when the wire runs inside a closed box, where it sheds less heat: its ampacity is derated by the limits' enclosed factor"`
 }
 
 // Fuse protects a feed. Family names a stored fuse series; without one the
@@ -108,10 +109,11 @@ type Wire struct {
 type Fuse struct {
 	RatingA             float64  `json:"rating_a" unit:"A" min:"0.001" max:"1000" doc:"the fuse's current rating"`
 	Speed               string   `json:"speed,omitzero" enum:"fast slow" default:"slow" doc:"fast or slow (time-delay)"`
-	VoltageRatingV      *float64 `json:"voltage_rating_v,omitzero" unit:"V" min:"0.001" max:"1000" doc:"the fuse's voltage rating"`
+	VoltageRatingV      *float64 `json:"voltage_rating_v,omitzero" unit:"V" min:"0.001" max:"1000" default:"its family's DC rating" doc:"the fuse's DC voltage rating, as its datasheet gives it; an AC rating does not count (a glass fuse marked 250 V is rated for AC)"`
+	BreakingCapacityA   *float64 `json:"breaking_capacity_a,omitzero" unit:"A" min:"1" max:"100000" default:"its family's" doc:"the most current the fuse can interrupt at its DC voltage rating, as its datasheet gives it"`
 	DistanceFromSourceM *float64 `json:"distance_from_source_m,omitzero" unit:"m" min:"0" max:"100" doc:"wire length from the source's terminal to the fuse"`
 	Sheathed            bool     `json:"sheathed,omitzero" default:"false" doc:"true when the wire up to the fuse runs in a sheath or conduit"`
-	Family              string   `json:"family,omitzero" doc:"the stored fuse series (blade, cartridge_5x20, …) whose standard ratings apply"`
+	Family              string   `json:"family,omitzero" doc:"the stored fuse series (blade, mini-blade, glass-5x20, ceramic-5x20 in the defaults) whose standard ratings and fault figures apply"`
 }
 
 // Connector is a connector pair along a feed. A rating left out comes from

@@ -54,6 +54,8 @@ type Ratings struct {
 	// regulator, driver and load: what a reversed supply would do to it
 	ReverseProtectionDropV *float64 `json:"reverse_protection_drop_v,omitzero" for:"regulator driver load" unit:"V" min:"0" max:"10" doc:"the part has reverse-polarity protection at its input (a series diode or FET), losing this much voltage; its input window counts the loss"`
 	PolarityFree           bool     `json:"polarity_free,omitzero" for:"load" default:"false" doc:"true for a load that works either way round (a filament lamp, a heater, an input behind a bridge rectifier)"`
+	// supply, regulator and driver
+	CurrentLimitA *float64 `json:"current_limit_a,omitzero" for:"supply regulator driver" unit:"A" min:"0.001" max:"1000" doc:"the current the part holds its output to, as its datasheet states: a supply's or regulator's into a short, a driver's into a stalled motor"`
 
 	// driver (a rating) and load (a draw)
 	PeakA *float64 `json:"peak_a,omitzero" for:"driver load" unit:"A" min:"0" max:"1000" default:"a load: its current_a" doc:"a driver: the surge current it is rated for; a load: the most it draws in a surge"`

@@ -83,6 +83,9 @@ func TestSchemaRefusesBrokenDesigns(t *testing.T) {
 		{"unknown wire member", `"length_m": 0.3}`, `"length_m": 0.3, "colour": "red"}`, "/nodes/2/feed/wire"},
 		{"negative wire", `"length_m": 0.3}`, `"length_m": -0.3}`, "/nodes/2/feed/wire/length_m"},
 		{"bad fuse speed", `"speed": "slow"`, `"speed": "lazy"`, "/nodes/1/feed/fuse/speed"},
+		{"enclosed not a boolean", `"length_m": 0.3}`, `"length_m": 0.3, "enclosed": "yes"}`, "/nodes/2/feed/wire/enclosed"},
+		{"breaking capacity out of range", `"speed": "slow"`, `"speed": "slow", "breaking_capacity_a": 0`, "/nodes/1/feed/fuse/breaking_capacity_a"},
+		{"current limit out of range", `"continuous_a": 3,`, `"continuous_a": 3, "current_limit_a": -1,`, "/nodes/1/current_limit_a"},
 		{"no nodes", `"nodes": [`, `"nodez": [`, ""},
 	}
 	for _, tt := range tests {

@@ -157,6 +157,24 @@ func (e ComponentKind) Valid() bool {
 	}
 }
 
+// Defines values for LimitsFusesFamiliesClearingSpeed.
+const (
+	Fast LimitsFusesFamiliesClearingSpeed = "fast"
+	Slow LimitsFusesFamiliesClearingSpeed = "slow"
+)
+
+// Valid indicates whether the value is a known member of the LimitsFusesFamiliesClearingSpeed enum.
+func (e LimitsFusesFamiliesClearingSpeed) Valid() bool {
+	switch e {
+	case Fast:
+		return true
+	case Slow:
+		return true
+	default:
+		return false
+	}
+}
+
 // Defines values for ProblemQuota.
 const (
 	Designs        ProblemQuota = "designs"
@@ -185,9 +203,11 @@ const (
 	ConnectorRating   ReportChecksCheck = "connector.rating"
 	DriverCurrent     ReportChecksCheck = "driver.current"
 	DriverVoltage     ReportChecksCheck = "driver.voltage"
+	FuseInterrupt     ReportChecksCheck = "fuse.interrupt"
 	FuseMissing       ReportChecksCheck = "fuse.missing"
 	FusePlacement     ReportChecksCheck = "fuse.placement"
 	FuseRating        ReportChecksCheck = "fuse.rating"
+	MotorStall        ReportChecksCheck = "motor.stall"
 	RailBackfeed      ReportChecksCheck = "rail.backfeed"
 	RegulatorCurrent  ReportChecksCheck = "regulator.current"
 	RegulatorHeadroom ReportChecksCheck = "regulator.headroom"
@@ -199,6 +219,7 @@ const (
 	VoltageRange      ReportChecksCheck = "voltage.range"
 	WireAmpacity      ReportChecksCheck = "wire.ampacity"
 	WireDrop          ReportChecksCheck = "wire.drop"
+	WireTemperature   ReportChecksCheck = "wire.temperature"
 )
 
 // Valid indicates whether the value is a known member of the ReportChecksCheck enum.
@@ -214,11 +235,15 @@ func (e ReportChecksCheck) Valid() bool {
 		return true
 	case DriverVoltage:
 		return true
+	case FuseInterrupt:
+		return true
 	case FuseMissing:
 		return true
 	case FusePlacement:
 		return true
 	case FuseRating:
+		return true
+	case MotorStall:
 		return true
 	case RailBackfeed:
 		return true
@@ -241,6 +266,8 @@ func (e ReportChecksCheck) Valid() bool {
 	case WireAmpacity:
 		return true
 	case WireDrop:
+		return true
+	case WireTemperature:
 		return true
 	default:
 		return false
@@ -365,6 +392,7 @@ type Component struct {
 	ContinuousA     *float64            `json:"continuous_a,omitempty"`
 	CreatedAt       time.Time           `json:"created_at"`
 	CurrentA        *float64            `json:"current_a,omitempty"`
+	CurrentLimitA   *float64            `json:"current_limit_a,omitempty"`
 	Description     *string             `json:"description,omitempty"`
 	DropoutV        *float64            `json:"dropout_v,omitempty"`
 	Efficiency      *float64            `json:"efficiency,omitempty"`
@@ -432,6 +460,7 @@ type ComponentInput struct {
 	Condition       *ComponentInputCondition `json:"condition,omitempty"`
 	ContinuousA     *float64                 `json:"continuous_a,omitempty"`
 	CurrentA        *float64                 `json:"current_a,omitempty"`
+	CurrentLimitA   *float64                 `json:"current_limit_a,omitempty"`
 	Description     *string                  `json:"description,omitempty"`
 	DropoutV        *float64                 `json:"dropout_v,omitempty"`
 	Efficiency      *float64                 `json:"efficiency,omitempty"`
@@ -532,6 +561,7 @@ type Electrical struct {
 	ClampV                 *float64 `json:"clamp_v,omitempty"`
 	ContinuousA            *float64 `json:"continuous_a,omitempty"`
 	CurrentA               *float64 `json:"current_a,omitempty"`
+	CurrentLimitA          *float64 `json:"current_limit_a,omitempty"`
 	DropoutV               *float64 `json:"dropout_v,omitempty"`
 	Efficiency             *float64 `json:"efficiency,omitempty"`
 	Gauge                  *string  `json:"gauge,omitempty"`
@@ -609,9 +639,40 @@ type Limits struct {
 		RatingV       *float64 `json:"rating_v,omitempty"`
 		Source        *string  `json:"source,omitempty"`
 	} `json:"connectors"`
+
+	// Faults Values of the fault checks (fuse.interrupt, motor.stall, wire.temperature).
+	Faults *struct {
+		EnclosedFactor        *Sourced `json:"enclosed_factor,omitempty"`
+		TableAmbientC         *Sourced `json:"table_ambient_c,omitempty"`
+		UnstatedLimitMultiple *Sourced `json:"unstated_limit_multiple,omitempty"`
+	} `json:"faults,omitempty"`
 	Fuses struct {
 		ContinuousLoadFactor Sourced `json:"continuous_load_factor"`
 		Families             []struct {
+			// BreakingCapacityA The most current the family can interrupt.
+			BreakingCapacityA *float64 `json:"breaking_capacity_a,omitempty"`
+
+			// BreakingCapacityAc The breaking capacity is stated for AC only: at most an upper bound on DC.
+			BreakingCapacityAc *bool `json:"breaking_capacity_ac,omitempty"`
+
+			// BreakingCapacityMultiple A fuse's breaking capacity is at least this times its rating.
+			BreakingCapacityMultiple *float64 `json:"breaking_capacity_multiple,omitempty"`
+
+			// Clearing Per fuse speed, the multiple of its rating that opens a fuse of the family within a time.
+			Clearing *[]struct {
+				Multiple float64                          `json:"multiple"`
+				Source   string                           `json:"source"`
+				Speed    LimitsFusesFamiliesClearingSpeed `json:"speed"`
+				WithinS  float64                          `json:"within_s"`
+			} `json:"clearing,omitempty"`
+
+			// DcVoltageV The highest DC voltage the family is rated to break; 0 when none is published.
+			DcVoltageV *float64 `json:"dc_voltage_v,omitempty"`
+
+			// FaultSource Where the fault figures come from; a family without it predates them.
+			FaultSource *string `json:"fault_source,omitempty"`
+
+			// MaxVoltageV The family's catalogue voltage rating, of whatever kind its standard gives (AC for IEC 60127-2 cartridges); never read as a DC rating.
 			MaxVoltageV *float64  `json:"max_voltage_v,omitempty"`
 			Name        string    `json:"name"`
 			RatingsA    []float64 `json:"ratings_a"`
@@ -638,6 +699,9 @@ type Limits struct {
 		NoncriticalPct Sourced `json:"noncritical_pct"`
 	} `json:"voltage_drop"`
 }
+
+// LimitsFusesFamiliesClearingSpeed defines model for Limits.Fuses.Families.Clearing.Speed.
+type LimitsFusesFamiliesClearingSpeed string
 
 // LimitsVersion defines model for LimitsVersion.
 type LimitsVersion struct {
@@ -855,6 +919,7 @@ type ShelfItem struct {
 	Condition              string        `json:"condition"`
 	ContinuousA            *float64      `json:"continuous_a,omitempty"`
 	CurrentA               *float64      `json:"current_a,omitempty"`
+	CurrentLimitA          *float64      `json:"current_limit_a,omitempty"`
 	Description            *string       `json:"description,omitempty"`
 	DropoutV               *float64      `json:"dropout_v,omitempty"`
 	Efficiency             *float64      `json:"efficiency,omitempty"`

@@ -25,13 +25,14 @@ import (
 // Designs for the review command, each with the reason for its status.
 var reviewCLIDesigns = map[string]string{
 	// A 5 V bench supply to a 5 V lamp over a short, fused lead: 0.5 A in
-	// 0.3 m of 22 AWG drops about 0.016 V, nothing near any limit.
+	// 0.3 m of 22 AWG drops about 0.016 V, nothing near any limit; a blade
+	// fuse breaks 1,000 A at 32 V DC (ISO 8820-3, from memory).
 	"pass.json": `{"format": 1, "name": "Bench lamp", "ambient_c": 25,
 	 "nodes": [
 	  {"id": "bench", "type": "supply", "output_v": 5, "max_a": 2},
 	  {"id": "lamp", "type": "load", "min_v": 4.5, "max_v": 5.5, "current_a": 0.5,
 	   "feed": {"from": "bench", "wire": {"gauge": "22AWG", "length_m": 0.3},
-	            "fuse": {"rating_a": 1, "speed": "fast", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
+	            "fuse": {"rating_a": 1, "speed": "fast", "family": "blade", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
 	// Four 2000 mAh cells at 1 A average last at most 2 h, short of the
 	// 10 h asked: a source.runtime warning (DESIGN section 7).
 	"warn.json": `{"format": 1, "name": "Desk fan", "ambient_c": 25, "target_runtime_h": 10,
@@ -40,7 +41,7 @@ var reviewCLIDesigns = map[string]string{
 	   "cell_full_v": 1.4, "cell_nominal_v": 1.2, "cell_cutoff_v": 1.0},
 	  {"id": "fan", "type": "load", "min_v": 3, "max_v": 6, "current_a": 1,
 	   "feed": {"from": "pack", "wire": {"gauge": "22AWG", "length_m": 0.2},
-	            "fuse": {"rating_a": 2, "speed": "slow", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
+	            "fuse": {"rating_a": 2, "speed": "slow", "family": "blade", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
 	// Ten NiMH cells (10 × 1.4 V = 14 V full) on a part rated 5.5 V at most.
 	"fail.json": `{"format": 1, "name": "Cooked sensor",
 	 "nodes": [
@@ -48,7 +49,7 @@ var reviewCLIDesigns = map[string]string{
 	   "cell_capacity_mah": 2000, "cell_full_v": 1.4, "cell_nominal_v": 1.2, "cell_cutoff_v": 1.0},
 	  {"id": "sensor", "type": "load", "min_v": 4.5, "max_v": 5.5, "current_a": 0.05,
 	   "feed": {"from": "pack", "wire": {"gauge": "22AWG", "length_m": 0.2},
-	            "fuse": {"rating_a": 1, "speed": "fast", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
+	            "fuse": {"rating_a": 1, "speed": "fast", "family": "blade", "voltage_rating_v": 32, "distance_from_source_m": 0.05}}}]}`,
 	// A supply that includes its mains side is out of scope (DESIGN section 7).
 	"mains.json": `{"format": 1, "name": "Wall adapter lamp",
 	 "nodes": [

@@ -291,3 +291,21 @@ func validateBundling(bs []BundlingFactor) []error {
 	}
 	return errs
 }
+
+// AmbientDerating is the share of its tabled ampacity a conductor keeps in
+// air at ambientC when the table holds at tableAmbientC and its insulation
+// is rated insulationC: √((T_ins − T_amb) / (T_ins − T_table)), the ambient
+// temperature correction equation of NFPA 70 (NEC) 310.15(B) (from
+// memory). The heat a conductor may make goes with the temperature rise its
+// insulation allows, and its current with the square root of that heat. It
+// is 0 at or above the insulation's rating, where no current is safe, and
+// otherwise 1 at or below the table's ambient (cooler air earns no credit).
+func AmbientDerating(insulationC, ambientC, tableAmbientC float64) float64 {
+	switch {
+	case ambientC >= insulationC:
+		return 0
+	case ambientC <= tableAmbientC:
+		return 1
+	}
+	return math.Sqrt((insulationC - ambientC) / (insulationC - tableAmbientC))
+}

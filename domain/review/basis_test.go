@@ -46,11 +46,15 @@ func TestRulesNameRuleAndSource(t *testing.T) {
 		CheckBatteryProtection: {"over- and under-voltage", "over-current trip"},
 		CheckConnectorPolarity: {"reverse-polarity protection", "brushed motors"},
 		CheckRailBackfeed:      {"clamp", "battery"},
+		CheckFuseInterrupt:     {"V_full / (R_internal + R_wire)", "10 ×", "breaking capacity", "DC voltage rating"},
+		CheckMotorStall:        {"stall_a × V_high / rated_v", "current_limit_a", "peak_a", "continuous_a"},
+		CheckWireTemperature:   {"30 °C", "33 CFR 183.425 Table 5", "√((T_ins − T_amb) / (T_ins − 30))", "NFPA 70 310.15(B)", "0.8"},
 	}
 	for _, check := range []string{CheckVoltageRange, CheckRegulatorHeadroom, CheckRegulatorCurrent, CheckRegulatorThermal,
 		CheckDriverVoltage, CheckDriverCurrent, CheckSourceCurrent, CheckSourceRuntime, CheckWireAmpacity, CheckWireDrop,
 		CheckFuseMissing, CheckFuseRating, CheckFusePlacement, CheckConnectorRating, CheckScopeMains,
-		CheckRegulatorHeat, CheckBatteryProtection, CheckConnectorPolarity, CheckRailBackfeed} {
+		CheckRegulatorHeat, CheckBatteryProtection, CheckConnectorPolarity, CheckRailBackfeed,
+		CheckFuseInterrupt, CheckMotorStall, CheckWireTemperature} {
 		r, ok := rules[check]
 		if !ok || r.Basis == "" || r.Source == "" || len(r.Basis) > 400 {
 			t.Errorf("rule of %s: %+v", check, r)
@@ -61,8 +65,8 @@ func TestRulesNameRuleAndSource(t *testing.T) {
 			}
 		}
 	}
-	if len(rules) != 19 {
-		t.Errorf("%d rules, want one for each of the 19 checks", len(rules))
+	if len(rules) != 22 {
+		t.Errorf("%d rules, want one for each of the 22 checks", len(rules))
 	}
 	// The values come from the limits, not from the code.
 	l.Policy.UtilisationPct = Sourced{70, "the space's own rule: 70 %"}

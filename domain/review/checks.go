@@ -55,6 +55,14 @@ func flagged(what string, level Status, bad bool, value, limit float64, unit str
 	return cond{what: what, level: level, crossed: bad, value: value, limit: limit, unit: unit, margin: m}
 }
 
+// unknown is crossed always: the design did not give the limit value is
+// checked against, which is itself the finding.
+func unknown(what string, level Status, value float64, unit string) cond {
+	c := flagged(what, level, true, value, 0, unit)
+	c.noLimit = true
+	return c
+}
+
 // newRules are the rule-and-source sentences of each check, built once
 // per limits version (Prepare) and written once in each report.
 func newRules(l Limits) map[string]Rule {
@@ -89,7 +97,8 @@ func newRules(l Limits) map[string]Rule {
 			"(33 CFR 183.455); " +
 			"otherwise one is advised", Source: "33 CFR 183.455"},
 		CheckFuseRating: {Basis: fmt.Sprintf("at most %g × the ampacity it protects (%s), at least %g × the running current "+
-			"(%s); voltage rating at least the circuit's, a fast fuse at least the motor surge, a standard rating of its series",
+			"(%s); a DC voltage rating at least the circuit's (fuse.interrupt's, where it runs), a fast fuse at least the motor "+
+			"surge, a standard rating of its series",
 			f.MaxAmpacityMultiple.Value, cite(f.MaxAmpacityMultiple.Source), f.ContinuousLoadFactor.Value,
 			cite(f.ContinuousLoadFactor.Source)), Source: cites(f.MaxAmpacityMultiple.Source, f.ContinuousLoadFactor.Source)},
 		CheckFusePlacement: {Basis: fmt.Sprintf("within %g m of the source, %g m when sheathed (%s)", f.MaxDistanceM.Value,
@@ -101,6 +110,7 @@ func newRules(l Limits) map[string]Rule {
 			l.Policy.InScopeMaxV.Value, cite(l.Policy.InScopeMaxV.Source)), Source: cite(l.Policy.InScopeMaxV.Source)},
 	}
 	maps.Copy(rules, partHazardRules(l))
+	maps.Copy(rules, faultRules(l))
 	return rules
 }
 
@@ -307,9 +317,7 @@ func (r *reviewer) voltageRange(n *node) {
 		conds = append(conds, below("nominal", Fail, n.vNom, n.minV, "V"), below("low", Warn, n.vLow, n.minV, "V"))
 	}
 	if len(conds) == 0 {
-		unknown := flagged("unknown", Warn, true, n.vHigh, 0, "V")
-		unknown.noLimit = true
-		conds = append(conds, unknown)
+		conds = append(conds, unknown("unknown", Warn, n.vHigh, "V"))
 	}
 	r.emit(CheckVoltageRange, n.id, conds, func(c cond, passed bool) string {
 		switch {
@@ -647,7 +655,10 @@ func (r *reviewer) fuseRating(n *node, protectedAmp float64, protectedID string)
 	maxRating := l.MaxAmpacityMultiple.Value * protectedAmp
 	minRating := l.ContinuousLoadFactor.Value * n.run
 	conds := append(room[:0], above("too big", Fail, fu.ratingA, maxRating, "A"))
-	if fu.voltageV > 0 {
+	// fuse.interrupt judges the voltage rating where it runs, with the
+	// breaking capacity; under limits that predate it this check does.
+	voltage := fu.voltageV > 0 && !r.runs(CheckFuseInterrupt)
+	if voltage {
 		conds = append(conds, below("voltage", Fail, fu.voltageV, n.vHigh, "V"))
 	}
 	conds = append(conds, below("too small", Warn, fu.ratingA, minRating, "A"))
@@ -671,21 +682,24 @@ func (r *reviewer) fuseRating(n *node, protectedAmp float64, protectedID string)
 	r.emit(CheckFuseRating, n.id, conds, func(c cond, passed bool) string {
 		switch {
 		case passed:
-			if fu.voltageV > 0 {
+			if voltage {
 				return r.say(txt("The "), val(fu.ratingA), txt(" A fuse on the feed to "), txt(n.id), txt(" sits between "), val(minRating),
 					txt(" A (running current × "), val(l.ContinuousLoadFactor.Value), txt(") and "), val(maxRating),
 					txt(" A (the wire it protects × "), val(l.MaxAmpacityMultiple.Value), txt("), and its "), val(fu.voltageV),
 					txt(" V rating covers the "), val(n.vHigh), txt(" V circuit."))
 			}
-			return r.say(txt("The "), val(fu.ratingA), txt(" A fuse on the feed to "), txt(n.id), txt(" sits between "), val(minRating),
+			r.say(txt("The "), val(fu.ratingA), txt(" A fuse on the feed to "), txt(n.id), txt(" sits between "), val(minRating),
 				txt(" A (running current × "), val(l.ContinuousLoadFactor.Value), txt(") and "), val(maxRating),
-				txt(" A (the wire it protects × "), val(l.MaxAmpacityMultiple.Value),
-				txt("); give voltage_rating_v or a family to check its voltage rating."))
+				txt(" A (the wire it protects × "), val(l.MaxAmpacityMultiple.Value))
+			if r.runs(CheckFuseInterrupt) {
+				return r.say(txt(")."))
+			}
+			return r.say(txt("); give voltage_rating_v or a family to check its DC voltage rating."))
 		case c.what == "too big":
 			return fmt.Sprintf("The %s A fuse on the feed to %s is too big to protect the wire to %s (%s A ampacity): at most %s A.",
 				num(fu.ratingA), n.id, protectedID, num(protectedAmp), num(maxRating))
 		case c.what == "voltage":
-			return fmt.Sprintf("The fuse on the feed to %s is rated %s V, below the %s V the circuit reaches: it may not break the arc.",
+			return fmt.Sprintf("The fuse on the feed to %s is rated %s V DC, below the %s V the circuit reaches: it may not break the arc.",
 				n.id, num(fu.voltageV), num(n.vHigh))
 		case c.what == "too small":
 			return fmt.Sprintf("The %s A fuse on the feed to %s is below %s × its %s A running current (%s A): it may blow in normal use.",

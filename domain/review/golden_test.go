@@ -89,29 +89,37 @@ func TestDemoDesignVerdicts(t *testing.T) {
 		// Warn: a driver and a connector near their ratings, a slow fuse a
 		// little far from the pack, a short runtime, a warm linear regulator;
 		// a Li-ion pack that states no protection circuit, and the LED strip
-		// on a barrel plug that a centre-negative lead would reverse.
+		// on a barrel plug that a centre-negative lead would reverse; and a
+		// jammed blower holds 2.94 A through a driver rated 2 A continuous,
+		// and its 2 A fast blade fuse needs 4 A to open within seconds
+		// (ISO 8820-3, from memory), so motor.stall warns.
 		{"fume-fan", Warn, []finding{
 			{"source.current", "pack"}, {"source.runtime", "pack"}, {"driver.voltage", "fan_driver"},
 			{"driver.current", "fan_driver"}, {"fuse.rating", "fan_driver"}, {"fuse.placement", "fan_driver"},
 			{"connector.rating", "fan_driver"}, {"regulator.thermal", "reg5"}, {"voltage.range", "work_light"},
-			{"battery.protection", "pack"}, {"connector.polarity", "work_light"},
+			{"battery.protection", "pack"}, {"connector.polarity", "work_light"}, {"motor.stall", "blower"},
 		}},
 		// Fail: an overloaded driver with no fuse on the pack's feed, a motor
 		// and a camera outside their windows, a thin wire, a small regulator;
-		// a Li-ion pack that states no protection circuit, and the camera on
-		// a plain pin header that mates either way round.
+		// a Li-ion pack that states no protection circuit, the camera on a
+		// plain pin header that mates either way round; and either motor,
+		// jammed, holds its stall current through the 2.5 A-peak driver with
+		// no fuse on its path to stop it (motor.stall).
 		{"camera-slider", Fail, []finding{
 			{"source.current", "pack"}, {"driver.voltage", "slide_driver"}, {"driver.current", "slide_driver"},
 			{"wire.ampacity", "slide_driver"}, {"fuse.missing", "slide_driver"}, {"voltage.range", "sled_motor"},
 			{"wire.ampacity", "pan_motor"}, {"regulator.current", "cam_buck"}, {"fuse.rating", "cam_buck"},
 			{"voltage.range", "camera"}, {"wire.drop", "camera"},
 			{"battery.protection", "pack"}, {"connector.polarity", "camera"},
+			{"motor.stall", "sled_motor"}, {"motor.stall", "pan_motor"},
 		}},
-		// Out of scope: it includes the mains side of a wall adapter; and the
+		// Out of scope: it includes the mains side of a wall adapter; the
 		// adapter, which cannot sink current, takes what the brush motor
-		// pushes back with no clamp on its rail.
+		// pushes back with no clamp on its rail; and the brush motor, jammed,
+		// would hold 12 A through a 5 A speed control behind a slow 5 A blade
+		// fuse that needs 17.5 A to open within seconds (motor.stall).
 		{"sawdust-sweeper", OutOfScope, []finding{{"scope.mains", "wall_adapter"}, {"source.current", "wall_adapter"},
-			{"rail.backfeed", "wall_adapter"}}},
+			{"rail.backfeed", "wall_adapter"}, {"motor.stall", "brush_motor"}}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.design, func(t *testing.T) {

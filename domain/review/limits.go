@@ -31,6 +31,7 @@ type Limits struct {
 	Connectors  []ConnectorFamily       `json:"connectors"`
 	Regulators  RegulatorDefaults       `json:"regulators"`
 	Policy      Policy                  `json:"policy"`
+	Faults      FaultLimits             `json:"faults"`
 }
 
 // FuseLimits are the fuse series and the sizing and placement rules.
@@ -150,6 +151,7 @@ func DefaultLimits() Limits {
 			ThermalMarginC:  Sourced{25, "common practice: keep a junction 25 °C below its limit"},
 			DefaultAmbientC: Sourced{25, "common practice: room temperature, used when a design gives no ambient_c"},
 		},
+		Faults: defaultFaultLimits(),
 	}
 }
 
@@ -238,6 +240,7 @@ func (l Limits) validateValues() error {
 	checkSourced(&p, "/policy/utilisation_pct", l.Policy.UtilisationPct, 1, 100)
 	checkSourced(&p, "/policy/thermal_margin_c", l.Policy.ThermalMarginC, 0, 200)
 	checkSourced(&p, "/policy/default_ambient_c", l.Policy.DefaultAmbientC, domain.MinTemperatureC, domain.MaxAmbientC)
+	l.validateFaultValues(&p)
 	return p.Err()
 }
 

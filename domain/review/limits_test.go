@@ -131,6 +131,18 @@ func TestLimitsValidateProblems(t *testing.T) {
 		{"connector without rating", func(l *Limits) { l.Connectors[0].RatingA = 0 }, "/connectors/0/rating_a"},
 		{"efficiency above 1", func(l *Limits) { l.Regulators.SwitchingEfficiency.Value = 1.1 }, "/regulators/switching_efficiency/value"},
 		{"NaN", func(l *Limits) { l.Policy.ThermalMarginC.Value = nan() }, "/policy/thermal_margin_c/value"},
+		// The fault checks' values (faults.go).
+		{"negative DC rating", func(l *Limits) { l.Fuses.Families[0].DCVoltageV = -1 }, "/fuses/families/0/dc_voltage_v"},
+		{"no breaking capacity", func(l *Limits) { l.Fuses.Families[1].BreakingCapacityA = 0 }, "/fuses/families/1/breaking_capacity_a"},
+		{"blank fault source", func(l *Limits) { l.Fuses.Families[2].FaultSource = " " }, "/fuses/families/2/fault_source"},
+		{"gate speed", func(l *Limits) { l.Fuses.Families[0].Clearing[0].Speed = "medium" }, "/fuses/families/0/clearing/0/speed"},
+		{"two gates for one speed", func(l *Limits) { l.Fuses.Families[0].Clearing[1].Speed = "fast" }, "/fuses/families/0/clearing/1/speed"},
+		{"gate at the rating", func(l *Limits) { l.Fuses.Families[0].Clearing[0].Multiple = 1 }, "/fuses/families/0/clearing/0/multiple"},
+		{"gate with no time", func(l *Limits) { l.Fuses.Families[0].Clearing[0].WithinS = 0 }, "/fuses/families/0/clearing/0/within_s"},
+		{"gate without source", func(l *Limits) { l.Fuses.Families[0].Clearing[1].Source = "" }, "/fuses/families/0/clearing/1/source"},
+		{"multiple below 1", func(l *Limits) { l.Faults.UnstatedLimitMultiple.Value = 0.5 }, "/faults/unstated_limit_multiple/value"},
+		{"enclosed factor 0", func(l *Limits) { l.Faults.EnclosedFactor.Value = 0 }, "/faults/enclosed_factor/value"},
+		{"table ambient absurd", func(l *Limits) { l.Faults.TableAmbientC.Value = 400 }, "/faults/table_ambient_c/value"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {

@@ -72,6 +72,8 @@ type node struct {
 	revDropV     float64 // regulator, driver, load: its reverse-polarity protection's drop
 	revProtected bool    // it states reverse-polarity protection
 	polarityFree bool    // a load that works either way round
+	// supply, regulator, driver: the current its output is held to; 0: not given
+	currentLimitA float64
 
 	// motor, load
 	ratedV, stallA, runningA float64
@@ -99,8 +101,11 @@ type feed struct {
 	lengthM     float64
 	insulationC float64
 	bundled     int
+	enclosed    bool
 	resistance  float64 // both conductors at the design's ambient
-	ampacity    float64
+	ampacity    float64 // derated for the ambient and an enclosure when wire.temperature runs
+	tableAmp    float64 // the conductor table's, at its own ambient
+	derating    float64 // ampacity / tableAmp
 	fuse        *fuse
 	connectors  []connector
 }
@@ -108,7 +113,8 @@ type feed struct {
 type fuse struct {
 	ratingA   float64
 	fast      bool
-	voltageV  float64 // 0: unknown
+	voltageV  float64 // its DC rating, stated or its family's; 0: unknown
+	breakingA float64 // its stated breaking capacity; 0: its family's, if any
 	distanceM float64
 	hasDist   bool
 	sheathed  bool
@@ -165,7 +171,10 @@ func or(v *float64, def float64) float64 {
 // neither the node nor its component gives, a chemistry or fuse family the
 // limits do not store, a wire the conductor table cannot rate) come back as
 // a *domain.ValidationError.
-func build(doc domain.Design, limits *Limits, components map[int64]domain.Component, ambientC float64) ([]node, error) {
+//
+// heat, when not nil, derates each wire's ampacity for the ambient and an
+// enclosure (wire.temperature runs).
+func build(doc domain.Design, limits *Limits, components map[int64]domain.Component, ambientC float64, heat *wireHeat) ([]node, error) {
 	var p domain.Problems
 	rc := &ratingCache{gauges: map[string]electric.Gauge{}, amps: map[ampKey]ampEntry{}}
 	nodes := make([]node, len(doc.Nodes))
@@ -209,7 +218,7 @@ func build(doc domain.Design, limits *Limits, components map[int64]domain.Compon
 		if dn.Feed != nil {
 			feeds = append(feeds, feed{})
 			n.feed = &feeds[len(feeds)-1]
-			resolveFeed(&p, n.feed, n.feedPtr(), *dn.Feed, limits, ambientC, rc)
+			resolveFeed(&p, n.feed, n.feedPtr(), *dn.Feed, limits, ambientC, heat, rc)
 		}
 	}
 	return nodes, p.Err()
@@ -244,6 +253,7 @@ func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {
 		n.kind = kindSupply
 		n.outputV, n.maxA = *dn.OutputV, *dn.MaxA
 		n.sinks, n.clampV = dn.SinksCurrent, or(dn.ClampV, 0)
+		n.currentLimitA = or(dn.CurrentLimitA, 0)
 	case domain.NodeRegulator:
 		n.kind = kindRegulator
 		n.topo = parseTopology(dn.Topology)
@@ -256,6 +266,7 @@ func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {
 		// it, its heat is judged as a board's with no heat sink.
 		n.thetaJA = or(dn.ThetaJACPerW, 0)
 		n.tjMaxC = or(dn.TjMaxC, limits.Regulators.TjMaxC.Value)
+		n.currentLimitA = or(dn.CurrentLimitA, 0)
 		if n.topo == topoLinear {
 			n.dropoutV = *dn.DropoutV
 		} else {
@@ -270,6 +281,7 @@ func resolveNode(p *domain.Problems, n *node, dn domain.Node, limits *Limits) {
 		n.quiescentA = or(dn.QuiescentA, 0)
 		n.clampV = or(dn.ClampV, 0)
 		n.setReverse(dn)
+		n.currentLimitA = or(dn.CurrentLimitA, 0)
 	case domain.NodeMotor:
 		n.kind = kindMotor
 		n.ratedV, n.stallA = *dn.RatedV, *dn.StallA
@@ -370,7 +382,7 @@ func nodePointers(doc domain.Design) []string {
 
 // resolveFeed fills f from the document's feed; on a wire it cannot read
 // it leaves f empty and reports the problem.
-func resolveFeed(p *domain.Problems, f *feed, ptr string, df domain.Feed, limits *Limits, ambientC float64, rc *ratingCache) {
+func resolveFeed(p *domain.Problems, f *feed, ptr string, df domain.Feed, limits *Limits, ambientC float64, heat *wireHeat, rc *ratingCache) {
 	w := df.Wire
 	g, err := rc.gauge(w.Gauge)
 	if err != nil { // Validate has already said so; keep the pointer honest anyway
@@ -378,20 +390,26 @@ func resolveFeed(p *domain.Problems, f *feed, ptr string, df domain.Feed, limits
 		return
 	}
 	*f = feed{
-		from: df.From, gauge: g, lengthM: w.LengthM, insulationC: or(w.InsulationC, 105), bundled: 1,
+		from: df.From, gauge: g, lengthM: w.LengthM, insulationC: or(w.InsulationC, 105), bundled: 1, enclosed: w.Enclosed,
 	}
 	if w.Bundled != nil {
 		f.bundled = *w.Bundled
 	}
 	f.resistance = electric.LoopResistanceOhm(g, w.LengthM, ambientC)
-	f.ampacity, err = rc.ampacity(limits.Conductors, g, f.insulationC, f.bundled)
+	f.tableAmp, err = rc.ampacity(limits.Conductors, g, f.insulationC, f.bundled)
 	if err != nil {
 		p.Add(ptr+"/wire", "the stored conductor table cannot rate this wire: %v", err)
 	}
+	f.derating = 1
+	if heat != nil {
+		f.derating = heat.factor(f.insulationC, ambientC, f.enclosed)
+	}
+	f.ampacity = f.tableAmp * f.derating
 	if df.Fuse != nil {
 		fu := df.Fuse
 		f.fuse = &fuse{
 			ratingA: fu.RatingA, fast: fu.Speed == domain.FuseFast, voltageV: or(fu.VoltageRatingV, 0),
+			breakingA: or(fu.BreakingCapacityA, 0),
 			distanceM: or(fu.DistanceFromSourceM, 0), hasDist: fu.DistanceFromSourceM != nil, sheathed: fu.Sheathed,
 		}
 		if fu.Family != "" {
@@ -401,8 +419,10 @@ func resolveFeed(p *domain.Problems, f *feed, ptr string, df domain.Feed, limits
 					names(limits.Fuses.Families, func(f electric.FuseFamily) string { return f.Name }))
 			} else {
 				f.fuse.family = &fam
+				// Only a DC rating stands in: a family's AC rating (its
+				// max_voltage_v, for 5x20 cartridges) never does.
 				if f.fuse.voltageV == 0 {
-					f.fuse.voltageV = fam.MaxVoltageV
+					f.fuse.voltageV = fam.DCVoltageV
 				}
 			}
 		}

@@ -43,21 +43,19 @@ func (l *Limits) missing() []string {
 // defaults, and the checks whose values l itself lacked: a review under l
 // does not run those. l is left as it is.
 func (l Limits) completed() (filled Limits, notRun []string) {
-	// A set that lacks nothing is used as it is: no copy, and a value
-	// JSON cannot carry (a NaN a caller set) is left for validateValues
-	// to report rather than for clone to choke on.
-	if len(l.missing()) == 0 {
+	for _, n := range limitsNeeds() {
+		if len(n.missing(&l)) > 0 && !slices.Contains(notRun, n.check) {
+			notRun = append(notRun, n.check)
+		}
+	}
+	if len(notRun) == 0 {
 		return l, nil
 	}
 	filled = l.clone()
 	defaults := DefaultLimits()
 	for _, n := range limitsNeeds() {
-		if len(n.missing(&l)) == 0 {
-			continue
-		}
-		n.fill(&filled, &defaults)
-		if !slices.Contains(notRun, n.check) {
-			notRun = append(notRun, n.check)
+		if slices.Contains(notRun, n.check) {
+			n.fill(&filled, &defaults)
 		}
 	}
 	return filled, notRun

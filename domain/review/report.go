@@ -8,7 +8,7 @@ import (
 
 // EngineVersion changes whenever the same design and limits could give a
 // different report, so stored reviews can be told apart.
-const EngineVersion = "2"
+const EngineVersion = "3"
 
 // ReportFormat is the format of the reports this build writes. Format 1
 // reports (every check carrying its basis, no rules) stay readable as
@@ -67,6 +67,9 @@ const (
 	CheckBatteryProtection = "battery.protection"
 	CheckConnectorPolarity = "connector.polarity"
 	CheckRailBackfeed      = "rail.backfeed"
+	CheckFuseInterrupt     = "fuse.interrupt"
+	CheckMotorStall        = "motor.stall"
+	CheckWireTemperature   = "wire.temperature"
 )
 
 // Report is the outcome of a review.

@@ -15,7 +15,8 @@ import (
 type reviewer struct {
 	t       *tree
 	limits  *Limits
-	notRun  []string // checks the limits predate
+	notRun  []string    // checks the limits predate
+	paths   []faultPath // for the fault checks; nil when none runs
 	ambient float64
 	checks  []Check
 	spans   []textSpan // of each check's message in text
@@ -113,18 +114,23 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 	if doc.AmbientC != nil {
 		ambient = *doc.AmbientC
 	}
-	nodes, err := build(doc, limits, components, ambient)
+	var heat *wireHeat
+	if !slices.Contains(ru.notRun, CheckWireTemperature) {
+		heat = &wireHeat{tableAmbientC: limits.Faults.TableAmbientC.Value, enclosedFactor: limits.Faults.EnclosedFactor.Value}
+	}
+	nodes, err := build(doc, limits, components, ambient, heat)
 	if err != nil {
 		return Report{}, err
 	}
 	t := newTree(nodes)
 	t.solve()
 	r.t, r.limits, r.ambient, r.notRun = t, limits, ambient, ru.notRun
-	// A node gets about four checks: its own, and its feed's; a
-	// switching regulator one more for its heat.
-	r.checks, r.spans = make([]Check, 0, 4*len(nodes)+t.nSwitching+8), make([]textSpan, 0, 4*len(nodes)+t.nSwitching+8)
+	// A node gets about four and a half checks: its own, its feed's and
+	// the fault checks' (a fuse's and a motor's), of about 100 bytes
+	// each; a switching regulator one more for its heat.
+	r.checks, r.spans = make([]Check, 0, 9*len(nodes)/2+t.nSwitching+8), make([]textSpan, 0, 9*len(nodes)/2+t.nSwitching+8)
 	if !quiet {
-		r.text.Grow(320*len(nodes) + 80*t.nSwitching + 256)
+		r.text.Grow(448*len(nodes) + 80*t.nSwitching + 256)
 	}
 	rep := Report{
 		Format:        ReportFormat,
@@ -146,6 +152,9 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 	r.needs, r.slot, r.protAmp, r.protID = needs, slot, protAmp, protID
 	rails := r.rails()
 	heatRuns, polarityRuns := r.runs(CheckRegulatorHeat), r.runs(CheckConnectorPolarity)
+	if r.runs(CheckFuseInterrupt) || r.runs(CheckMotorStall) {
+		r.paths = r.faultPaths()
+	}
 	for i := range t.nodes {
 		n := &t.nodes[i]
 		switch n.kind {
@@ -179,6 +188,9 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 			r.driverChecks(n)
 		case kindMotor, kindLoad:
 			r.voltageRange(n)
+			if n.kind == kindMotor && r.runs(CheckMotorStall) {
+				r.motorStall(n, i)
+			}
 		}
 		if rails != nil && (n.isSource() || n.kind == kindRegulator) {
 			if s := rails[int32(i)]; s != nil {
@@ -186,7 +198,7 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 			}
 		}
 		if n.feed != nil {
-			r.feedChecks(n, protAmp[i], protID[i])
+			r.feedChecks(n, i, protAmp[i], protID[i])
 			if polarityRuns {
 				r.connectorPolarity(n)
 			}
@@ -231,7 +243,10 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 // limits predate is not run.
 func (r *reviewer) runs(check string) bool { return !slices.Contains(r.notRun, check) }
 
-func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
+func (r *reviewer) feedChecks(n *node, i int, protAmp float64, protID string) {
+	if r.runs(CheckWireTemperature) {
+		r.wireTemperature(n)
+	}
 	r.wireAmpacity(n)
 	r.wireDrop(n)
 	fromSource := r.t.nodes[n.parent].isSource()
@@ -240,6 +255,9 @@ func (r *reviewer) feedChecks(n *node, protAmp float64, protID string) {
 	}
 	if n.feed.fuse != nil {
 		r.fuseRating(n, protAmp, protID)
+		if r.runs(CheckFuseInterrupt) {
+			r.fuseInterrupt(n, i)
+		}
 		if fromSource {
 			r.fusePlacement(n)
 		}

@@ -31,7 +31,7 @@ func TestReadStored(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if rep.Format != ReportFormat || len(rep.Rules) == 0 || len(rep.Checks) != 35 {
+	if rep.Format != ReportFormat || len(rep.Rules) == 0 || len(rep.Checks) != 39 {
 		t.Errorf("format %d, %d rules, %d checks", rep.Format, len(rep.Rules), len(rep.Checks))
 	}
 }
