@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strconv"
 
 	"wattshelf/domain"
 	"wattshelf/domain/electric"
@@ -232,4 +233,107 @@ func (p *proposer) batteryProtection(c Check, i int, gauges map[int]electric.Gau
 		cands[k].change += fmt.Sprintf(" Then the fuse, not %s's %s A trip, protects that wire.", n.id, num(n.protection.tripA))
 	}
 	return cands, why
+}
+
+// motorStall stops or carries a jammed motor's stall current: a current
+// limit on its driver no higher than the driver carries continuously and
+// the tightest wire on its path takes, else the lightest wire that takes
+// the jam on that feed.
+func (p *proposer) motorStall(i int) ([]candidate, string) {
+	t := p.r.t
+	n := &t.nodes[i]
+	if p.r.paths == nil {
+		return nil, "The fault checks did not run."
+	}
+	fp := &p.r.paths[i]
+	stall := n.stallA * n.vHigh / n.ratedV
+	extra := max(stall-n.run, 0)
+	w := &t.nodes[fp.spareAt]
+	var out []candidate
+	if fp.driver >= 0 {
+		d := &t.nodes[fp.driver]
+		// Held at lim, the driver passes lim and the jam adds lim − its
+		// running output to every feed on the way.
+		ok := func(v float64) bool { return v >= d.outRun && v <= d.continuousA && w.run+max(v-d.outRun, 0) <= w.feed.ampacity }
+		if lim := limitFor(min(d.continuousA, d.outRun+w.feed.ampacity-w.run), ok); lim > 0 {
+			e := setField(int(fp.driver), "current_limit_a", lim, func(n *domain.Node, v *float64) { n.CurrentLimitA = v })
+			e.rank = -lim
+			need := driverNeed(d)
+			need.AtMost = map[string]float64{"current_limit_a": lim}
+			out = append(out, candidate{
+				change: fmt.Sprintf("Use a driver in place of %s that holds its output to %s A or less (current_limit_a): a jammed %s "+
+					"then draws no more than that, within its %s A continuous rating and the %s A of the feed to %s.", d.id,
+					num(lim), n.id, num(d.continuousA), num(w.feed.ampacity), w.id),
+				edits: []edit{e}, part: need,
+			})
+		}
+	}
+	u := p.ru.limits.utilisation()
+	wireA := w.run + extra
+	for _, g := range p.tableGauges() {
+		if g.Metric != w.feed.gauge.Metric || g.AreaMM2 <= w.feed.gauge.AreaMM2 {
+			continue
+		}
+		amp, _, _, fine := p.feedWith(w, g)
+		if !fine || wireA > amp {
+			continue
+		}
+		if d := fp.driver; d >= 0 && (t.nodes[d].peakRatingA > 0 && t.nodes[d].outRun+extra > t.nodes[d].peakRatingA ||
+			t.nodes[d].outRun+extra > t.nodes[d].continuousA) {
+			break // the driver cannot carry the jam either: a wire alone does not clear it
+		}
+		label := g.Label
+		out = append(out, candidate{
+			change: fmt.Sprintf("Use %s wire for the feed to %s instead of %s: %s A ampacity, enough for the %s A it carries if %s "+
+				"jams (%s A in use, within %s).", label, w.id, w.feed.gauge.Label, num(amp), num(wireA), n.id, num(w.run), pct(u)),
+			edits: []edit{{node: int(fp.spareAt), path: "/feed/wire/gauge", value: label, rank: g.AreaMM2,
+				set: func(n *domain.Node) { n.Feed.Wire.Gauge = label }}},
+			part: &PartNeed{Kind: "wire", AtLeast: map[string]float64{"area_mm2": math.Round(g.AreaMM2*1e4) / 1e4}},
+		})
+		break
+	}
+	if len(out) == 0 {
+		return nil, fmt.Sprintf("No driver current limit or thicker wire alone stops or carries the %s A a jammed %s draws: "+
+			"fit a fuse that opens at it.", num(stall), n.id)
+	}
+	return out, ""
+}
+
+// wireTemperature is wire whose insulation is rated above the air around
+// it: the lowest column of the conductor table that is, and that still
+// carries the feed within the utilisation threshold once derated.
+func (p *proposer) wireTemperature(i int) ([]candidate, string) {
+	n := &p.r.t.nodes[i]
+	f := n.feed
+	u := p.ru.limits.utilisation()
+	fl := p.ru.limits.Faults
+	heat := wireHeat{tableAmbientC: fl.TableAmbientC.Value, enclosedFactor: fl.EnclosedFactor.Value}
+	var cols []float64 // the insulation columns of the conductor table
+	for _, row := range p.ru.limits.Conductors.Rows {
+		for k := range row.Ampacity {
+			if c, err := strconv.ParseFloat(k, 64); err == nil && !slices.Contains(cols, c) {
+				cols = append(cols, c)
+			}
+		}
+	}
+	slices.Sort(cols)
+	for _, col := range cols {
+		if col <= f.insulationC || col <= p.r.ambient {
+			continue
+		}
+		table, err := p.ru.limits.Conductors.Ampacity(f.gauge, col, f.bundled)
+		amp := table * heat.factor(col, p.r.ambient, f.enclosed)
+		if err != nil || n.run > u*amp {
+			continue
+		}
+		return []candidate{{
+			change: fmt.Sprintf("Use %s wire with insulation rated %s °C for the feed to %s: in %s °C air it keeps %s A of "+
+				"ampacity for its %s A.", f.gauge.Label, num(col), n.id, num(p.r.ambient), num(amp), num(n.run)),
+			edits: []edit{{node: i, path: "/feed/wire/insulation_c", value: col, rank: col,
+				set: func(n *domain.Node) { n.Feed.Wire.InsulationC = ptrF(col) }}},
+			part: &PartNeed{Kind: "wire", AtLeast: map[string]float64{"area_mm2": math.Round(f.gauge.AreaMM2*1e4) / 1e4}},
+		}}, ""
+	}
+	return nil, fmt.Sprintf("No insulation in the conductor table is rated far enough above %s °C for the feed to %s: keep "+
+		"the wire out of the heat.", num(p.r.ambient), n.id)
 }

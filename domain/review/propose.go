@@ -156,7 +156,7 @@ func (p *proposer) generate() {
 	for k := range p.findings {
 		f := &p.findings[k]
 		switch p.rep.Checks[f.check].Check {
-		case CheckFuseRating, CheckFuseMissing, CheckBatteryProtection:
+		case CheckFuseRating, CheckFuseMissing, CheckFuseInterrupt, CheckBatteryProtection:
 			fuses = append(fuses, k)
 			continue
 		}

@@ -48,6 +48,10 @@ func (p *proposer) candidates(c Check, i int) ([]candidate, string) {
 		return p.connectorPolarity(i)
 	case CheckRailBackfeed:
 		return p.railBackfeed(i)
+	case CheckMotorStall:
+		return p.motorStall(i)
+	case CheckWireTemperature:
+		return p.wireTemperature(i)
 	}
 	return nil, "No remedy is worked out for " + c.Check + " findings."
 }
@@ -123,6 +127,7 @@ func (p *proposer) feedWith(n *node, g electric.Gauge) (amp, run, share float64,
 	if err != nil {
 		return 0, 0, 0, false
 	}
+	amp *= f.derating // the air around it and an enclosure take the same share of any size
 	res := electric.LoopResistanceOhm(g, f.lengthM, p.r.ambient)
 	run = n.run
 	if n.switching() {
@@ -186,7 +191,7 @@ func (p *proposer) protectedWith(gauges map[int]electric.Gauge) ([]float64, []st
 			amp[j] = f.ampacity
 			if g, ok := gauges[j]; ok {
 				if a, err := p.ru.limits.Conductors.Ampacity(g, f.insulationC, f.bundled); err == nil {
-					amp[j] = a
+					amp[j] = a * f.derating
 				}
 			}
 		}
@@ -235,17 +240,26 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 	old := n.feed.fuse
 	var keep *electric.FuseFamily
 	keepRating, fast := 0.0, false
+	dist, hasDist := l.MaxDistanceM.Value, true // where a new fuse goes
 	if old != nil {
 		keep, keepRating, fast = old.family, old.ratingA, old.fast
+		dist, hasDist = old.distanceM, old.hasDist
+		if t.nodes[n.parent].isSource() && (!hasDist || dist > l.MaxDistanceM.Value) && !old.sheathed {
+			dist, hasDist = l.MaxDistanceM.Value, true // where the placement remedy puts it
+		}
 	}
-	fam, rating, ok := p.pickFuse(keep, keepRating, lo, hi, n.vHigh)
+	short := 0.0 // what it must break; 0 when the fault checks do not run
+	if p.r.paths != nil {
+		short, _ = p.r.shortAt(i, dist, hasDist)
+	}
+	fam, rating, ok := p.pickFuse(keep, keepRating, lo, hi, n.vHigh, short)
 	if !ok {
 		if hi < lo {
 			return nil, fmt.Sprintf("No fuse can both carry %s A (%g × the %s A running current) and protect %s (at most %s A): "+
 				"the wire must be thicker first.", num(lo), l.ContinuousLoadFactor.Value, num(n.run), wire, num(hi))
 		}
-		return nil, fmt.Sprintf("No stored fuse series has a rating from %s A to %s A rated for the %s V circuit.",
-			num(lo), num(hi), num(n.vHigh))
+		return nil, fmt.Sprintf("No stored fuse series has a rating from %s A to %s A rated for %s V DC that breaks the %s A "+
+			"a short past it could draw.", num(lo), num(hi), num(n.vHigh), num(short))
 	}
 	speed := domain.FuseSlow
 	if fast && !(n.hasMotor && rating < n.peak) {
@@ -253,8 +267,13 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 	}
 	need := &PartNeed{Kind: "fuse", AtLeast: map[string]float64{"rating_a": lo, "rating_v": n.vHigh},
 		AtMost: map[string]float64{"rating_a": hi}}
-	why := fmt.Sprintf("it carries %s A (%g × %s A running) and protects %s (at most %s A), and its series is rated %s V "+
-		"for the %s V circuit", num(lo), l.ContinuousLoadFactor.Value, num(n.run), wire, num(hi), num(fam.MaxVoltageV), num(n.vHigh))
+	why := fmt.Sprintf("it carries %s A (%g × %s A running) and protects %s (at most %s A), and its series is rated %s V DC "+
+		"for the %s V circuit", num(lo), l.ContinuousLoadFactor.Value, num(n.run), wire, num(hi), num(fam.DCVoltageV), num(n.vHigh))
+	if short > 0 {
+		need.AtLeast["breaking_capacity_a"] = short
+		why += fmt.Sprintf(" and breaks %s A, more than the %s A a short past it could draw", num(fam.BreakingCapacityFor(rating)),
+			num(short))
+	}
 	if speed == domain.FuseSlow && n.hasMotor {
 		why += fmt.Sprintf("; slow, so the %s A motor surge does not blow it", num(n.peak))
 	}
@@ -279,9 +298,13 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 	if (speed == domain.FuseSlow) == fast {
 		edits = append(edits, edit{node: i, path: "/feed/fuse/speed", value: speed, set: func(n *domain.Node) { n.Feed.Fuse.Speed = speed }})
 	}
-	if dn := p.doc.Nodes[i].Feed.Fuse; dn.VoltageRatingV != nil && *dn.VoltageRatingV < n.vHigh {
-		// The series gives the voltage rating; the one stated is too low.
+	// A stated voltage rating or breaking capacity was the old fuse's; the
+	// series gives the new one's.
+	if dn := p.doc.Nodes[i].Feed.Fuse; dn.VoltageRatingV != nil {
 		edits = append(edits, edit{node: i, path: "/feed/fuse/voltage_rating_v", set: func(n *domain.Node) { n.Feed.Fuse.VoltageRatingV = nil }})
+	}
+	if dn := p.doc.Nodes[i].Feed.Fuse; dn.BreakingCapacityA != nil {
+		edits = append(edits, edit{node: i, path: "/feed/fuse/breaking_capacity_a", set: func(n *domain.Node) { n.Feed.Fuse.BreakingCapacityA = nil }})
 	}
 	return []candidate{{
 		change: fmt.Sprintf("Fit a %s A %s %s fuse on the feed to %s instead of the %s A one: %s.", num(rating), speed, fam.Name,
@@ -291,23 +314,30 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 }
 
 // pickFuse finds a standard rating from lo to hi in a stored series rated
-// for the circuit's vHigh: the fuse's own series first, keeping its
-// rating where that is one of them, else the smallest that carries lo.
-func (p *proposer) pickFuse(own *electric.FuseFamily, ownRating, lo, hi, vHigh float64) (electric.FuseFamily, float64, bool) {
+// for the circuit's vHigh DC that breaks short amps on DC (a breaking
+// capacity stated for AC only does not count): the fuse's own series
+// first, keeping its rating where that is one of them, else the smallest
+// that carries lo.
+func (p *proposer) pickFuse(own *electric.FuseFamily, ownRating, lo, hi, vHigh, short float64) (electric.FuseFamily, float64, bool) {
 	fams := p.ru.limits.Fuses.Families
 	if own != nil {
 		fams = append([]electric.FuseFamily{*own}, fams...)
 	}
+	interrupts := func(fam electric.FuseFamily, r float64) bool {
+		return short == 0 || (!fam.BreakingCapacityAC && fam.BreakingCapacityFor(r) >= short)
+	}
 	for _, fam := range fams {
-		if fam.MaxVoltageV < vHigh {
+		if fam.DCVoltageV < vHigh {
 			continue
 		}
 		if own != nil && fam.Name == own.Name && ownRating >= lo && ownRating <= hi &&
-			electric.IsStandardRating(fam.RatingsA, ownRating) {
+			electric.IsStandardRating(fam.RatingsA, ownRating) && interrupts(fam, ownRating) {
 			return fam, ownRating, true
 		}
-		if r, ok := electric.NextStandardRating(fam.RatingsA, lo); ok && r >= lo && r <= hi {
-			return fam, r, true
+		for _, r := range fam.RatingsA {
+			if r >= lo && r <= hi && interrupts(fam, r) {
+				return fam, r, true
+			}
 		}
 	}
 	return electric.FuseFamily{}, 0, false
