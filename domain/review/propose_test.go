@@ -479,3 +479,61 @@ func TestProposePartHazards(t *testing.T) {
 	checkRemedy(t, prop, wantRemedy{CheckFuseMissing, "lamp", Fail, []string{"3.00 A slow blade fuse"}, []string{fuse}})
 	noFailLeft(t, prop)
 }
+
+func TestProposeFaults(t *testing.T) {
+	// A glass 5x20 fuse: its family states a breaking capacity for AC only
+	// and no DC rating (IEC 60127-2, the limits say): warn. The supply
+	// states no current limit, so a short draws 10 × its 3 A (the limits'
+	// stand-in) = 30 A. A blade fuse (ISO 8820-3: 32 V DC, 1,000 A) breaks
+	// it; the least blade rating carrying 1.25 × 2 = 2.5 A is 3 A, and the
+	// 18AWG wire allows up to 1.5 × 20 = 30 A.
+	glass := doc("", supplyOf(12, 3), `{"id": "radio", "type": "load", "current_a": 2, `+
+		feedJS("bench", "18AWG", 0.3, `, "fuse": {"rating_a": 3.15, "family": "glass-5x20", "distance_from_source_m": 0.1}`)+`}`)
+	prop := proposeDoc(t, glass, nil)
+	checkRemedy(t, prop, wantRemedy{CheckFuseInterrupt, "radio", Warn,
+		[]string{"3.00 A slow blade fuse", "32.0 V DC", "breaks 1000 A", "30.0 A a short past it could draw"},
+		[]string{`add /nodes/1/feed/fuse/family "blade"`, `add /nodes/1/feed/fuse/rating_a 3`}})
+	noFailLeft(t, prop)
+
+	// A LiFePO4 pack of 4 × 50 cells: 4 × 0.03 / 50 = 0.0024 Ω inside,
+	// 4 × 3.6 = 14.4 V full, so a short right at the fuse draws 14.4 /
+	// 0.0024 = 6,000 A, past the 1,000 A a blade fuse breaks: fail. No
+	// stored series breaks that on DC (the cartridges state AC only), so
+	// no fuse is offered and the finding says why.
+	big := doc("", `{"id": "pack", "type": "battery", "chemistry": "lifepo4", "series": 4, "parallel": 50, "cell_capacity_mah": 3000}`,
+		`{"id": "lamp", "type": "load", "current_a": 2, "polarity_free": true, `+
+			feedJS("pack", "18AWG", 0.3, `, "fuse": {"rating_a": 3, "family": "blade"}`)+`}`)
+	prop = proposeDoc(t, big, nil)
+	c, _ := findCheck(prop.Report, CheckFuseInterrupt, "lamp")
+	if c.Status != Fail || len(c.Remedies) > 0 || !strings.Contains(c.NoRemedy, "6000 A") {
+		t.Errorf("a short no stored fuse breaks: %s, remedies %v, why %q", c.Status, c.Remedies, c.NoRemedy)
+	}
+
+	// A jammed motor: stall 6 A at 12 V (6 × 12/12), running 1 A, so the
+	// jam adds 5 A. The slow 3 A blade above it opens at 3.5 × 3 = 10.5 A
+	// (the limits' gate), and sees 1 + 5 = 6 A: it does not. The driver
+	// then passes 6 A, above its 3 A continuous rating: warn. Held to 3 A
+	// (current_limit_a), it passes 3 A, and the tightest feed carries
+	// 1 + 2 = 3 A of its 20 A.
+	jam := doc("", supplyOf(12, 3),
+		`{"id": "drv", "type": "driver", "max_input_v": 24, "continuous_a": 3, "peak_a": 8, `+fusedFeed("bench", "18AWG", 0.3, 3)+`}`,
+		`{"id": "wheel", "type": "motor", "rated_v": 12, "running_a": 1, "stall_a": 6, "min_v": 6, "max_v": 14, `+feedJS("drv", "18AWG", 0.3, "")+`}`)
+	prop = proposeDoc(t, jam, nil)
+	checkRemedy(t, prop, wantRemedy{CheckMotorStall, "wheel", Warn,
+		[]string{"3.00 A or less (current_limit_a)", "3.00 A continuous rating"},
+		[]string{`add /nodes/1/current_limit_a 3`}})
+	noFailLeft(t, prop)
+
+	// Air at 95 °C around wire rated 90 °C: it can carry nothing (fail).
+	// The next column of the table is 105 °C: derated by
+	// √((105 − 95) / (105 − 30)) = 0.3651 (NFPA 70 310.15(B), as the check
+	// says), 18AWG keeps 20 × 0.3651 = 7.30 A for its 2 A.
+	warm := `{"format": 1, "name": "edge", "ambient_c": 95, "nodes": [` + supplyOf(12, 3) + `, {"id": "heater", "type": "load", ` +
+		`"current_a": 2, "polarity_free": true, "feed": {"from": "bench", "wire": {"gauge": "18AWG", "length_m": 0.3, "insulation_c": 90}, ` +
+		`"fuse": {"rating_a": 3, "family": "blade", "distance_from_source_m": 0.1}}}]}`
+	prop = proposeDoc(t, warm, nil)
+	checkRemedy(t, prop, wantRemedy{CheckWireTemperature, "heater", Fail,
+		[]string{"insulation rated 105 °C", "7.30 A"},
+		[]string{`add /nodes/1/feed/wire/insulation_c 105`}})
+	noFailLeft(t, prop)
+}

@@ -240,12 +240,18 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 	old := n.feed.fuse
 	var keep *electric.FuseFamily
 	keepRating, fast := 0.0, false
-	dist, hasDist := l.MaxDistanceM.Value, true // where a new fuse goes
+	// A fuse placed "within" the distance may sit right at the source: a
+	// new one, or one the placement remedy moves, is taken to, where a
+	// short past it meets no wire at all.
+	dist, hasDist := 0.0, false
 	if old != nil {
 		keep, keepRating, fast = old.family, old.ratingA, old.fast
-		dist, hasDist = old.distanceM, old.hasDist
-		if t.nodes[n.parent].isSource() && (!hasDist || dist > l.MaxDistanceM.Value) && !old.sheathed {
-			dist, hasDist = l.MaxDistanceM.Value, true // where the placement remedy puts it
+		limit := l.MaxDistanceM.Value
+		if old.sheathed {
+			limit = l.MaxDistanceSheathedM.Value
+		}
+		if !t.nodes[n.parent].isSource() || (old.hasDist && old.distanceM <= limit) {
+			dist, hasDist = old.distanceM, old.hasDist
 		}
 	}
 	short := 0.0 // what it must break; 0 when the fault checks do not run
