@@ -254,7 +254,9 @@ func (p *proposer) motorStall(i int) ([]candidate, string) {
 		d := &t.nodes[fp.driver]
 		// Held at lim, the driver passes lim and the jam adds lim − its
 		// running output to every feed on the way.
-		ok := func(v float64) bool { return v >= d.outRun && v <= d.continuousA && w.run+max(v-d.outRun, 0) <= w.feed.ampacity }
+		ok := func(v float64) bool {
+			return v >= d.outRun && v <= d.continuousA && w.run+max(v-d.outRun, 0) <= w.feed.ampacity
+		}
 		if lim := limitFor(min(d.continuousA, d.outRun+w.feed.ampacity-w.run), ok); lim > 0 {
 			e := setField(int(fp.driver), "current_limit_a", lim, func(n *domain.Node, v *float64) { n.CurrentLimitA = v })
 			e.rank = -lim
