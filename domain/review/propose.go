@@ -126,6 +126,7 @@ type proposer struct {
 	index    map[string]int
 	findings []finding
 	windows  map[int]*sourceWindow // per source, worked out when a finding asks
+	rails    map[int32]*railSum    // the rails with motors, when a finding asks
 }
 
 func newProposer(ru *Rules, doc domain.Design, comps map[int64]domain.Component, r *reviewer, rep Report) *proposer {
@@ -154,7 +155,8 @@ func (p *proposer) generate() {
 	var fuses []int
 	for k := range p.findings {
 		f := &p.findings[k]
-		if p.rep.Checks[f.check].Check == CheckFuseRating || p.rep.Checks[f.check].Check == CheckFuseMissing {
+		switch p.rep.Checks[f.check].Check {
+		case CheckFuseRating, CheckFuseMissing, CheckFuseInterrupt, CheckBatteryProtection:
 			fuses = append(fuses, k)
 			continue
 		}
@@ -167,7 +169,12 @@ func (p *proposer) generate() {
 	protAmp, protID := p.protectedWith(gauges)
 	for _, k := range fuses {
 		f := &p.findings[k]
-		f.cands, f.noRemedy = p.fuseCandidates(p.rep.Checks[f.check], f.node, gauges, protAmp, protID)
+		c := p.rep.Checks[f.check]
+		if c.Check == CheckBatteryProtection {
+			f.cands, f.noRemedy = p.batteryProtection(c, f.node, gauges, protAmp, protID)
+		} else {
+			f.cands, f.noRemedy = p.fuseCandidates(c, f.node, gauges, protAmp, protID)
+		}
 		p.initTries(f)
 	}
 }
@@ -448,16 +455,37 @@ func (p *proposer) worsened(rep Report) []Check {
 	return out
 }
 
+// sweep is how far a remedy that is not local moves the operating point:
+// 1 a wire, 2 a part that draws differently, 3 a source.
+func (p *proposer) sweep(c *candidate) int {
+	most := 0
+	for _, e := range c.edits {
+		w := 2
+		switch {
+		case p.r.t.nodes[e.node].parent < 0:
+			w = 3
+		case strings.HasPrefix(e.path, "/feed/wire/"):
+			w = 1
+		}
+		most = max(most, w)
+	}
+	return most
+}
+
 // blame lists the findings whose remedy (as pick says) can have made one
 // of the worse checks worse: a local remedy only its own node's checks,
 // any other every check in its tree. Where a local remedy on the very
-// node can explain a worse check, only it is blamed.
+// node can explain a worse check, only it is blamed; else, of the others
+// in its tree, those that move the operating point farthest (a source
+// before a part, a part before a wire): a thicker wire seldom worsens
+// anything, and blaming it with a changed pack would throw it away.
 func (p *proposer) blame(worse []Check, pick func(k int) int) []int {
 	if len(worse) == 0 {
 		return nil
 	}
-	local := map[int][]int{} // by node
-	tree := map[int][]int{}  // by root
+	type suspect struct{ k, sweep int }
+	local := map[int][]int{}    // by node
+	tree := map[int][]suspect{} // by root
 	var all []int
 	for k := range p.findings {
 		c := pick(k)
@@ -466,18 +494,16 @@ func (p *proposer) blame(worse []Check, pick func(k int) int) []int {
 		}
 		all = append(all, k)
 		cand := &p.findings[k].cands[c]
-		seen := -1
-		for _, e := range cand.edits {
-			if cand.local {
-				if e.node != seen {
-					local[e.node] = append(local[e.node], k)
+		if cand.local {
+			for _, e := range cand.edits {
+				if l := local[e.node]; len(l) == 0 || l[len(l)-1] != k {
+					local[e.node] = append(l, k)
 				}
-			} else if root := p.r.t.nodes[e.node].root; root != seen {
-				tree[root] = append(tree[root], k)
-				e.node = root
 			}
-			seen = e.node
+			continue
 		}
+		root := p.r.t.nodes[cand.edits[0].node].root
+		tree[root] = append(tree[root], suspect{k, p.sweep(cand)})
 	}
 	var out []int
 	for _, w := range worse {
@@ -489,7 +515,16 @@ func (p *proposer) blame(worse []Check, pick func(k int) int) []int {
 		case len(local[at]) > 0:
 			out = append(out, local[at]...)
 		default:
-			out = append(out, tree[p.r.t.nodes[at].root]...)
+			suspects := tree[p.r.t.nodes[at].root]
+			most := 0
+			for _, s := range suspects {
+				most = max(most, s.sweep)
+			}
+			for _, s := range suspects {
+				if s.sweep == most {
+					out = append(out, s.k)
+				}
+			}
 		}
 	}
 	slices.Sort(out)

@@ -416,3 +416,124 @@ func TestProposeLeavesScopeAlone(t *testing.T) {
 		t.Errorf("a passing design: status %s, proposed %v", ok.Report.Status, ok.Proposed)
 	}
 }
+
+func TestProposePartHazards(t *testing.T) {
+	// Heat: a 5 V buck delivering 3 A at the limits' default 85 %
+	// efficiency sheds 15 × (1/0.85 − 1) = 2.65 W, above the 1.5 W a board
+	// with no heat sink sheds (the limits' value, common practice): warn.
+	// It needs η ≥ 15 / (15 + 1.5) = 0.909, 91 % in two digits, which sheds
+	// 15 × (1/0.91 − 1) = 1.48 W. The other remedy: a heatsink for a
+	// junction under 125 − 25 = 100 °C: θJA < (100 − 20) / 2.65 = 30.2, so
+	// 30 °C/W, 20 + 2.65 × 30 = 99.4 °C.
+	hot := doc("", bench,
+		`{"id": "buck", "type": "regulator", "topology": "buck", "output_v": 5, "max_output_a": 4, `+
+			feedJS("bench", "1mm2", 0.29, `, "fuse": {"rating_a": 2, "family": "blade", "distance_from_source_m": 0.1}`)+`}`,
+		`{"id": "board", "type": "load", "current_a": 3, "min_v": 4.5, "max_v": 5.5, `+feedJS("buck", "1mm2", 0.29, "")+`}`)
+	prop := proposeDoc(t, hot, nil)
+	checkRemedy(t, prop, wantRemedy{CheckRegulatorHeat, "buck", Warn,
+		[]string{"at least 91 % efficiency", "1.48 W", "2.65 W"},
+		[]string{`add /nodes/1/efficiency 0.91`}})
+	c, _ := findCheck(prop.Report, CheckRegulatorHeat, "buck")
+	if len(c.Remedies) < 2 || !strings.Contains(c.Remedies[1].Change, "30.0 °C/W") || !strings.Contains(c.Remedies[1].Change, "99.4 °C") {
+		t.Errorf("want a 30 °C/W heatsink (99.4 °C) second, have %+v", c.Remedies)
+	}
+	noFailLeft(t, prop)
+
+	// Polarity: a barrel plug, which does not fix polarity (the limits'
+	// connector families), feeds a load that is not polarity-free: warn.
+	// The lightest keyed family that carries 1 A within 80 % and 12 V within
+	// 80 % of its rating is the 2 mm wire-to-board pair (2 A, 100 V).
+	barrel := doc("", supplyOf(12, 3), `{"id": "radio", "type": "load", "current_a": 1, `+
+		feedJS("bench", "18AWG", 0.3, `, "fuse": {"rating_a": 2, "family": "blade", "distance_from_source_m": 0.1}, "connectors": [{"family": "barrel-5.5x2.1mm"}]`)+`}`)
+	prop = proposeDoc(t, barrel, nil)
+	checkRemedy(t, prop, wantRemedy{CheckConnectorPolarity, "radio", Warn,
+		[]string{"jst-ph-2mm", "mate one way only"},
+		[]string{`add /nodes/1/feed/connectors/0 {"family":"jst-ph-2mm"}`}})
+	noFailLeft(t, prop)
+
+	// Energy back into a rail: a 12 V supply that does not sink current
+	// feeds a driver (max_input_v 24) and its motor: warn. A clamp about
+	// 10 % above the rail (1.1 × 12 = 13.2 V, two digits up: 14 V) is
+	// below the driver's 24 V.
+	rail := doc("", supplyOf(12, 3),
+		`{"id": "drv", "type": "driver", "max_input_v": 24, "continuous_a": 5, `+fusedFeed("bench", "18AWG", 0.3, 3)+`}`,
+		`{"id": "wheel", "type": "motor", "rated_v": 12, "running_a": 1, "stall_a": 2, "min_v": 6, "max_v": 14, `+feedJS("drv", "18AWG", 0.3, "")+`}`)
+	prop = proposeDoc(t, rail, nil)
+	checkRemedy(t, prop, wantRemedy{CheckRailBackfeed, "bench", Warn,
+		[]string{"at 14.0 V", "above the rail's 12.0 V", "below the 24.0 V"},
+		[]string{`add /nodes/0/clamp_v 14`}})
+	noFailLeft(t, prop)
+
+	// A Li-ion pack whose protection trips at 30 A feeds 22AWG (7.9 A by
+	// the small-size rule) with no fuse: a short there burns the wire
+	// before the pack cuts off: fail. The remedy fuses that feed: 1.25 × 2
+	// = 2.5 A up to 1.5 × 7.9 = 11.85 A, so a 3 A blade, the same fuse the
+	// missing-fuse finding gets.
+	pack := doc("", `{"id": "pack", "type": "battery", "chemistry": "liion", "series": 4, "parallel": 1, "cell_capacity_mah": 2000, `+
+		`"max_discharge_a": 10, "protection_cell_over_v": 4.25, "protection_cell_under_v": 2.8, "protection_trip_a": 30}`,
+		`{"id": "lamp", "type": "load", "current_a": 2, "polarity_free": true, `+feedJS("pack", "22AWG", 0.3, "")+`}`)
+	prop = proposeDoc(t, pack, nil)
+	fuse := `add /nodes/1/feed/fuse {"rating_a":3,"speed":"slow","distance_from_source_m":0.178,"family":"blade"}`
+	checkRemedy(t, prop, wantRemedy{CheckBatteryProtection, "pack", Fail,
+		[]string{"3.00 A slow blade fuse", "not pack's 30.0 A trip"}, []string{fuse}})
+	checkRemedy(t, prop, wantRemedy{CheckFuseMissing, "lamp", Fail, []string{"3.00 A slow blade fuse"}, []string{fuse}})
+	noFailLeft(t, prop)
+}
+
+func TestProposeFaults(t *testing.T) {
+	// A glass 5x20 fuse: its family states a breaking capacity for AC only
+	// and no DC rating (IEC 60127-2, the limits say): warn. The supply
+	// states no current limit, so a short draws 10 × its 3 A (the limits'
+	// stand-in) = 30 A. A blade fuse (ISO 8820-3: 32 V DC, 1,000 A) breaks
+	// it; the least blade rating carrying 1.25 × 2 = 2.5 A is 3 A, and the
+	// 18AWG wire allows up to 1.5 × 20 = 30 A.
+	glass := doc("", supplyOf(12, 3), `{"id": "radio", "type": "load", "current_a": 2, `+
+		feedJS("bench", "18AWG", 0.3, `, "fuse": {"rating_a": 3.15, "family": "glass-5x20", "distance_from_source_m": 0.1}`)+`}`)
+	prop := proposeDoc(t, glass, nil)
+	checkRemedy(t, prop, wantRemedy{CheckFuseInterrupt, "radio", Warn,
+		[]string{"3.00 A slow blade fuse", "32.0 V DC", "breaks 1000 A", "30.0 A a short past it could draw"},
+		[]string{`add /nodes/1/feed/fuse/family "blade"`, `add /nodes/1/feed/fuse/rating_a 3`}})
+	noFailLeft(t, prop)
+
+	// A LiFePO4 pack of 4 × 50 cells: 4 × 0.03 / 50 = 0.0024 Ω inside,
+	// 4 × 3.6 = 14.4 V full, so a short right at the fuse draws 14.4 /
+	// 0.0024 = 6,000 A, past the 1,000 A a blade fuse breaks: fail. No
+	// stored series breaks that on DC (the cartridges state AC only), so
+	// no fuse is offered and the finding says why.
+	big := doc("", `{"id": "pack", "type": "battery", "chemistry": "lifepo4", "series": 4, "parallel": 50, "cell_capacity_mah": 3000}`,
+		`{"id": "lamp", "type": "load", "current_a": 2, "polarity_free": true, `+
+			feedJS("pack", "18AWG", 0.3, `, "fuse": {"rating_a": 3, "family": "blade"}`)+`}`)
+	prop = proposeDoc(t, big, nil)
+	c, _ := findCheck(prop.Report, CheckFuseInterrupt, "lamp")
+	if c.Status != Fail || len(c.Remedies) > 0 || !strings.Contains(c.NoRemedy, "6000 A") {
+		t.Errorf("a short no stored fuse breaks: %s, remedies %v, why %q", c.Status, c.Remedies, c.NoRemedy)
+	}
+
+	// A jammed motor: stall 6 A at 12 V (6 × 12/12), running 1 A, so the
+	// jam adds 5 A. The slow 3 A blade above it opens at 3.5 × 3 = 10.5 A
+	// (the limits' gate), and sees 1 + 5 = 6 A: it does not. The driver
+	// then passes 6 A, above its 3 A continuous rating: warn. Held to 3 A
+	// (current_limit_a), it passes 3 A, and the tightest feed carries
+	// 1 + 2 = 3 A of its 20 A.
+	jam := doc("", supplyOf(12, 3),
+		`{"id": "drv", "type": "driver", "max_input_v": 24, "continuous_a": 3, "peak_a": 8, `+fusedFeed("bench", "18AWG", 0.3, 3)+`}`,
+		`{"id": "wheel", "type": "motor", "rated_v": 12, "running_a": 1, "stall_a": 6, "min_v": 6, "max_v": 14, `+feedJS("drv", "18AWG", 0.3, "")+`}`)
+	prop = proposeDoc(t, jam, nil)
+	checkRemedy(t, prop, wantRemedy{CheckMotorStall, "wheel", Warn,
+		[]string{"3.00 A or less (current_limit_a)", "3.00 A continuous rating"},
+		[]string{`add /nodes/1/current_limit_a 3`}})
+	noFailLeft(t, prop)
+
+	// Air at 95 °C around wire rated 90 °C: it can carry nothing (fail).
+	// The next column of the table is 105 °C: derated by
+	// √((105 − 95) / (105 − 30)) = 0.3651 (NFPA 70 310.15(B), as the check
+	// says), 18AWG keeps 20 × 0.3651 = 7.30 A for its 2 A.
+	warm := `{"format": 1, "name": "edge", "ambient_c": 95, "nodes": [` + supplyOf(12, 3) + `, {"id": "heater", "type": "load", ` +
+		`"current_a": 2, "polarity_free": true, "feed": {"from": "bench", "wire": {"gauge": "18AWG", "length_m": 0.3, "insulation_c": 90}, ` +
+		`"fuse": {"rating_a": 3, "family": "blade", "distance_from_source_m": 0.1}}}]}`
+	prop = proposeDoc(t, warm, nil)
+	checkRemedy(t, prop, wantRemedy{CheckWireTemperature, "heater", Fail,
+		[]string{"insulation rated 105 °C", "7.30 A"},
+		[]string{`add /nodes/1/feed/wire/insulation_c 105`}})
+	noFailLeft(t, prop)
+}

@@ -42,6 +42,16 @@ func (p *proposer) candidates(c Check, i int) ([]candidate, string) {
 		return p.sourceCurrent(i)
 	case CheckSourceRuntime:
 		return p.runtime(i)
+	case CheckRegulatorHeat:
+		return p.regulatorHeat(i)
+	case CheckConnectorPolarity:
+		return p.connectorPolarity(i)
+	case CheckRailBackfeed:
+		return p.railBackfeed(i)
+	case CheckMotorStall:
+		return p.motorStall(i)
+	case CheckWireTemperature:
+		return p.wireTemperature(i)
 	}
 	return nil, "No remedy is worked out for " + c.Check + " findings."
 }
@@ -117,6 +127,7 @@ func (p *proposer) feedWith(n *node, g electric.Gauge) (amp, run, share float64,
 	if err != nil {
 		return 0, 0, 0, false
 	}
+	amp *= f.derating // the air around it and an enclosure take the same share of any size
 	res := electric.LoopResistanceOhm(g, f.lengthM, p.r.ambient)
 	run = n.run
 	if n.switching() {
@@ -180,7 +191,7 @@ func (p *proposer) protectedWith(gauges map[int]electric.Gauge) ([]float64, []st
 			amp[j] = f.ampacity
 			if g, ok := gauges[j]; ok {
 				if a, err := p.ru.limits.Conductors.Ampacity(g, f.insulationC, f.bundled); err == nil {
-					amp[j] = a
+					amp[j] = a * f.derating
 				}
 			}
 		}
@@ -229,17 +240,32 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 	old := n.feed.fuse
 	var keep *electric.FuseFamily
 	keepRating, fast := 0.0, false
+	// A fuse placed "within" the distance may sit right at the source: a
+	// new one, or one the placement remedy moves, is taken to, where a
+	// short past it meets no wire at all.
+	dist, hasDist := 0.0, false
 	if old != nil {
 		keep, keepRating, fast = old.family, old.ratingA, old.fast
+		limit := l.MaxDistanceM.Value
+		if old.sheathed {
+			limit = l.MaxDistanceSheathedM.Value
+		}
+		if !t.nodes[n.parent].isSource() || (old.hasDist && old.distanceM <= limit) {
+			dist, hasDist = old.distanceM, old.hasDist
+		}
 	}
-	fam, rating, ok := p.pickFuse(keep, keepRating, lo, hi, n.vHigh)
+	short := 0.0 // what it must break; 0 when the fault checks do not run
+	if p.r.paths != nil {
+		short, _ = p.r.shortAt(i, dist, hasDist)
+	}
+	fam, rating, ok := p.pickFuse(keep, keepRating, lo, hi, n.vHigh, short)
 	if !ok {
 		if hi < lo {
 			return nil, fmt.Sprintf("No fuse can both carry %s A (%g × the %s A running current) and protect %s (at most %s A): "+
 				"the wire must be thicker first.", num(lo), l.ContinuousLoadFactor.Value, num(n.run), wire, num(hi))
 		}
-		return nil, fmt.Sprintf("No stored fuse series has a rating from %s A to %s A rated for the %s V circuit.",
-			num(lo), num(hi), num(n.vHigh))
+		return nil, fmt.Sprintf("No stored fuse series has a rating from %s A to %s A rated for %s V DC that breaks the %s A "+
+			"a short past it could draw.", num(lo), num(hi), num(n.vHigh), num(short))
 	}
 	speed := domain.FuseSlow
 	if fast && !(n.hasMotor && rating < n.peak) {
@@ -247,8 +273,13 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 	}
 	need := &PartNeed{Kind: "fuse", AtLeast: map[string]float64{"rating_a": lo, "rating_v": n.vHigh},
 		AtMost: map[string]float64{"rating_a": hi}}
-	why := fmt.Sprintf("it carries %s A (%g × %s A running) and protects %s (at most %s A), and its series is rated %s V "+
-		"for the %s V circuit", num(lo), l.ContinuousLoadFactor.Value, num(n.run), wire, num(hi), num(fam.MaxVoltageV), num(n.vHigh))
+	why := fmt.Sprintf("it carries %s A (%g × %s A running) and protects %s (at most %s A), and its series is rated %s V DC "+
+		"for the %s V circuit", num(lo), l.ContinuousLoadFactor.Value, num(n.run), wire, num(hi), num(fam.DCVoltageV), num(n.vHigh))
+	if short > 0 {
+		need.AtLeast["breaking_capacity_a"] = short
+		why += fmt.Sprintf(" and breaks %s A, more than the %s A a short past it could draw", num(fam.BreakingCapacityFor(rating)),
+			num(short))
+	}
 	if speed == domain.FuseSlow && n.hasMotor {
 		why += fmt.Sprintf("; slow, so the %s A motor surge does not blow it", num(n.peak))
 	}
@@ -273,9 +304,13 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 	if (speed == domain.FuseSlow) == fast {
 		edits = append(edits, edit{node: i, path: "/feed/fuse/speed", value: speed, set: func(n *domain.Node) { n.Feed.Fuse.Speed = speed }})
 	}
-	if dn := p.doc.Nodes[i].Feed.Fuse; dn.VoltageRatingV != nil && *dn.VoltageRatingV < n.vHigh {
-		// The series gives the voltage rating; the one stated is too low.
+	// A stated voltage rating or breaking capacity was the old fuse's; the
+	// series gives the new one's.
+	if dn := p.doc.Nodes[i].Feed.Fuse; dn.VoltageRatingV != nil {
 		edits = append(edits, edit{node: i, path: "/feed/fuse/voltage_rating_v", set: func(n *domain.Node) { n.Feed.Fuse.VoltageRatingV = nil }})
+	}
+	if dn := p.doc.Nodes[i].Feed.Fuse; dn.BreakingCapacityA != nil {
+		edits = append(edits, edit{node: i, path: "/feed/fuse/breaking_capacity_a", set: func(n *domain.Node) { n.Feed.Fuse.BreakingCapacityA = nil }})
 	}
 	return []candidate{{
 		change: fmt.Sprintf("Fit a %s A %s %s fuse on the feed to %s instead of the %s A one: %s.", num(rating), speed, fam.Name,
@@ -285,23 +320,30 @@ func (p *proposer) fuseCandidates(c Check, i int, gauges map[int]electric.Gauge,
 }
 
 // pickFuse finds a standard rating from lo to hi in a stored series rated
-// for the circuit's vHigh: the fuse's own series first, keeping its
-// rating where that is one of them, else the smallest that carries lo.
-func (p *proposer) pickFuse(own *electric.FuseFamily, ownRating, lo, hi, vHigh float64) (electric.FuseFamily, float64, bool) {
+// for the circuit's vHigh DC that breaks short amps on DC (a breaking
+// capacity stated for AC only does not count): the fuse's own series
+// first, keeping its rating where that is one of them, else the smallest
+// that carries lo.
+func (p *proposer) pickFuse(own *electric.FuseFamily, ownRating, lo, hi, vHigh, short float64) (electric.FuseFamily, float64, bool) {
 	fams := p.ru.limits.Fuses.Families
 	if own != nil {
 		fams = append([]electric.FuseFamily{*own}, fams...)
 	}
+	interrupts := func(fam electric.FuseFamily, r float64) bool {
+		return short == 0 || (!fam.BreakingCapacityAC && fam.BreakingCapacityFor(r) >= short)
+	}
 	for _, fam := range fams {
-		if fam.MaxVoltageV < vHigh {
+		if fam.DCVoltageV < vHigh {
 			continue
 		}
 		if own != nil && fam.Name == own.Name && ownRating >= lo && ownRating <= hi &&
-			electric.IsStandardRating(fam.RatingsA, ownRating) {
+			electric.IsStandardRating(fam.RatingsA, ownRating) && interrupts(fam, ownRating) {
 			return fam, ownRating, true
 		}
-		if r, ok := electric.NextStandardRating(fam.RatingsA, lo); ok && r >= lo && r <= hi {
-			return fam, r, true
+		for _, r := range fam.RatingsA {
+			if r >= lo && r <= hi && interrupts(fam, r) {
+				return fam, r, true
+			}
 		}
 	}
 	return electric.FuseFamily{}, 0, false
@@ -346,16 +388,13 @@ func (p *proposer) connectorCandidates(i int, ptr string) ([]candidate, string) 
 	needA := ratingFor(n.run/u, func(v float64) bool { return !(n.run > u*v) })
 	needV := ratingFor(n.vHigh/u, func(v float64) bool { return !(n.vHigh > u*v) })
 	need := &PartNeed{Kind: "connector", AtLeast: map[string]float64{"rating_a": needA, "rating_v": needV}}
-	fams := slices.Clone(p.ru.limits.Connectors)
-	slices.SortStableFunc(fams, func(a, b ConnectorFamily) int { return cmp.Compare(a.RatingA, b.RatingA) })
-	own := p.doc.Nodes[i].Feed.Connectors[k]
-	for _, fam := range fams {
-		if n.run > u*fam.RatingA || !(fam.RatingV > 0) || n.vHigh > u*fam.RatingV {
-			continue
-		}
-		if fam.Family == own.Family && (own.RatingA != nil || own.RatingV != nil) {
-			continue // the design rates its pair of this family lower: it knows better
-		}
+	// The design rates its own pair of a family lower than the family:
+	// it knows better, so that family is not offered again.
+	own, skip := p.doc.Nodes[i].Feed.Connectors[k], ""
+	if own.RatingA != nil || own.RatingV != nil {
+		skip = own.Family
+	}
+	if fam, ok := p.connectorFamily(n, n.feed.connectors[k].fixesPolarity, skip); ok {
 		c := domain.Connector{Family: fam.Family}
 		return []candidate{{
 			change: fmt.Sprintf("Use a %s connector pair on the feed to %s instead: rated %s A and %s V for %s A at up to %s V "+
@@ -366,6 +405,9 @@ func (p *proposer) connectorCandidates(i int, ptr string) ([]candidate, string) 
 		}}, ""
 	}
 	c := domain.Connector{RatingA: ptrF(needA), RatingV: ptrF(needV)}
+	if n.feed.connectors[k].fixesPolarity {
+		c.FixesPolarity = boolPtr(true)
+	}
 	return []candidate{{
 		change: fmt.Sprintf("Use a connector pair on the feed to %s rated at least %s A and %s V: no stored family is.", n.id,
 			num(needA), num(needV)),
@@ -411,22 +453,40 @@ func (p *proposer) regulatorCurrent(i int) ([]candidate, string) {
 	}}, ""
 }
 
-// toSwitching makes linear regulator i a converter of topology topo,
-// which holds its output from any input its feed can carry.
-func (p *proposer) toSwitching(i int, topo string, why string) candidate {
+// toSwitching makes regulator i a converter of topology topo, which
+// holds its output from any input its feed can carry. The design's θJA
+// was the old part's, so it goes, and the converter's heat is judged as a
+// board's with no heat sink: where the limits' default efficiency sheds
+// more than that, the converter must be more efficient, and says so.
+func (p *proposer) toSwitching(i int, topo string, why string) (candidate, bool) {
 	n := &p.r.t.nodes[i]
 	eff := p.ru.limits.Regulators.SwitchingEfficiency.Value
+	effSaid := "at " + pct(eff) + " efficiency (the limits' default)"
+	limit := p.ru.limits.Regulators.NoHeatsinkMaxW.Value
+	out, iq := n.outputV*n.outRun, n.vHigh*n.quiescentA
+	if n.switching() {
+		eff = n.efficiency
+		effSaid = "at its " + pct(eff) + " efficiency"
+	}
+	var edits []edit
+	if out*(1/eff-1)+iq > limit {
+		need := ratingFor(out/(out+limit-iq), func(v float64) bool { return out*(1/v-1)+iq <= limit })
+		if limit <= iq || !(need > 0) || need >= 1 {
+			return candidate{}, false
+		}
+		eff, effSaid = need, "at "+pct(need)+" efficiency or better"
+		edits = append(edits, setField(i, "efficiency", need, func(n *domain.Node, v *float64) { n.Efficiency = v }))
+	}
 	loss := electric.SwitchingLossW(n.outputV, n.outRun, eff)
 	rank := 1.0
 	if topo == domain.TopologyBuckBoost {
 		rank = 2
 	}
-	edits := []edit{{node: i, path: "/topology", value: topo, rank: rank, part: true, set: func(n *domain.Node) { n.Topology = topo }}}
+	edits = append(edits, edit{node: i, path: "/topology", value: topo, rank: rank, part: true, set: func(n *domain.Node) { n.Topology = topo }},
+		removeField(i, "theta_ja_c_per_w", func(n *domain.Node) { n.ThetaJACPerW = nil }),
+		removeField(i, "tj_max_c", func(n *domain.Node) { n.TjMaxC = nil }))
 	if n.topo == topoLinear {
-		edits = append(edits,
-			removeField(i, "dropout_v", func(n *domain.Node) { n.DropoutV = nil }),
-			removeField(i, "theta_ja_c_per_w", func(n *domain.Node) { n.ThetaJACPerW = nil }),
-			removeField(i, "tj_max_c", func(n *domain.Node) { n.TjMaxC = nil }))
+		edits = append(edits, removeField(i, "dropout_v", func(n *domain.Node) { n.DropoutV = nil }))
 	} else {
 		edits = append(edits, removeField(i, "min_input_v", func(n *domain.Node) { n.MinInputV = nil }))
 	}
@@ -434,35 +494,36 @@ func (p *proposer) toSwitching(i int, topo string, why string) candidate {
 	if topo == domain.TopologyBuckBoost {
 		kind = "a buck-boost converter"
 	}
-	return candidate{
-		change: fmt.Sprintf("Use %s in place of %s (%s): at %s efficiency (the limits' default) it sheds about %s W delivering "+
-			"%s A at %s V.", kind, n.id, why, pct(eff), num(loss), num(n.outRun), num(n.outputV)),
-		edits: edits, part: regulatorNeed(n, topo),
+	need := regulatorNeed(n, topo)
+	if len(edits) > 0 && edits[0].path == "/efficiency" {
+		need.AtLeast["efficiency"] = eff
 	}
+	return candidate{
+		change: fmt.Sprintf("Use %s in place of %s (%s): %s it sheds about %s W delivering %s A at %s V.", kind, n.id, why,
+			effSaid, num(loss), num(n.outRun), num(n.outputV)),
+		edits: edits, part: need,
+	}, true
 }
 
 func (p *proposer) regulatorThermal(i int) ([]candidate, string) {
 	n := &p.r.t.nodes[i]
+	if n.switching() {
+		return p.switchingThermal(i)
+	}
 	powerW, tj := p.r.junction(n)
 	topo := domain.TopologyBuck
 	if n.vLow < n.outputV {
 		topo = domain.TopologyBuckBoost
 	}
-	out := []candidate{p.toSwitching(i, topo, fmt.Sprintf("the linear one sheds %s W and its junction reaches %s °C", num(powerW), num(tj)))}
-	margin := p.ru.limits.Policy.ThermalMarginC.Value
-	ceiling := n.tjMaxC - margin
-	if powerW > 0 && ceiling > p.r.ambient {
-		theta := limitFor((ceiling-p.r.ambient)/powerW, func(v float64) bool { return p.r.ambient+powerW*v < ceiling })
-		if theta >= 0.1 {
-			out = append(out, candidate{
-				change: fmt.Sprintf("Mount %s on a heatsink that brings θJA to %s °C/W or less: shedding %s W, its junction stays "+
-					"at %s °C, %s °C under its %s °C limit.", n.id, num(theta), num(powerW), num(p.r.ambient+powerW*theta),
-					num(n.tjMaxC-(p.r.ambient+powerW*theta)), num(n.tjMaxC)),
-				edits: []edit{setField(i, "theta_ja_c_per_w", theta, func(n *domain.Node, v *float64) { n.ThetaJACPerW = v })},
-				local: true,
-			})
-			out[len(out)-1].edits[0].rank = -theta // the lower θJA is the stronger change
-		}
+	var out []candidate
+	if c, ok := p.toSwitching(i, topo, fmt.Sprintf("the linear one sheds %s W and its junction reaches %s °C", num(powerW), num(tj))); ok {
+		out = append(out, c)
+	}
+	if c, ok := p.heatsinkFor(i, powerW); ok {
+		out = append(out, c)
+	}
+	if len(out) == 0 {
+		return nil, fmt.Sprintf("Neither a converter nor a heatsink keeps %s's heat in bounds: it sheds %s W.", n.id, num(powerW))
 	}
 	return out, ""
 }
@@ -495,8 +556,10 @@ func (p *proposer) regulatorHeadroom(i int) ([]candidate, string) {
 			})
 			out[len(out)-1].edits[0].rank = -d
 		}
-		out = append(out, p.toSwitching(i, domain.TopologyBuckBoost, fmt.Sprintf("its input falls to %s V, below the %s V it needs",
-			num(n.vLow), num(n.outputV+n.dropoutV))))
+		if c, ok := p.toSwitching(i, domain.TopologyBuckBoost, fmt.Sprintf("its input falls to %s V, below the %s V it needs",
+			num(n.vLow), num(n.outputV+n.dropoutV))); ok {
+			out = append(out, c)
+		}
 	default:
 		lo := n.minWorkingInputV()
 		if n.minInputV > 0 && n.vLow < n.minInputV && (n.topo != topoBuck || n.vLow >= n.outputV) {
@@ -514,8 +577,10 @@ func (p *proposer) regulatorHeadroom(i int) ([]candidate, string) {
 			}
 		}
 		if n.topo != topoBuckBoost {
-			out = append(out, p.toSwitching(i, domain.TopologyBuckBoost, fmt.Sprintf("its input runs from %s V to %s V, and it needs "+
-				"%s V or more to hold %s V", num(n.vLow), num(n.vHigh), num(max(lo, n.outputV)), num(n.outputV))))
+			if c, ok := p.toSwitching(i, domain.TopologyBuckBoost, fmt.Sprintf("its input runs from %s V to %s V, and it needs "+
+				"%s V or more to hold %s V", num(n.vLow), num(n.vHigh), num(max(lo, n.outputV)), num(n.outputV))); ok {
+				out = append(out, c)
+			}
 		}
 	}
 	out = append(out, p.sourceCandidates(n.root, 1)...)

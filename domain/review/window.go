@@ -73,18 +73,19 @@ func (p *proposer) lowNeed(root int) (float64, string) {
 }
 
 // ceilings are, per node, the highest input it may see under a changed
-// source voltage (maxIn) and, for a linear regulator, the junction
-// temperature it must stay under (tj), by level.
-type ceilings struct{ maxIn, tj []float64 }
+// source voltage (maxIn) and, for a regulator, the junction temperature
+// it must stay under (tj, with a θJA) or the heat it may shed (heatW, a
+// converter without one), by level.
+type ceilings struct{ maxIn, tj, heatW []float64 }
 
 func (p *proposer) ceilings(root int) ceilings {
 	t := p.r.t
 	u := p.ru.limits.utilisation()
 	inf := math.Inf(1)
-	c := ceilings{maxIn: make([]float64, len(t.nodes)), tj: make([]float64, len(t.nodes))}
+	c := ceilings{maxIn: make([]float64, len(t.nodes)), tj: make([]float64, len(t.nodes)), heatW: make([]float64, len(t.nodes))}
 	for i := range t.nodes {
 		n := &t.nodes[i]
-		c.maxIn[i], c.tj[i] = inf, inf
+		c.maxIn[i], c.tj[i], c.heatW[i] = inf, inf, inf
 		if n.root != root || i == root {
 			continue
 		}
@@ -98,13 +99,13 @@ func (p *proposer) ceilings(root int) ceilings {
 			if n.maxInputV > 0 && p.level(CheckRegulatorHeadroom, n.id, "") != Fail {
 				limitTo(n.maxInputV)
 			}
-			if n.topo == topoLinear {
-				switch p.level(CheckRegulatorThermal, n.id, "") {
-				case Pass:
-					c.tj[i] = n.tjMaxC - p.ru.limits.Policy.ThermalMarginC.Value
-				case Warn:
-					c.tj[i] = n.tjMaxC
-				}
+			switch {
+			case n.thetaJA > 0 && p.level(CheckRegulatorThermal, n.id, "") == Pass:
+				c.tj[i] = n.tjMaxC - p.ru.limits.Policy.ThermalMarginC.Value
+			case n.thetaJA > 0 && p.level(CheckRegulatorThermal, n.id, "") == Warn:
+				c.tj[i] = n.tjMaxC
+			case n.switching() && p.level(CheckRegulatorHeat, n.id, "") == Pass:
+				c.heatW[i] = p.ru.limits.Regulators.NoHeatsinkMaxW.Value
 			}
 		case kindDriver:
 			switch p.level(CheckDriverVoltage, n.id, "") {
@@ -158,9 +159,13 @@ func (p *proposer) highOK(root int, vFull float64, c ceilings, ignore []bool, co
 			hi[i] = n.regulate(in)
 		}
 		over := in > c.maxIn[i]
-		if !over && n.kind == kindRegulator && n.topo == topoLinear && !math.IsInf(c.tj[i], 1) {
+		if !over && n.kind == kindRegulator && (!math.IsInf(c.tj[i], 1) || !math.IsInf(c.heatW[i], 1)) {
+			// The regulator's heat at this input, as junction and heat work it out.
 			heat := max(electric.LinearDissipationW(in, hi[i], n.outRun, n.quiescentA), 0)
-			over = electric.JunctionTempC(p.r.ambient, heat, n.thetaJA) >= c.tj[i]
+			if n.switching() {
+				heat = electric.SwitchingLossW(hi[i], n.outRun, n.efficiency) + in*n.quiescentA
+			}
+			over = heat > c.heatW[i] || electric.JunctionTempC(p.r.ambient, heat, n.thetaJA) >= c.tj[i]
 		}
 		if i == root || !over {
 			continue
