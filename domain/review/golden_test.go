@@ -113,6 +113,21 @@ func TestDemoDesignVerdicts(t *testing.T) {
 			{"battery.protection", "pack"}, {"connector.polarity", "camera"},
 			{"motor.stall", "sled_motor"}, {"motor.stall", "pan_motor"},
 		}},
+		// Fail, for the hazards a member cannot see on the bench: a 42 V
+		// lithium pack behind glass 5×20 fuses that cannot break the 165 A it
+		// can push into a short and carry no DC rating; no protection board;
+		// a jammed belt motor held at 10.5 A through a driver rated 6 A peak
+		// behind a slow fuse that needs 16 A to open; a buck module shedding
+		// 3.35 W with nothing said about its heat; a timer board behind a
+		// barrel plug that mates either way. The surge on the pack and the
+		// driver follow from the stall.
+		{"chip-conveyor", Fail, []finding{
+			{"source.current", "pack"}, {"battery.protection", "pack"}, {"driver.current", "belt_driver"},
+			{"fuse.interrupt", "belt_driver"}, {"motor.stall", "belt_motor"}, {"regulator.heat", "buck12"},
+			{"fuse.interrupt", "buck12"}, {"connector.polarity", "timer_board"},
+		}},
+		// Pass: the same build with each of those put right.
+		{"chip-conveyor-reworked", Pass, nil},
 		// Out of scope: it includes the mains side of a wall adapter; the
 		// adapter, which cannot sink current, takes what the brush motor
 		// pushes back with no clamp on its rail; and the brush motor, jammed,
