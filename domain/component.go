@@ -30,8 +30,11 @@ type Electrical struct {
 	NominalV  *float64 `json:"nominal_v,omitzero" unit:"V" min:"0" max:"1000" doc:"nominal voltage"`
 	NoLoadRPM *float64 `json:"no_load_rpm,omitzero" unit:"rpm" min:"0" max:"200000" doc:"a motor's speed with nothing on the shaft, at rated_v"`
 	RatingA   *float64 `json:"rating_a,omitzero" unit:"A" min:"0" max:"1000" doc:"a connector's, fuse's or wire's current rating"`
-	RatingV   *float64 `json:"rating_v,omitzero" unit:"V" min:"0" max:"1000" doc:"a connector's or fuse's voltage rating"`
-	Gauge     string   `json:"gauge,omitzero" doc:"a wire's size"`
+	RatingV   *float64 `json:"rating_v,omitzero" unit:"V" min:"0" max:"1000" doc:"a connector's voltage rating, or a fuse's DC voltage rating (an AC marking, such as a glass fuse's 250 V, does not count)"`
+	// A remedy's fuse must break the short it guards against; a shelf
+	// fuse that does not say what it breaks cannot be offered for one.
+	BreakingCapacityA *float64 `json:"breaking_capacity_a,omitzero" unit:"A" min:"1" max:"100000" doc:"a fuse's breaking capacity at its DC voltage rating, as its datasheet gives it: the most current it can interrupt"`
+	Gauge             string   `json:"gauge,omitzero" doc:"a wire's size"`
 }
 
 // FillNode completes n from the part's ratings: every field n leaves out

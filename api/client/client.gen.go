@@ -456,21 +456,24 @@ func (e PostV1ReviewsParamsPropose) Valid() bool {
 
 // Component defines model for Component.
 type Component struct {
-	Bin             *string             `json:"bin,omitempty"`
-	CellCapacityMah *float64            `json:"cell_capacity_mah,omitempty"`
-	Chemistry       *string             `json:"chemistry,omitempty"`
-	ClampV          *float64            `json:"clamp_v,omitempty"`
-	Condition       *ComponentCondition `json:"condition,omitempty"`
-	ContinuousA     *float64            `json:"continuous_a,omitempty"`
-	CreatedAt       time.Time           `json:"created_at"`
-	CurrentA        *float64            `json:"current_a,omitempty"`
-	CurrentLimitA   *float64            `json:"current_limit_a,omitempty"`
-	Description     *string             `json:"description,omitempty"`
-	DropoutV        *float64            `json:"dropout_v,omitempty"`
-	Efficiency      *float64            `json:"efficiency,omitempty"`
-	Gauge           *string             `json:"gauge,omitempty"`
-	Id              int                 `json:"id"`
-	Kind            ComponentKind       `json:"kind"`
+	Bin *string `json:"bin,omitempty"`
+
+	// BreakingCapacityA A fuse's breaking capacity at its DC voltage rating.
+	BreakingCapacityA *float64            `json:"breaking_capacity_a,omitempty"`
+	CellCapacityMah   *float64            `json:"cell_capacity_mah,omitempty"`
+	Chemistry         *string             `json:"chemistry,omitempty"`
+	ClampV            *float64            `json:"clamp_v,omitempty"`
+	Condition         *ComponentCondition `json:"condition,omitempty"`
+	ContinuousA       *float64            `json:"continuous_a,omitempty"`
+	CreatedAt         time.Time           `json:"created_at"`
+	CurrentA          *float64            `json:"current_a,omitempty"`
+	CurrentLimitA     *float64            `json:"current_limit_a,omitempty"`
+	Description       *string             `json:"description,omitempty"`
+	DropoutV          *float64            `json:"dropout_v,omitempty"`
+	Efficiency        *float64            `json:"efficiency,omitempty"`
+	Gauge             *string             `json:"gauge,omitempty"`
+	Id                int                 `json:"id"`
+	Kind              ComponentKind       `json:"kind"`
 
 	// MainsOrigin Came out of a mains-powered appliance.
 	MainsOrigin   *bool    `json:"mains_origin,omitempty"`
@@ -489,20 +492,22 @@ type Component struct {
 	Notes *string `json:"notes,omitempty"`
 
 	// Origin What it was salvaged from, or bought.
-	Origin                 *string              `json:"origin,omitempty"`
-	OutputV                *float64             `json:"output_v,omitempty"`
-	Owner                  string               `json:"owner"`
-	Parallel               *int                 `json:"parallel,omitempty"`
-	PeakA                  *float64             `json:"peak_a,omitempty"`
-	PolarityFree           *bool                `json:"polarity_free,omitempty"`
-	ProtectionCellOverV    *float64             `json:"protection_cell_over_v,omitempty"`
-	ProtectionCellUnderV   *float64             `json:"protection_cell_under_v,omitempty"`
-	ProtectionPerString    *bool                `json:"protection_per_string,omitempty"`
-	ProtectionTripA        *float64             `json:"protection_trip_a,omitempty"`
-	Quantity               *int                 `json:"quantity,omitempty"`
-	QuiescentA             *float64             `json:"quiescent_a,omitempty"`
-	RatedV                 *float64             `json:"rated_v,omitempty"`
-	RatingA                *float64             `json:"rating_a,omitempty"`
+	Origin               *string  `json:"origin,omitempty"`
+	OutputV              *float64 `json:"output_v,omitempty"`
+	Owner                string   `json:"owner"`
+	Parallel             *int     `json:"parallel,omitempty"`
+	PeakA                *float64 `json:"peak_a,omitempty"`
+	PolarityFree         *bool    `json:"polarity_free,omitempty"`
+	ProtectionCellOverV  *float64 `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV *float64 `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString  *bool    `json:"protection_per_string,omitempty"`
+	ProtectionTripA      *float64 `json:"protection_trip_a,omitempty"`
+	Quantity             *int     `json:"quantity,omitempty"`
+	QuiescentA           *float64 `json:"quiescent_a,omitempty"`
+	RatedV               *float64 `json:"rated_v,omitempty"`
+	RatingA              *float64 `json:"rating_a,omitempty"`
+
+	// RatingV A connector's voltage rating, or a fuse's DC voltage rating.
 	RatingV                *float64             `json:"rating_v,omitempty"`
 	ReverseProtectionDropV *float64             `json:"reverse_protection_drop_v,omitempty"`
 	RunningA               *float64             `json:"running_a,omitempty"`
@@ -525,19 +530,22 @@ type ComponentSpecSource string
 
 // ComponentInput defines model for ComponentInput.
 type ComponentInput struct {
-	Bin             *string                  `json:"bin,omitempty"`
-	CellCapacityMah *float64                 `json:"cell_capacity_mah,omitempty"`
-	Chemistry       *string                  `json:"chemistry,omitempty"`
-	ClampV          *float64                 `json:"clamp_v,omitempty"`
-	Condition       *ComponentInputCondition `json:"condition,omitempty"`
-	ContinuousA     *float64                 `json:"continuous_a,omitempty"`
-	CurrentA        *float64                 `json:"current_a,omitempty"`
-	CurrentLimitA   *float64                 `json:"current_limit_a,omitempty"`
-	Description     *string                  `json:"description,omitempty"`
-	DropoutV        *float64                 `json:"dropout_v,omitempty"`
-	Efficiency      *float64                 `json:"efficiency,omitempty"`
-	Gauge           *string                  `json:"gauge,omitempty"`
-	Kind            ComponentKind            `json:"kind"`
+	Bin *string `json:"bin,omitempty"`
+
+	// BreakingCapacityA A fuse's breaking capacity at its DC voltage rating.
+	BreakingCapacityA *float64                 `json:"breaking_capacity_a,omitempty"`
+	CellCapacityMah   *float64                 `json:"cell_capacity_mah,omitempty"`
+	Chemistry         *string                  `json:"chemistry,omitempty"`
+	ClampV            *float64                 `json:"clamp_v,omitempty"`
+	Condition         *ComponentInputCondition `json:"condition,omitempty"`
+	ContinuousA       *float64                 `json:"continuous_a,omitempty"`
+	CurrentA          *float64                 `json:"current_a,omitempty"`
+	CurrentLimitA     *float64                 `json:"current_limit_a,omitempty"`
+	Description       *string                  `json:"description,omitempty"`
+	DropoutV          *float64                 `json:"dropout_v,omitempty"`
+	Efficiency        *float64                 `json:"efficiency,omitempty"`
+	Gauge             *string                  `json:"gauge,omitempty"`
+	Kind              ComponentKind            `json:"kind"`
 
 	// MainsOrigin Came out of a mains-powered appliance.
 	MainsOrigin   *bool    `json:"mains_origin,omitempty"`
@@ -556,19 +564,21 @@ type ComponentInput struct {
 	Notes *string `json:"notes,omitempty"`
 
 	// Origin What it was salvaged from, or bought.
-	Origin                 *string                   `json:"origin,omitempty"`
-	OutputV                *float64                  `json:"output_v,omitempty"`
-	Parallel               *int                      `json:"parallel,omitempty"`
-	PeakA                  *float64                  `json:"peak_a,omitempty"`
-	PolarityFree           *bool                     `json:"polarity_free,omitempty"`
-	ProtectionCellOverV    *float64                  `json:"protection_cell_over_v,omitempty"`
-	ProtectionCellUnderV   *float64                  `json:"protection_cell_under_v,omitempty"`
-	ProtectionPerString    *bool                     `json:"protection_per_string,omitempty"`
-	ProtectionTripA        *float64                  `json:"protection_trip_a,omitempty"`
-	Quantity               *int                      `json:"quantity,omitempty"`
-	QuiescentA             *float64                  `json:"quiescent_a,omitempty"`
-	RatedV                 *float64                  `json:"rated_v,omitempty"`
-	RatingA                *float64                  `json:"rating_a,omitempty"`
+	Origin               *string  `json:"origin,omitempty"`
+	OutputV              *float64 `json:"output_v,omitempty"`
+	Parallel             *int     `json:"parallel,omitempty"`
+	PeakA                *float64 `json:"peak_a,omitempty"`
+	PolarityFree         *bool    `json:"polarity_free,omitempty"`
+	ProtectionCellOverV  *float64 `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV *float64 `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString  *bool    `json:"protection_per_string,omitempty"`
+	ProtectionTripA      *float64 `json:"protection_trip_a,omitempty"`
+	Quantity             *int     `json:"quantity,omitempty"`
+	QuiescentA           *float64 `json:"quiescent_a,omitempty"`
+	RatedV               *float64 `json:"rated_v,omitempty"`
+	RatingA              *float64 `json:"rating_a,omitempty"`
+
+	// RatingV A connector's voltage rating, or a fuse's DC voltage rating.
 	RatingV                *float64                  `json:"rating_v,omitempty"`
 	ReverseProtectionDropV *float64                  `json:"reverse_protection_drop_v,omitempty"`
 	RunningA               *float64                  `json:"running_a,omitempty"`
@@ -628,35 +638,39 @@ type DesignSummary struct {
 
 // Electrical Ratings in SI units; every field is optional.
 type Electrical struct {
-	CellCapacityMah        *float64 `json:"cell_capacity_mah,omitempty"`
-	Chemistry              *string  `json:"chemistry,omitempty"`
-	ClampV                 *float64 `json:"clamp_v,omitempty"`
-	ContinuousA            *float64 `json:"continuous_a,omitempty"`
-	CurrentA               *float64 `json:"current_a,omitempty"`
-	CurrentLimitA          *float64 `json:"current_limit_a,omitempty"`
-	DropoutV               *float64 `json:"dropout_v,omitempty"`
-	Efficiency             *float64 `json:"efficiency,omitempty"`
-	Gauge                  *string  `json:"gauge,omitempty"`
-	MaxDischargeA          *float64 `json:"max_discharge_a,omitempty"`
-	MaxInputV              *float64 `json:"max_input_v,omitempty"`
-	MaxOutputA             *float64 `json:"max_output_a,omitempty"`
-	MaxV                   *float64 `json:"max_v,omitempty"`
-	MinInputV              *float64 `json:"min_input_v,omitempty"`
-	MinV                   *float64 `json:"min_v,omitempty"`
-	NoLoadA                *float64 `json:"no_load_a,omitempty"`
-	NoLoadRpm              *float64 `json:"no_load_rpm,omitempty"`
-	NominalV               *float64 `json:"nominal_v,omitempty"`
-	OutputV                *float64 `json:"output_v,omitempty"`
-	Parallel               *int     `json:"parallel,omitempty"`
-	PeakA                  *float64 `json:"peak_a,omitempty"`
-	PolarityFree           *bool    `json:"polarity_free,omitempty"`
-	ProtectionCellOverV    *float64 `json:"protection_cell_over_v,omitempty"`
-	ProtectionCellUnderV   *float64 `json:"protection_cell_under_v,omitempty"`
-	ProtectionPerString    *bool    `json:"protection_per_string,omitempty"`
-	ProtectionTripA        *float64 `json:"protection_trip_a,omitempty"`
-	QuiescentA             *float64 `json:"quiescent_a,omitempty"`
-	RatedV                 *float64 `json:"rated_v,omitempty"`
-	RatingA                *float64 `json:"rating_a,omitempty"`
+	// BreakingCapacityA A fuse's breaking capacity at its DC voltage rating.
+	BreakingCapacityA    *float64 `json:"breaking_capacity_a,omitempty"`
+	CellCapacityMah      *float64 `json:"cell_capacity_mah,omitempty"`
+	Chemistry            *string  `json:"chemistry,omitempty"`
+	ClampV               *float64 `json:"clamp_v,omitempty"`
+	ContinuousA          *float64 `json:"continuous_a,omitempty"`
+	CurrentA             *float64 `json:"current_a,omitempty"`
+	CurrentLimitA        *float64 `json:"current_limit_a,omitempty"`
+	DropoutV             *float64 `json:"dropout_v,omitempty"`
+	Efficiency           *float64 `json:"efficiency,omitempty"`
+	Gauge                *string  `json:"gauge,omitempty"`
+	MaxDischargeA        *float64 `json:"max_discharge_a,omitempty"`
+	MaxInputV            *float64 `json:"max_input_v,omitempty"`
+	MaxOutputA           *float64 `json:"max_output_a,omitempty"`
+	MaxV                 *float64 `json:"max_v,omitempty"`
+	MinInputV            *float64 `json:"min_input_v,omitempty"`
+	MinV                 *float64 `json:"min_v,omitempty"`
+	NoLoadA              *float64 `json:"no_load_a,omitempty"`
+	NoLoadRpm            *float64 `json:"no_load_rpm,omitempty"`
+	NominalV             *float64 `json:"nominal_v,omitempty"`
+	OutputV              *float64 `json:"output_v,omitempty"`
+	Parallel             *int     `json:"parallel,omitempty"`
+	PeakA                *float64 `json:"peak_a,omitempty"`
+	PolarityFree         *bool    `json:"polarity_free,omitempty"`
+	ProtectionCellOverV  *float64 `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV *float64 `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString  *bool    `json:"protection_per_string,omitempty"`
+	ProtectionTripA      *float64 `json:"protection_trip_a,omitempty"`
+	QuiescentA           *float64 `json:"quiescent_a,omitempty"`
+	RatedV               *float64 `json:"rated_v,omitempty"`
+	RatingA              *float64 `json:"rating_a,omitempty"`
+
+	// RatingV A connector's voltage rating, or a fuse's DC voltage rating.
 	RatingV                *float64 `json:"rating_v,omitempty"`
 	ReverseProtectionDropV *float64 `json:"reverse_protection_drop_v,omitempty"`
 	RunningA               *float64 `json:"running_a,omitempty"`
@@ -1044,55 +1058,60 @@ type ReportRuntimeBrownoutsOutcome string
 
 // ShelfItem defines model for ShelfItem.
 type ShelfItem struct {
-	Bin                    string        `json:"bin"`
-	CellCapacityMah        *float64      `json:"cell_capacity_mah,omitempty"`
-	Chemistry              *string       `json:"chemistry,omitempty"`
-	ClampV                 *float64      `json:"clamp_v,omitempty"`
-	Condition              string        `json:"condition"`
-	ContinuousA            *float64      `json:"continuous_a,omitempty"`
-	CurrentA               *float64      `json:"current_a,omitempty"`
-	CurrentLimitA          *float64      `json:"current_limit_a,omitempty"`
-	Description            *string       `json:"description,omitempty"`
-	DropoutV               *float64      `json:"dropout_v,omitempty"`
-	Efficiency             *float64      `json:"efficiency,omitempty"`
-	Gauge                  *string       `json:"gauge,omitempty"`
-	Id                     int           `json:"id"`
-	Kind                   ComponentKind `json:"kind"`
-	MainsOrigin            *bool         `json:"mains_origin,omitempty"`
-	MaxDischargeA          *float64      `json:"max_discharge_a,omitempty"`
-	MaxInputV              *float64      `json:"max_input_v,omitempty"`
-	MaxOutputA             *float64      `json:"max_output_a,omitempty"`
-	MaxV                   *float64      `json:"max_v,omitempty"`
-	MinInputV              *float64      `json:"min_input_v,omitempty"`
-	MinV                   *float64      `json:"min_v,omitempty"`
-	Name                   string        `json:"name"`
-	NoLoadA                *float64      `json:"no_load_a,omitempty"`
-	NoLoadRpm              *float64      `json:"no_load_rpm,omitempty"`
-	NominalV               *float64      `json:"nominal_v,omitempty"`
-	Origin                 *string       `json:"origin,omitempty"`
-	OutputV                *float64      `json:"output_v,omitempty"`
-	Parallel               *int          `json:"parallel,omitempty"`
-	PeakA                  *float64      `json:"peak_a,omitempty"`
-	PolarityFree           *bool         `json:"polarity_free,omitempty"`
-	ProtectionCellOverV    *float64      `json:"protection_cell_over_v,omitempty"`
-	ProtectionCellUnderV   *float64      `json:"protection_cell_under_v,omitempty"`
-	ProtectionPerString    *bool         `json:"protection_per_string,omitempty"`
-	ProtectionTripA        *float64      `json:"protection_trip_a,omitempty"`
-	Quantity               int           `json:"quantity"`
-	QuiescentA             *float64      `json:"quiescent_a,omitempty"`
-	RatedV                 *float64      `json:"rated_v,omitempty"`
-	RatingA                *float64      `json:"rating_a,omitempty"`
-	RatingV                *float64      `json:"rating_v,omitempty"`
-	ReverseProtectionDropV *float64      `json:"reverse_protection_drop_v,omitempty"`
-	RunningA               *float64      `json:"running_a,omitempty"`
-	Series                 *int          `json:"series,omitempty"`
-	SinksCurrent           *bool         `json:"sinks_current,omitempty"`
-	SpecSource             string        `json:"spec_source"`
-	StallA                 *float64      `json:"stall_a,omitempty"`
-	ThetaJaCPerW           *float64      `json:"theta_ja_c_per_w,omitempty"`
-	TjMaxC                 *float64      `json:"tj_max_c,omitempty"`
-	Topology               *string       `json:"topology,omitempty"`
-	UpdatedAt              time.Time     `json:"updated_at"`
+	Bin string `json:"bin"`
+
+	// BreakingCapacityA A fuse's breaking capacity at its DC voltage rating.
+	BreakingCapacityA    *float64      `json:"breaking_capacity_a,omitempty"`
+	CellCapacityMah      *float64      `json:"cell_capacity_mah,omitempty"`
+	Chemistry            *string       `json:"chemistry,omitempty"`
+	ClampV               *float64      `json:"clamp_v,omitempty"`
+	Condition            string        `json:"condition"`
+	ContinuousA          *float64      `json:"continuous_a,omitempty"`
+	CurrentA             *float64      `json:"current_a,omitempty"`
+	CurrentLimitA        *float64      `json:"current_limit_a,omitempty"`
+	Description          *string       `json:"description,omitempty"`
+	DropoutV             *float64      `json:"dropout_v,omitempty"`
+	Efficiency           *float64      `json:"efficiency,omitempty"`
+	Gauge                *string       `json:"gauge,omitempty"`
+	Id                   int           `json:"id"`
+	Kind                 ComponentKind `json:"kind"`
+	MainsOrigin          *bool         `json:"mains_origin,omitempty"`
+	MaxDischargeA        *float64      `json:"max_discharge_a,omitempty"`
+	MaxInputV            *float64      `json:"max_input_v,omitempty"`
+	MaxOutputA           *float64      `json:"max_output_a,omitempty"`
+	MaxV                 *float64      `json:"max_v,omitempty"`
+	MinInputV            *float64      `json:"min_input_v,omitempty"`
+	MinV                 *float64      `json:"min_v,omitempty"`
+	Name                 string        `json:"name"`
+	NoLoadA              *float64      `json:"no_load_a,omitempty"`
+	NoLoadRpm            *float64      `json:"no_load_rpm,omitempty"`
+	NominalV             *float64      `json:"nominal_v,omitempty"`
+	Origin               *string       `json:"origin,omitempty"`
+	OutputV              *float64      `json:"output_v,omitempty"`
+	Parallel             *int          `json:"parallel,omitempty"`
+	PeakA                *float64      `json:"peak_a,omitempty"`
+	PolarityFree         *bool         `json:"polarity_free,omitempty"`
+	ProtectionCellOverV  *float64      `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV *float64      `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString  *bool         `json:"protection_per_string,omitempty"`
+	ProtectionTripA      *float64      `json:"protection_trip_a,omitempty"`
+	Quantity             int           `json:"quantity"`
+	QuiescentA           *float64      `json:"quiescent_a,omitempty"`
+	RatedV               *float64      `json:"rated_v,omitempty"`
+	RatingA              *float64      `json:"rating_a,omitempty"`
+
+	// RatingV A connector's voltage rating, or a fuse's DC voltage rating.
+	RatingV                *float64  `json:"rating_v,omitempty"`
+	ReverseProtectionDropV *float64  `json:"reverse_protection_drop_v,omitempty"`
+	RunningA               *float64  `json:"running_a,omitempty"`
+	Series                 *int      `json:"series,omitempty"`
+	SinksCurrent           *bool     `json:"sinks_current,omitempty"`
+	SpecSource             string    `json:"spec_source"`
+	StallA                 *float64  `json:"stall_a,omitempty"`
+	ThetaJaCPerW           *float64  `json:"theta_ja_c_per_w,omitempty"`
+	TjMaxC                 *float64  `json:"tj_max_c,omitempty"`
+	Topology               *string   `json:"topology,omitempty"`
+	UpdatedAt              time.Time `json:"updated_at"`
 }
 
 // Sourced defines model for Sourced.

@@ -104,6 +104,29 @@ func TestPartNeedRankBySizeBeforeVoltage(t *testing.T) {
 	}
 }
 
+// A fuse that must break a short needs its breaking capacity on record:
+// a blade fuse rated 32 V DC and 1,000 A (ISO 8820-3, from memory) serves
+// a 12.6 V feed whose short could draw 400 A; a glass one whose box gives
+// only its 250 V AC marking, and so no DC rating or breaking capacity,
+// does not; nor does a blade fuse that records no breaking capacity.
+func TestPartNeedFuseMustBreakTheShort(t *testing.T) {
+	need := PartNeed{Kind: "fuse", AtLeast: map[string]float64{"rating_a": 4, "rating_v": 12.6, "breaking_capacity_a": 400}}
+	for _, tc := range []struct {
+		part domain.Component
+		want bool
+	}{
+		{shelfPart(1, "blade 5 A", "fuse", 20, "working", domain.Electrical{RatingA: f64(5), RatingV: f64(32), BreakingCapacityA: f64(1000)}), true},
+		{shelfPart(2, "glass 5 A", "fuse", 10, "working", domain.Electrical{RatingA: f64(5)}), false},
+		{shelfPart(3, "blade 5 A, no figure", "fuse", 10, "working", domain.Electrical{RatingA: f64(5), RatingV: f64(32)}), false},
+		// 35 A, IEC 60127-2's low breaking capacity (from memory), is short of 400 A.
+		{shelfPart(4, "glass 5 A, 35 A", "fuse", 10, "working", domain.Electrical{RatingA: f64(5), RatingV: f64(32), BreakingCapacityA: f64(35)}), false},
+	} {
+		if got := need.Fits(tc.part); got != tc.want {
+			t.Errorf("%s: Fits = %v, want %v", tc.part.Name, got, tc.want)
+		}
+	}
+}
+
 func TestReportFillShelf(t *testing.T) {
 	fuse := &PartNeed{Kind: "fuse", AtLeast: map[string]float64{"rating_a": 7.5}}
 	wire := &PartNeed{Kind: "wire", AtLeast: map[string]float64{domain.RatingAreaMM2: 1.3}}
