@@ -106,8 +106,12 @@ func removeField(i int, name string, clear func(n *domain.Node)) edit {
 
 // --- wires
 
-// tableGauges are the conductor table's sizes, smallest first.
+// tableGauges are the conductor table's sizes, smallest first, read once
+// a proposal.
 func (p *proposer) tableGauges() []electric.Gauge {
+	if p.gauges != nil {
+		return p.gauges
+	}
 	var out []electric.Gauge
 	for _, row := range p.ru.limits.Conductors.Rows {
 		if g, err := electric.ParseGauge(row.Gauge); err == nil {
@@ -115,6 +119,7 @@ func (p *proposer) tableGauges() []electric.Gauge {
 		}
 	}
 	slices.SortStableFunc(out, func(a, b electric.Gauge) int { return cmp.Compare(a.AreaMM2, b.AreaMM2) })
+	p.gauges = out
 	return out
 }
 
