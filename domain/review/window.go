@@ -126,10 +126,10 @@ func (p *proposer) ceilings(root int) ceilings {
 				limitTo(cn.ratingV)
 			}
 		}
-		// The fuse's DC rating is a fail of both its rating and its
-		// interrupt checks: bound by it unless one fails already.
-		if fu := n.feed.fuse; fu != nil && fu.voltageV > 0 && p.level(CheckFuseRating, n.id, "") != Fail &&
-			p.level(CheckFuseInterrupt, n.id, "") != Fail {
+		// Past the fuse's DC rating both its rating and its interrupt
+		// checks fail: bound by it unless both fail already.
+		if fu := n.feed.fuse; fu != nil && fu.voltageV > 0 && (p.level(CheckFuseRating, n.id, "") != Fail ||
+			p.level(CheckFuseInterrupt, n.id, "") != Fail) {
 			limitTo(fu.voltageV)
 		}
 	}
