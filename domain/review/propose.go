@@ -10,6 +10,7 @@ import (
 	"github.com/go-json-experiment/json/jsontext"
 
 	"wattshelf/domain"
+	"wattshelf/domain/electric"
 )
 
 // Rounds of checking changes by reviewing the changed design. The first
@@ -127,6 +128,7 @@ type proposer struct {
 	findings []finding
 	windows  map[int]*sourceWindow // per source, worked out when a finding asks
 	rails    map[int32]*railSum    // the rails with motors, when a finding asks
+	gauges   []electric.Gauge      // the conductor table's sizes, smallest first
 }
 
 func newProposer(ru *Rules, doc domain.Design, comps map[int64]domain.Component, r *reviewer, rep Report) *proposer {

@@ -115,11 +115,12 @@ func TestProposeWire(t *testing.T) {
 	// 16AWG: d = 0.127 × 92^(20/39) = 1.2908 mm, area π/4 × d² = 1.3087 mm²;
 	// 0.5 m of it is 2 × 0.5 / 58 / 1.3087 = 0.013175 Ω, so 18 A drops
 	// 0.2372 V, 1.98 % of 12 V. The 25 A blade fuse carries 1.25 × 18 =
-	// 22.5 A and is at most 1.5 × 20 = 30 A: it passes as it is.
+	// 22.5 A and is at most 1.5 × 20 = 30 A: it passes as it is, and
+	// protects the new wire too (25 ≤ 1.5 × 25 = 37.5 A, 33 CFR 183.455).
 	ampacity := doc("", bench, `{"id": "heater", "type": "load", "current_a": 18, `+fusedFeed("bench", "18AWG", 0.5, 25)+`}`)
 	prop := proposeDoc(t, ampacity, nil)
 	r := checkRemedy(t, prop, wantRemedy{CheckWireAmpacity, "heater", Warn,
-		[]string{"16AWG", "25.0 A ampacity", "18.0 A", "1.98 %"},
+		[]string{"16AWG", "25.0 A ampacity", "18.0 A", "1.98 %", "25.0 A fuse protects it"},
 		[]string{`add /nodes/1/feed/wire/gauge "16AWG"`}})
 	if r.Part == nil || r.Part.Kind != "wire" || !near(r.Part.AtLeast["area_mm2"], 1.3087) {
 		t.Errorf("wire need %+v, want area_mm2 at least 1.3087", r.Part)

@@ -21,7 +21,7 @@ func (p *proposer) candidates(c Check, i int) ([]candidate, string) {
 	}
 	switch c.Check {
 	case CheckWireAmpacity, CheckWireDrop:
-		return p.wireCandidates(i, c.Check)
+		return p.wireCandidates(i)
 	case CheckFusePlacement:
 		return p.placeFuse(i)
 	case CheckConnectorRating:
@@ -106,8 +106,12 @@ func removeField(i int, name string, clear func(n *domain.Node)) edit {
 
 // --- wires
 
-// tableGauges are the conductor table's sizes, smallest first.
+// tableGauges are the conductor table's sizes, smallest first, read once
+// a proposal.
 func (p *proposer) tableGauges() []electric.Gauge {
+	if p.gauges != nil {
+		return p.gauges
+	}
 	var out []electric.Gauge
 	for _, row := range p.ru.limits.Conductors.Rows {
 		if g, err := electric.ParseGauge(row.Gauge); err == nil {
@@ -115,6 +119,7 @@ func (p *proposer) tableGauges() []electric.Gauge {
 		}
 	}
 	slices.SortStableFunc(out, func(a, b electric.Gauge) int { return cmp.Compare(a.AreaMM2, b.AreaMM2) })
+	p.gauges = out
 	return out
 }
 
@@ -145,41 +150,48 @@ func (p *proposer) feedWith(n *node, g electric.Gauge) (amp, run, share float64,
 }
 
 // wireCandidates is the lightest wire of the table, of the feed's own
-// system (AWG or metric) and thicker than it, that clears the check.
-func (p *proposer) wireCandidates(i int, check string) ([]candidate, string) {
+// system (AWG or metric) and thicker than it, that passes ampacity (as
+// derated) and drop, and that the feed's own fuse, if it has one,
+// protects: a new wire must suit the whole feed, not just the finding.
+// A converter whose feed collapses must get its power through it too.
+func (p *proposer) wireCandidates(i int) ([]candidate, string) {
 	n := &p.r.t.nodes[i]
 	u := p.ru.limits.utilisation()
 	drop := p.ru.limits.VoltageDrop
+	multiple := p.ru.limits.Fuses.MaxAmpacityMultiple.Value
+	fu := n.feed.fuse
 	for _, g := range p.tableGauges() {
 		if g.Metric != n.feed.gauge.Metric || g.AreaMM2 <= n.feed.gauge.AreaMM2 {
 			continue
 		}
 		amp, run, share, ok := p.feedWith(n, g)
-		if !ok {
-			continue
-		}
-		switch check {
-		case CheckWireAmpacity:
-			ok = !(run > u*amp)
-		case CheckWireDrop:
-			ok = !(share > drop.NonCriticalPct.Value) && !(n.critical && share > drop.CriticalPct.Value)
-		default: // a converter's feed that collapses: it must carry the power, within the drop limit
-			ok = !(share > drop.NonCriticalPct.Value)
-		}
-		if !ok {
+		if !ok || run > u*amp || share > drop.NonCriticalPct.Value || (n.critical && share > drop.CriticalPct.Value) ||
+			(fu != nil && fu.ratingA > multiple*amp) {
 			continue
 		}
 		label := g.Label
+		said := fmt.Sprintf("Use %s wire for the feed to %s instead of %s: %s A ampacity for its %s A (within %s), a %s %% drop",
+			label, n.id, n.feed.gauge.Label, num(amp), num(run), pct(u), num(share))
+		if fu != nil {
+			said += fmt.Sprintf(", and its %s A fuse protects it (at most %g × %s A)", num(fu.ratingA), multiple, num(amp))
+		}
 		return []candidate{{
-			change: fmt.Sprintf("Use %s wire for the feed to %s instead of %s: %s A ampacity for its %s A, a %s %% drop.",
-				label, n.id, n.feed.gauge.Label, num(amp), num(run), num(share)),
+			change: said + ".",
 			edits: []edit{{node: i, path: "/feed/wire/gauge", value: label, rank: g.AreaMM2,
 				set: func(n *domain.Node) { n.Feed.Wire.Gauge = label }}},
 			part: &PartNeed{Kind: "wire", AtLeast: map[string]float64{"area_mm2": math.Round(g.AreaMM2*1e4) / 1e4}},
 		}}, ""
 	}
 	return nil, fmt.Sprintf("No wire in the conductor table clears it: even the thickest the table lists for this feed is not enough "+
-		"for %s A over %s m; shorten the run or split the load.", num(n.run), num(n.feed.lengthM))
+		"for %s A over %s m%s; shorten the run or split the load.", num(n.run), num(n.feed.lengthM), fuseSaid(fu))
+}
+
+// fuseSaid names a feed's fuse for a message, "" without one.
+func fuseSaid(fu *fuse) string {
+	if fu == nil {
+		return ""
+	}
+	return " behind its " + num(fu.ratingA) + " A fuse"
 }
 
 // protectedWith is protectedConductors with the wires gauges gives.
@@ -543,7 +555,7 @@ func (p *proposer) regulatorHeadroom(i int) ([]candidate, string) {
 			part:  need, local: true,
 		})
 	case n.switching() && (n.collapsed || !p.r.t.converged):
-		return p.wireCandidates(i, CheckRegulatorHeadroom)
+		return p.wireCandidates(i)
 	case n.topo == topoLinear:
 		if d := limitFor(n.vLow-n.outputV, func(v float64) bool { return !(n.vLow < n.outputV+v) }); d > 0 && d < n.dropoutV {
 			need := regulatorNeed(n, domain.TopologyLinear)

@@ -126,7 +126,10 @@ func (p *proposer) ceilings(root int) ceilings {
 				limitTo(cn.ratingV)
 			}
 		}
-		if fu := n.feed.fuse; fu != nil && fu.voltageV > 0 && p.level(CheckFuseRating, n.id, "") != Fail {
+		// Past the fuse's DC rating both its rating and its interrupt
+		// checks fail: bound by it unless both fail already.
+		if fu := n.feed.fuse; fu != nil && fu.voltageV > 0 && (p.level(CheckFuseRating, n.id, "") != Fail ||
+			p.level(CheckFuseInterrupt, n.id, "") != Fail) {
 			limitTo(fu.voltageV)
 		}
 	}
