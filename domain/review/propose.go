@@ -235,6 +235,9 @@ func (p *proposer) check(pick func(k int) int) (domain.Design, outcome, error) {
 // it did, so that ends it.
 func (p *proposer) settle() (domain.Design, Status, error) {
 	for round := 1; ; round++ {
+		if !slices.ContainsFunc(p.findings, func(f finding) bool { return f.chosen >= 0 }) {
+			return p.doc, p.rep.Status, nil // nothing to change: the original review stands
+		}
 		design, o, err := p.check(p.chosen)
 		if err != nil {
 			return domain.Design{}, "", err
