@@ -252,20 +252,24 @@ func (p *proposer) motorStall(i int) ([]candidate, string) {
 	var out []candidate
 	if fp.driver >= 0 {
 		d := &t.nodes[fp.driver]
+		// A driver the proposal already replaces with a stronger one is
+		// held to that one's continuous rating.
+		cont, with := d.continuousA, ""
+		if v, ok := p.firstValue(int(fp.driver), "/continuous_a"); ok {
+			cont, with = v.(float64), " (the driver proposed for its own finding)"
+		}
 		// Held at lim, the driver passes lim and the jam adds lim − its
 		// running output to every feed on the way.
-		ok := func(v float64) bool {
-			return v >= d.outRun && v <= d.continuousA && w.run+max(v-d.outRun, 0) <= w.feed.ampacity
-		}
-		if lim := limitFor(min(d.continuousA, d.outRun+w.feed.ampacity-w.run), ok); lim > 0 {
+		ok := func(v float64) bool { return v >= d.outRun && v <= cont && w.run+max(v-d.outRun, 0) <= w.feed.ampacity }
+		if lim := limitFor(min(cont, d.outRun+w.feed.ampacity-w.run), ok); lim > 0 {
 			e := setField(int(fp.driver), "current_limit_a", lim, func(n *domain.Node, v *float64) { n.CurrentLimitA = v })
 			e.rank = -lim
 			need := driverNeed(d)
 			need.AtMost = map[string]float64{"current_limit_a": lim}
 			out = append(out, candidate{
 				change: fmt.Sprintf("Use a driver in place of %s that holds its output to %s A or less (current_limit_a): a jammed %s "+
-					"then draws no more than that, within its %s A continuous rating and the %s A of the feed to %s.", d.id,
-					num(lim), n.id, num(d.continuousA), num(w.feed.ampacity), w.id),
+					"then draws no more than that, within its %s A continuous rating%s and the %s A of the feed to %s.", d.id,
+					num(lim), n.id, num(cont), with, num(w.feed.ampacity), w.id),
 				edits: []edit{e}, part: need,
 			})
 		}

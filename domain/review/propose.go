@@ -151,34 +151,93 @@ func newProposer(ru *Rules, doc domain.Design, comps map[int64]domain.Component,
 	return p
 }
 
-// generate works out the candidates of every finding: the fuse findings
-// last, since a fuse must protect the wire as the proposal leaves it.
-func (p *proposer) generate() {
-	var fuses []int
-	for k := range p.findings {
-		f := &p.findings[k]
-		switch p.rep.Checks[f.check].Check {
-		case CheckFuseRating, CheckFuseMissing, CheckFuseInterrupt, CheckBatteryProtection:
-			fuses = append(fuses, k)
-			continue
-		}
-		p.fill(f)
+// Stages of working out remedies, as one finding's remedy depends on
+// another's: a fuse is sized first against the wires as they are (a
+// lighter fuse beats a thicker wire); the parts' ratings next; then the
+// wires, which must suit the fuse as proposed, and a jammed motor, which
+// a driver's proposed rating may hold. A fuse that no rating fits the
+// wire it has is sized last, against the wires as proposed.
+const (
+	stageFuse = iota
+	stageParts
+	stageWires
+)
+
+func stageOf(check string) int {
+	switch check {
+	case CheckFuseRating, CheckFuseMissing, CheckFuseInterrupt, CheckBatteryProtection:
+		return stageFuse
+	case CheckWireAmpacity, CheckWireDrop, CheckWireTemperature, CheckRegulatorHeadroom, CheckMotorStall:
+		return stageWires
 	}
-	if len(fuses) == 0 {
+	return stageParts
+}
+
+// generate works out the candidates of every finding, stage by stage.
+func (p *proposer) generate() {
+	none := map[int]electric.Gauge{}
+	protAmp, protID := p.r.protAmp, p.r.protID
+	for stage := stageFuse; stage <= stageWires; stage++ {
+		for k := range p.findings {
+			f := &p.findings[k]
+			c := p.rep.Checks[f.check]
+			if stageOf(c.Check) != stage {
+				continue
+			}
+			if stage == stageFuse {
+				f.cands, f.noRemedy = p.fuseFinding(c, f.node, none, protAmp, protID)
+			} else {
+				f.cands, f.noRemedy = p.candidates(c, f.node)
+			}
+			p.initTries(f)
+		}
+	}
+	var again []int
+	for k := range p.findings {
+		if f := &p.findings[k]; stageOf(p.rep.Checks[f.check].Check) == stageFuse && len(f.cands) == 0 {
+			again = append(again, k)
+		}
+	}
+	if len(again) == 0 {
 		return
 	}
 	gauges := p.firstGauges()
-	protAmp, protID := p.protectedWith(gauges)
-	for _, k := range fuses {
+	protAmp, protID = p.protectedWith(gauges)
+	for _, k := range again {
 		f := &p.findings[k]
-		c := p.rep.Checks[f.check]
-		if c.Check == CheckBatteryProtection {
-			f.cands, f.noRemedy = p.batteryProtection(c, f.node, gauges, protAmp, protID)
-		} else {
-			f.cands, f.noRemedy = p.fuseCandidates(c, f.node, gauges, protAmp, protID)
-		}
+		f.cands, f.noRemedy = p.fuseFinding(p.rep.Checks[f.check], f.node, gauges, protAmp, protID)
 		p.initTries(f)
 	}
+}
+
+// fuseFinding works out a fuse finding's candidates against the wires
+// gauges gives (none: as they are).
+func (p *proposer) fuseFinding(c Check, i int, gauges map[int]electric.Gauge, protAmp []float64, protID []string) ([]candidate, string) {
+	if c.Check == CheckBatteryProtection {
+		return p.batteryProtection(c, i, gauges, protAmp, protID)
+	}
+	return p.fuseCandidates(c, i, gauges, protAmp, protID)
+}
+
+// firstValue is the value the first remedies so far give a member of node
+// i (the strongest, where two do), and whether any does.
+func (p *proposer) firstValue(i int, path string) (any, bool) {
+	var best *edit
+	for k := range p.findings {
+		f := &p.findings[k]
+		if f.chosen < 0 {
+			continue
+		}
+		for j := range f.cands[f.chosen].edits {
+			if e := &f.cands[f.chosen].edits[j]; e.node == i && e.path == path && (best == nil || e.rank > best.rank) {
+				best = e
+			}
+		}
+	}
+	if best == nil {
+		return nil, false
+	}
+	return best.value, true
 }
 
 func (p *proposer) fill(f *finding) {
@@ -235,6 +294,9 @@ func (p *proposer) check(pick func(k int) int) (domain.Design, outcome, error) {
 // it did, so that ends it.
 func (p *proposer) settle() (domain.Design, Status, error) {
 	for round := 1; ; round++ {
+		if !slices.ContainsFunc(p.findings, func(f finding) bool { return f.chosen >= 0 }) {
+			return p.doc, p.rep.Status, nil // nothing to change: the original review stands
+		}
 		design, o, err := p.check(p.chosen)
 		if err != nil {
 			return domain.Design{}, "", err

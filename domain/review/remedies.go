@@ -159,21 +159,21 @@ func (p *proposer) wireCandidates(i int) ([]candidate, string) {
 	u := p.ru.limits.utilisation()
 	drop := p.ru.limits.VoltageDrop
 	multiple := p.ru.limits.Fuses.MaxAmpacityMultiple.Value
-	fu := n.feed.fuse
+	fuseA, fused := p.fuseAsProposed(i)
 	for _, g := range p.tableGauges() {
 		if g.Metric != n.feed.gauge.Metric || g.AreaMM2 <= n.feed.gauge.AreaMM2 {
 			continue
 		}
 		amp, run, share, ok := p.feedWith(n, g)
 		if !ok || run > u*amp || share > drop.NonCriticalPct.Value || (n.critical && share > drop.CriticalPct.Value) ||
-			(fu != nil && fu.ratingA > multiple*amp) {
+			(fused && fuseA > multiple*amp) {
 			continue
 		}
 		label := g.Label
 		said := fmt.Sprintf("Use %s wire for the feed to %s instead of %s: %s A ampacity for its %s A (within %s), a %s %% drop",
 			label, n.id, n.feed.gauge.Label, num(amp), num(run), pct(u), num(share))
-		if fu != nil {
-			said += fmt.Sprintf(", and its %s A fuse protects it (at most %g × %s A)", num(fu.ratingA), multiple, num(amp))
+		if fused {
+			said += fmt.Sprintf(", and its %s A fuse protects it (at most %g × %s A)", num(fuseA), multiple, num(amp))
 		}
 		return []candidate{{
 			change: said + ".",
@@ -182,16 +182,27 @@ func (p *proposer) wireCandidates(i int) ([]candidate, string) {
 			part: &PartNeed{Kind: "wire", AtLeast: map[string]float64{"area_mm2": math.Round(g.AreaMM2*1e4) / 1e4}},
 		}}, ""
 	}
+	behind := ""
+	if fused {
+		behind = " behind its " + num(fuseA) + " A fuse"
+	}
 	return nil, fmt.Sprintf("No wire in the conductor table clears it: even the thickest the table lists for this feed is not enough "+
-		"for %s A over %s m%s; shorten the run or split the load.", num(n.run), num(n.feed.lengthM), fuseSaid(fu))
+		"for %s A over %s m%s; shorten the run or split the load.", num(n.run), num(n.feed.lengthM), behind)
 }
 
-// fuseSaid names a feed's fuse for a message, "" without one.
-func fuseSaid(fu *fuse) string {
-	if fu == nil {
-		return ""
+// fuseAsProposed is the rating of the fuse on node i's feed as the first
+// fuse remedies leave it, and whether the feed has one.
+func (p *proposer) fuseAsProposed(i int) (float64, bool) {
+	if v, ok := p.firstValue(i, "/feed/fuse/rating_a"); ok {
+		return v.(float64), true
 	}
-	return " behind its " + num(fu.ratingA) + " A fuse"
+	if v, ok := p.firstValue(i, "/feed/fuse"); ok {
+		return v.(domain.Fuse).RatingA, true
+	}
+	if fu := p.r.t.nodes[i].feed.fuse; fu != nil {
+		return fu.ratingA, true
+	}
+	return 0, false
 }
 
 // protectedWith is protectedConductors with the wires gauges gives.
