@@ -210,6 +210,8 @@ func TestOpenAPIResponses(t *testing.T) {
 	oc.send(get, dpath+"/reviews", "ada", nil, 200)
 	oc.send(post, "/v1/reviews", "", []byte(overvoltDesign), 200)
 	oc.send(post, "/v1/reviews?limits_version=1", "", []byte(benchLampDesign), 200)
+	oc.send(post, "/v1/reviews?propose=1", "", []byte(overvoltDesign), 200)
+	oc.send(post, "/v1/reviews?propose=1", "", []byte(heaterDesign), 200)
 	oc.send(post, "/v1/reviews", "", []byte(`{"format": 1, "nodes": [{"id": "x", "type": "toaster"}]}`), 422)
 	oc.send(post, "/v1/reviews", "", []byte(`{"format": 1,`), 400)
 

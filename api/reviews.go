@@ -22,10 +22,14 @@ const (
 )
 
 // StoredReviewView is a stored review as the API returns it: the record
-// and the address of its printable report.
+// and the address of its printable report. The answer to storing one adds
+// the proposed design, which is not stored: the stored report carries the
+// remedies it applies.
 type StoredReviewView struct {
 	store.StoredReview
-	ReportURL string `json:"report_url"`
+	ReportURL      string         `json:"report_url"`
+	Proposed       *domain.Design `json:"proposed,omitzero"`
+	ProposedStatus review.Status  `json:"proposed_status,omitzero"`
 }
 
 // ReviewPage is one page of a design's reviews, newest first.
@@ -47,25 +51,45 @@ func limitsVersionParam(c echo.Context) (int, error) {
 	return int(n), nil
 }
 
+// proposeParam reads ?propose=1; 0 or nothing asks for the report alone.
+func proposeParam(c echo.Context) (bool, error) {
+	switch c.QueryParam("propose") {
+	case "", "0":
+		return false, nil
+	case "1":
+		return true, nil
+	}
+	return false, queryProblem("/propose", "must be 1 to ask for remedies and the proposed design, or 0")
+}
+
 // review decodes and reviews a document against limits version v (0:
-// the current one). Rules.Review validates the document itself.
-func (s *server) review(ctx context.Context, document []byte, v int) (review.Report, error) {
+// the current one); with propose, it proposes remedies too and lists the
+// shelf parts that would do them. The engine validates the document.
+func (s *server) review(ctx context.Context, document []byte, v int, propose bool) (review.Proposal, error) {
 	doc, err := domain.DecodeDesign(document)
 	if err != nil {
-		return review.Report{}, err
+		return review.Proposal{}, err
 	}
 	rules, _, err := s.limits.get(ctx, v)
 	if errors.Is(err, domain.ErrNotFound) {
-		return review.Report{}, queryProblem("/limits_version", "no limits version %d is stored; GET /v1/limits for the current one", v)
+		return review.Proposal{}, queryProblem("/limits_version", "no limits version %d is stored; GET /v1/limits for the current one", v)
 	}
 	if err != nil {
-		return review.Report{}, err
+		return review.Proposal{}, err
 	}
 	components, err := s.store.ComponentsByID(ctx, doc.ComponentIDs())
 	if err != nil {
-		return review.Report{}, err
+		return review.Proposal{}, err
 	}
-	return rules.Review(doc, components)
+	if !propose {
+		rep, err := rules.Review(doc, components)
+		return review.Proposal{Report: rep}, err
+	}
+	p, err := rules.Propose(doc, components)
+	if err != nil {
+		return review.Proposal{}, err
+	}
+	return p, s.store.FillShelf(ctx, &p.Report)
 }
 
 // reviewDocument reviews the document sent as the body and stores
@@ -75,18 +99,15 @@ func (s *server) review(ctx context.Context, document []byte, v int) (review.Rep
 // bearer token that does not check out is a 401 here, while any other
 // Authorization (a proxy's Basic auth) is ignored, as public routes do.
 func (s *server) reviewDocument(c echo.Context) error {
-	_, err := s.identify(c)
-	anonymous := err != nil
-	if anonymous {
-		if sentBearer(c) {
-			return err
-		}
-		if ok, wait := s.reviewLimiter.allow("addr:"+clientKey(c.Request(), s.cfg.TrustedProxies), time.Now()); !ok {
-			return &problemError{kind: "rate-limited", retry: wait,
-				detail: fmt.Sprintf("too many reviews from this client; try again in %d s", wait)}
-		}
+	anonymous, err := s.admitReview(c)
+	if err != nil {
+		return err
 	}
 	v, err := limitsVersionParam(c)
+	if err != nil {
+		return err
+	}
+	propose, err := proposeParam(c)
 	if err != nil {
 		return err
 	}
@@ -94,11 +115,31 @@ func (s *server) reviewDocument(c echo.Context) error {
 	if err != nil {
 		return err
 	}
-	report, err := s.review(c.Request().Context(), body, v)
+	p, err := s.review(c.Request().Context(), body, v, propose)
 	if err != nil {
 		return err
 	}
-	return c.JSON(http.StatusOK, report)
+	if propose {
+		return c.JSON(http.StatusOK, p)
+	}
+	return c.JSON(http.StatusOK, p.Report)
+}
+
+// admitReview lets an inline review through, saying whether its client is
+// anonymous: a bad bearer token is a 401, and an anonymous client past
+// its rate a 429.
+func (s *server) admitReview(c echo.Context) (anonymous bool, err error) {
+	if _, err = s.identify(c); err == nil {
+		return false, nil
+	}
+	if sentBearer(c) {
+		return true, err
+	}
+	if ok, wait := s.reviewLimiter.allow("addr:"+clientKey(c.Request(), s.cfg.TrustedProxies), time.Now()); !ok {
+		return true, &problemError{kind: "rate-limited", retry: wait,
+			detail: fmt.Sprintf("too many reviews from this client; try again in %d s", wait)}
+	}
+	return true, nil
 }
 
 // AnonymousMaxBodyBytes caps the body of an inline review sent without a
@@ -145,36 +186,43 @@ func (s *server) reviewStoredDesign(c echo.Context) error {
 	if err := s.checkQuota(c, store.QuotaNeed{Review: true}); err != nil {
 		return err
 	}
-	r, err := s.storeReview(c, d, v)
+	view, err := s.storeReview(c, d, v)
 	if errors.Is(err, domain.ErrPreconditionFailed) {
 		return fmt.Errorf("design %d changed while it was reviewed: %w", d.ID, domain.ErrConflict)
 	}
 	if err != nil {
 		return err
 	}
-	view := s.reviewView(r)
 	c.Response().Header().Set("Location", view.ReportURL)
 	return c.JSON(http.StatusCreated, view)
 }
 
-// storeReview reviews d and stores the review.
-func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion int) (store.StoredReview, error) {
+// storeReview reviews d with a proposal, so its report page can show what
+// would fix each finding, and stores the review; the answer adds the
+// proposed design.
+func (s *server) storeReview(c echo.Context, d store.StoredDesign, limitsVersion int) (StoredReviewView, error) {
 	ctx := c.Request().Context()
-	report, err := s.review(ctx, d.Document, limitsVersion)
+	p, err := s.review(ctx, d.Document, limitsVersion, true)
 	if err != nil {
-		return store.StoredReview{}, err
+		return StoredReviewView{}, err
 	}
-	encoded, err := encodeJSON(report)
+	encoded, err := encodeJSON(p.Report)
 	if err != nil {
-		return store.StoredReview{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
+		return StoredReviewView{}, fmt.Errorf("encode report of design %d: %w", d.ID, err)
 	}
 	if err := s.checkQuota(c, store.QuotaNeed{AddBytes: int64(len(encoded) + len(d.Document))}); err != nil {
-		return store.StoredReview{}, err
+		return StoredReviewView{}, err
 	}
-	return s.store.AddReview(ctx, currentUser(c), store.NewReview{
-		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(report.Status),
-		LimitsVersion: report.LimitsVersion, Report: encoded,
+	r, err := s.store.AddReview(ctx, currentUser(c), store.NewReview{
+		DesignID: d.ID, DesignVersion: d.Version, Document: d.Document, Status: string(p.Report.Status),
+		LimitsVersion: p.Report.LimitsVersion, Report: encoded,
 	})
+	if err != nil {
+		return StoredReviewView{}, err
+	}
+	view := s.reviewView(r)
+	view.Proposed, view.ProposedStatus = p.Proposed, p.ProposedStatus
+	return view, nil
 }
 
 // checkQuota refuses a member's write that would pass a per-member quota;

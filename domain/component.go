@@ -5,6 +5,8 @@ import (
 	"slices"
 	"strings"
 	"time"
+
+	"wattshelf/domain/electric"
 )
 
 // ComponentKinds returns the kinds of part the shelf holds.
@@ -28,8 +30,11 @@ type Electrical struct {
 	NominalV  *float64 `json:"nominal_v,omitzero" unit:"V" min:"0" max:"1000" doc:"nominal voltage"`
 	NoLoadRPM *float64 `json:"no_load_rpm,omitzero" unit:"rpm" min:"0" max:"200000" doc:"a motor's speed with nothing on the shaft, at rated_v"`
 	RatingA   *float64 `json:"rating_a,omitzero" unit:"A" min:"0" max:"1000" doc:"a connector's, fuse's or wire's current rating"`
-	RatingV   *float64 `json:"rating_v,omitzero" unit:"V" min:"0" max:"1000" doc:"a connector's or fuse's voltage rating"`
-	Gauge     string   `json:"gauge,omitzero" doc:"a wire's size"`
+	RatingV   *float64 `json:"rating_v,omitzero" unit:"V" min:"0" max:"1000" doc:"a connector's voltage rating, or a fuse's DC voltage rating (an AC marking, such as a glass fuse's 250 V, does not count)"`
+	// A remedy's fuse must break the short it guards against; a shelf
+	// fuse that does not say what it breaks cannot be offered for one.
+	BreakingCapacityA *float64 `json:"breaking_capacity_a,omitzero" unit:"A" min:"1" max:"100000" doc:"a fuse's breaking capacity at its DC voltage rating, as its datasheet gives it: the most current it can interrupt"`
+	Gauge             string   `json:"gauge,omitzero" doc:"a wire's size"`
 }
 
 // FillNode completes n from the part's ratings: every field n leaves out
@@ -165,4 +170,30 @@ func (c Component) Public() ShelfItem {
 		MainsOrigin: c.MainsOrigin, Bin: c.Bin, Quantity: c.Quantity, Condition: c.Condition,
 		SpecSource: c.SpecSource, Electrical: c.Electrical, UpdatedAt: c.UpdatedAt,
 	}
+}
+
+// RatingAreaMM2 is the name Rating gives a wire's conductor area, which
+// a part records as its gauge.
+const RatingAreaMM2 = "area_mm2"
+
+// Rating returns the numeric rating of e named by its JSON name
+// ("max_output_a", "rating_a"), or a wire's conductor area as
+// RatingAreaMM2, and whether the part gives it.
+func (e Electrical) Rating(name string) (float64, bool) {
+	if name == RatingAreaMM2 {
+		g, err := electric.ParseGauge(e.Gauge)
+		return g.AreaMM2, err == nil
+	}
+	v := reflect.ValueOf(e)
+	for _, f := range FieldsOf(v.Type()) {
+		if f.Name != name || (f.Kind != "number" && f.Kind != "integer") {
+			continue
+		}
+		fv := v.FieldByIndex(f.Index)
+		if !isSet(fv) {
+			return 0, false
+		}
+		return number(fv), true
+	}
+	return 0, false
 }

@@ -297,3 +297,30 @@ func TestNamesAreVisibleText(t *testing.T) {
 		t.Errorf("a blank name: problems at %v", got)
 	}
 }
+
+func TestElectricalRating(t *testing.T) {
+	e := Electrical{Ratings: Ratings{MaxOutputA: ptr(3.0), Series: ptr(4)}, RatingA: ptr(15.0), Gauge: "14AWG"}
+	for _, tc := range []struct {
+		name string
+		want float64
+		ok   bool
+	}{
+		{"max_output_a", 3, true},
+		{"rating_a", 15, true},
+		{"series", 4, true},
+		{"rating_v", 0, false},  // not given
+		{"gauge", 0, false},     // not a number
+		{"no_such", 0, false},   // not a field
+		{"chemistry", 0, false}, // a string
+		// 14AWG: d = 0.127 mm × 92^((36−14)/39) = 1.628 mm, area 2.081 mm² (ASTM B258).
+		{RatingAreaMM2, 2.081, true},
+	} {
+		got, ok := e.Rating(tc.name)
+		if ok != tc.ok || math.Abs(got-tc.want) > 0.001 {
+			t.Errorf("Rating(%q) = %v, %v; want %v, %v", tc.name, got, ok, tc.want, tc.ok)
+		}
+	}
+	if _, ok := (Electrical{}).Rating(RatingAreaMM2); ok {
+		t.Error("a part without a gauge gives an area")
+	}
+}

@@ -196,6 +196,60 @@ func (e ProblemQuota) Valid() bool {
 	}
 }
 
+// Defines values for RemedyPartTopology.
+const (
+	Boost     RemedyPartTopology = "boost"
+	Buck      RemedyPartTopology = "buck"
+	BuckBoost RemedyPartTopology = "buck_boost"
+	Linear    RemedyPartTopology = "linear"
+)
+
+// Valid indicates whether the value is a known member of the RemedyPartTopology enum.
+func (e RemedyPartTopology) Valid() bool {
+	switch e {
+	case Boost:
+		return true
+	case Buck:
+		return true
+	case BuckBoost:
+		return true
+	case Linear:
+		return true
+	default:
+		return false
+	}
+}
+
+// Defines values for RemedyPatchOp.
+const (
+	Add     RemedyPatchOp = "add"
+	Copy    RemedyPatchOp = "copy"
+	Move    RemedyPatchOp = "move"
+	Remove  RemedyPatchOp = "remove"
+	Replace RemedyPatchOp = "replace"
+	Test    RemedyPatchOp = "test"
+)
+
+// Valid indicates whether the value is a known member of the RemedyPatchOp enum.
+func (e RemedyPatchOp) Valid() bool {
+	switch e {
+	case Add:
+		return true
+	case Copy:
+		return true
+	case Move:
+		return true
+	case Remove:
+		return true
+	case Replace:
+		return true
+	case Test:
+		return true
+	default:
+		return false
+	}
+}
+
 // Defines values for ReportChecksCheck.
 const (
 	BatteryProtection ReportChecksCheck = "battery.protection"
@@ -366,16 +420,34 @@ func (e GetReadyz200JSONResponseBodyStatus) Valid() bool {
 
 // Defines values for GetShelfParamsWall.
 const (
-	N0 GetShelfParamsWall = 0
-	N1 GetShelfParamsWall = 1
+	GetShelfParamsWallN0 GetShelfParamsWall = 0
+	GetShelfParamsWallN1 GetShelfParamsWall = 1
 )
 
 // Valid indicates whether the value is a known member of the GetShelfParamsWall enum.
 func (e GetShelfParamsWall) Valid() bool {
 	switch e {
-	case N0:
+	case GetShelfParamsWallN0:
 		return true
-	case N1:
+	case GetShelfParamsWallN1:
+		return true
+	default:
+		return false
+	}
+}
+
+// Defines values for PostV1ReviewsParamsPropose.
+const (
+	PostV1ReviewsParamsProposeN0 PostV1ReviewsParamsPropose = 0
+	PostV1ReviewsParamsProposeN1 PostV1ReviewsParamsPropose = 1
+)
+
+// Valid indicates whether the value is a known member of the PostV1ReviewsParamsPropose enum.
+func (e PostV1ReviewsParamsPropose) Valid() bool {
+	switch e {
+	case PostV1ReviewsParamsProposeN0:
+		return true
+	case PostV1ReviewsParamsProposeN1:
 		return true
 	default:
 		return false
@@ -384,21 +456,24 @@ func (e GetShelfParamsWall) Valid() bool {
 
 // Component defines model for Component.
 type Component struct {
-	Bin             *string             `json:"bin,omitempty"`
-	CellCapacityMah *float64            `json:"cell_capacity_mah,omitempty"`
-	Chemistry       *string             `json:"chemistry,omitempty"`
-	ClampV          *float64            `json:"clamp_v,omitempty"`
-	Condition       *ComponentCondition `json:"condition,omitempty"`
-	ContinuousA     *float64            `json:"continuous_a,omitempty"`
-	CreatedAt       time.Time           `json:"created_at"`
-	CurrentA        *float64            `json:"current_a,omitempty"`
-	CurrentLimitA   *float64            `json:"current_limit_a,omitempty"`
-	Description     *string             `json:"description,omitempty"`
-	DropoutV        *float64            `json:"dropout_v,omitempty"`
-	Efficiency      *float64            `json:"efficiency,omitempty"`
-	Gauge           *string             `json:"gauge,omitempty"`
-	Id              int                 `json:"id"`
-	Kind            ComponentKind       `json:"kind"`
+	Bin *string `json:"bin,omitempty"`
+
+	// BreakingCapacityA A fuse's breaking capacity at its DC voltage rating.
+	BreakingCapacityA *float64            `json:"breaking_capacity_a,omitempty"`
+	CellCapacityMah   *float64            `json:"cell_capacity_mah,omitempty"`
+	Chemistry         *string             `json:"chemistry,omitempty"`
+	ClampV            *float64            `json:"clamp_v,omitempty"`
+	Condition         *ComponentCondition `json:"condition,omitempty"`
+	ContinuousA       *float64            `json:"continuous_a,omitempty"`
+	CreatedAt         time.Time           `json:"created_at"`
+	CurrentA          *float64            `json:"current_a,omitempty"`
+	CurrentLimitA     *float64            `json:"current_limit_a,omitempty"`
+	Description       *string             `json:"description,omitempty"`
+	DropoutV          *float64            `json:"dropout_v,omitempty"`
+	Efficiency        *float64            `json:"efficiency,omitempty"`
+	Gauge             *string             `json:"gauge,omitempty"`
+	Id                int                 `json:"id"`
+	Kind              ComponentKind       `json:"kind"`
 
 	// MainsOrigin Came out of a mains-powered appliance.
 	MainsOrigin   *bool    `json:"mains_origin,omitempty"`
@@ -417,20 +492,22 @@ type Component struct {
 	Notes *string `json:"notes,omitempty"`
 
 	// Origin What it was salvaged from, or bought.
-	Origin                 *string              `json:"origin,omitempty"`
-	OutputV                *float64             `json:"output_v,omitempty"`
-	Owner                  string               `json:"owner"`
-	Parallel               *int                 `json:"parallel,omitempty"`
-	PeakA                  *float64             `json:"peak_a,omitempty"`
-	PolarityFree           *bool                `json:"polarity_free,omitempty"`
-	ProtectionCellOverV    *float64             `json:"protection_cell_over_v,omitempty"`
-	ProtectionCellUnderV   *float64             `json:"protection_cell_under_v,omitempty"`
-	ProtectionPerString    *bool                `json:"protection_per_string,omitempty"`
-	ProtectionTripA        *float64             `json:"protection_trip_a,omitempty"`
-	Quantity               *int                 `json:"quantity,omitempty"`
-	QuiescentA             *float64             `json:"quiescent_a,omitempty"`
-	RatedV                 *float64             `json:"rated_v,omitempty"`
-	RatingA                *float64             `json:"rating_a,omitempty"`
+	Origin               *string  `json:"origin,omitempty"`
+	OutputV              *float64 `json:"output_v,omitempty"`
+	Owner                string   `json:"owner"`
+	Parallel             *int     `json:"parallel,omitempty"`
+	PeakA                *float64 `json:"peak_a,omitempty"`
+	PolarityFree         *bool    `json:"polarity_free,omitempty"`
+	ProtectionCellOverV  *float64 `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV *float64 `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString  *bool    `json:"protection_per_string,omitempty"`
+	ProtectionTripA      *float64 `json:"protection_trip_a,omitempty"`
+	Quantity             *int     `json:"quantity,omitempty"`
+	QuiescentA           *float64 `json:"quiescent_a,omitempty"`
+	RatedV               *float64 `json:"rated_v,omitempty"`
+	RatingA              *float64 `json:"rating_a,omitempty"`
+
+	// RatingV A connector's voltage rating, or a fuse's DC voltage rating.
 	RatingV                *float64             `json:"rating_v,omitempty"`
 	ReverseProtectionDropV *float64             `json:"reverse_protection_drop_v,omitempty"`
 	RunningA               *float64             `json:"running_a,omitempty"`
@@ -453,19 +530,22 @@ type ComponentSpecSource string
 
 // ComponentInput defines model for ComponentInput.
 type ComponentInput struct {
-	Bin             *string                  `json:"bin,omitempty"`
-	CellCapacityMah *float64                 `json:"cell_capacity_mah,omitempty"`
-	Chemistry       *string                  `json:"chemistry,omitempty"`
-	ClampV          *float64                 `json:"clamp_v,omitempty"`
-	Condition       *ComponentInputCondition `json:"condition,omitempty"`
-	ContinuousA     *float64                 `json:"continuous_a,omitempty"`
-	CurrentA        *float64                 `json:"current_a,omitempty"`
-	CurrentLimitA   *float64                 `json:"current_limit_a,omitempty"`
-	Description     *string                  `json:"description,omitempty"`
-	DropoutV        *float64                 `json:"dropout_v,omitempty"`
-	Efficiency      *float64                 `json:"efficiency,omitempty"`
-	Gauge           *string                  `json:"gauge,omitempty"`
-	Kind            ComponentKind            `json:"kind"`
+	Bin *string `json:"bin,omitempty"`
+
+	// BreakingCapacityA A fuse's breaking capacity at its DC voltage rating.
+	BreakingCapacityA *float64                 `json:"breaking_capacity_a,omitempty"`
+	CellCapacityMah   *float64                 `json:"cell_capacity_mah,omitempty"`
+	Chemistry         *string                  `json:"chemistry,omitempty"`
+	ClampV            *float64                 `json:"clamp_v,omitempty"`
+	Condition         *ComponentInputCondition `json:"condition,omitempty"`
+	ContinuousA       *float64                 `json:"continuous_a,omitempty"`
+	CurrentA          *float64                 `json:"current_a,omitempty"`
+	CurrentLimitA     *float64                 `json:"current_limit_a,omitempty"`
+	Description       *string                  `json:"description,omitempty"`
+	DropoutV          *float64                 `json:"dropout_v,omitempty"`
+	Efficiency        *float64                 `json:"efficiency,omitempty"`
+	Gauge             *string                  `json:"gauge,omitempty"`
+	Kind              ComponentKind            `json:"kind"`
 
 	// MainsOrigin Came out of a mains-powered appliance.
 	MainsOrigin   *bool    `json:"mains_origin,omitempty"`
@@ -484,19 +564,21 @@ type ComponentInput struct {
 	Notes *string `json:"notes,omitempty"`
 
 	// Origin What it was salvaged from, or bought.
-	Origin                 *string                   `json:"origin,omitempty"`
-	OutputV                *float64                  `json:"output_v,omitempty"`
-	Parallel               *int                      `json:"parallel,omitempty"`
-	PeakA                  *float64                  `json:"peak_a,omitempty"`
-	PolarityFree           *bool                     `json:"polarity_free,omitempty"`
-	ProtectionCellOverV    *float64                  `json:"protection_cell_over_v,omitempty"`
-	ProtectionCellUnderV   *float64                  `json:"protection_cell_under_v,omitempty"`
-	ProtectionPerString    *bool                     `json:"protection_per_string,omitempty"`
-	ProtectionTripA        *float64                  `json:"protection_trip_a,omitempty"`
-	Quantity               *int                      `json:"quantity,omitempty"`
-	QuiescentA             *float64                  `json:"quiescent_a,omitempty"`
-	RatedV                 *float64                  `json:"rated_v,omitempty"`
-	RatingA                *float64                  `json:"rating_a,omitempty"`
+	Origin               *string  `json:"origin,omitempty"`
+	OutputV              *float64 `json:"output_v,omitempty"`
+	Parallel             *int     `json:"parallel,omitempty"`
+	PeakA                *float64 `json:"peak_a,omitempty"`
+	PolarityFree         *bool    `json:"polarity_free,omitempty"`
+	ProtectionCellOverV  *float64 `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV *float64 `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString  *bool    `json:"protection_per_string,omitempty"`
+	ProtectionTripA      *float64 `json:"protection_trip_a,omitempty"`
+	Quantity             *int     `json:"quantity,omitempty"`
+	QuiescentA           *float64 `json:"quiescent_a,omitempty"`
+	RatedV               *float64 `json:"rated_v,omitempty"`
+	RatingA              *float64 `json:"rating_a,omitempty"`
+
+	// RatingV A connector's voltage rating, or a fuse's DC voltage rating.
 	RatingV                *float64                  `json:"rating_v,omitempty"`
 	ReverseProtectionDropV *float64                  `json:"reverse_protection_drop_v,omitempty"`
 	RunningA               *float64                  `json:"running_a,omitempty"`
@@ -556,35 +638,39 @@ type DesignSummary struct {
 
 // Electrical Ratings in SI units; every field is optional.
 type Electrical struct {
-	CellCapacityMah        *float64 `json:"cell_capacity_mah,omitempty"`
-	Chemistry              *string  `json:"chemistry,omitempty"`
-	ClampV                 *float64 `json:"clamp_v,omitempty"`
-	ContinuousA            *float64 `json:"continuous_a,omitempty"`
-	CurrentA               *float64 `json:"current_a,omitempty"`
-	CurrentLimitA          *float64 `json:"current_limit_a,omitempty"`
-	DropoutV               *float64 `json:"dropout_v,omitempty"`
-	Efficiency             *float64 `json:"efficiency,omitempty"`
-	Gauge                  *string  `json:"gauge,omitempty"`
-	MaxDischargeA          *float64 `json:"max_discharge_a,omitempty"`
-	MaxInputV              *float64 `json:"max_input_v,omitempty"`
-	MaxOutputA             *float64 `json:"max_output_a,omitempty"`
-	MaxV                   *float64 `json:"max_v,omitempty"`
-	MinInputV              *float64 `json:"min_input_v,omitempty"`
-	MinV                   *float64 `json:"min_v,omitempty"`
-	NoLoadA                *float64 `json:"no_load_a,omitempty"`
-	NoLoadRpm              *float64 `json:"no_load_rpm,omitempty"`
-	NominalV               *float64 `json:"nominal_v,omitempty"`
-	OutputV                *float64 `json:"output_v,omitempty"`
-	Parallel               *int     `json:"parallel,omitempty"`
-	PeakA                  *float64 `json:"peak_a,omitempty"`
-	PolarityFree           *bool    `json:"polarity_free,omitempty"`
-	ProtectionCellOverV    *float64 `json:"protection_cell_over_v,omitempty"`
-	ProtectionCellUnderV   *float64 `json:"protection_cell_under_v,omitempty"`
-	ProtectionPerString    *bool    `json:"protection_per_string,omitempty"`
-	ProtectionTripA        *float64 `json:"protection_trip_a,omitempty"`
-	QuiescentA             *float64 `json:"quiescent_a,omitempty"`
-	RatedV                 *float64 `json:"rated_v,omitempty"`
-	RatingA                *float64 `json:"rating_a,omitempty"`
+	// BreakingCapacityA A fuse's breaking capacity at its DC voltage rating.
+	BreakingCapacityA    *float64 `json:"breaking_capacity_a,omitempty"`
+	CellCapacityMah      *float64 `json:"cell_capacity_mah,omitempty"`
+	Chemistry            *string  `json:"chemistry,omitempty"`
+	ClampV               *float64 `json:"clamp_v,omitempty"`
+	ContinuousA          *float64 `json:"continuous_a,omitempty"`
+	CurrentA             *float64 `json:"current_a,omitempty"`
+	CurrentLimitA        *float64 `json:"current_limit_a,omitempty"`
+	DropoutV             *float64 `json:"dropout_v,omitempty"`
+	Efficiency           *float64 `json:"efficiency,omitempty"`
+	Gauge                *string  `json:"gauge,omitempty"`
+	MaxDischargeA        *float64 `json:"max_discharge_a,omitempty"`
+	MaxInputV            *float64 `json:"max_input_v,omitempty"`
+	MaxOutputA           *float64 `json:"max_output_a,omitempty"`
+	MaxV                 *float64 `json:"max_v,omitempty"`
+	MinInputV            *float64 `json:"min_input_v,omitempty"`
+	MinV                 *float64 `json:"min_v,omitempty"`
+	NoLoadA              *float64 `json:"no_load_a,omitempty"`
+	NoLoadRpm            *float64 `json:"no_load_rpm,omitempty"`
+	NominalV             *float64 `json:"nominal_v,omitempty"`
+	OutputV              *float64 `json:"output_v,omitempty"`
+	Parallel             *int     `json:"parallel,omitempty"`
+	PeakA                *float64 `json:"peak_a,omitempty"`
+	PolarityFree         *bool    `json:"polarity_free,omitempty"`
+	ProtectionCellOverV  *float64 `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV *float64 `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString  *bool    `json:"protection_per_string,omitempty"`
+	ProtectionTripA      *float64 `json:"protection_trip_a,omitempty"`
+	QuiescentA           *float64 `json:"quiescent_a,omitempty"`
+	RatedV               *float64 `json:"rated_v,omitempty"`
+	RatingA              *float64 `json:"rating_a,omitempty"`
+
+	// RatingV A connector's voltage rating, or a fuse's DC voltage rating.
 	RatingV                *float64 `json:"rating_v,omitempty"`
 	ReverseProtectionDropV *float64 `json:"reverse_protection_drop_v,omitempty"`
 	RunningA               *float64 `json:"running_a,omitempty"`
@@ -789,6 +875,60 @@ type Problem struct {
 // ProblemQuota The per-member quota a quota-rate (429) or quota-total (403) problem is about.
 type ProblemQuota string
 
+// Proposal A review with remedies: the report, each warn and fail finding with its remedies or why it has none, and the design with the lightest remedy of each finding applied, reviewed again. A design that is out of scope comes back without a proposed design.
+type Proposal struct {
+	// Proposed A design document, format 1: a tree of power with sources (battery,
+	// supply) at the roots and every other node fed from one parent through
+	// a feed. Units are in the field names. Its JSON Schema (draft 2020-12),
+	// made from the same declaration the service validates with, is served
+	// at /v1/schemas/design.json; the README's "The design format" section
+	// describes every field with its unit, range and default.
+	Proposed       *DesignDocument `json:"proposed,omitempty"`
+	ProposedStatus *Status         `json:"proposed_status,omitempty"`
+
+	// Report The outcome of a review, report format 2.
+	Report Report `json:"report"`
+}
+
+// Remedy One change to the design that clears a finding.
+type Remedy struct {
+	// Change What to change, with its numbers.
+	Change string `json:"change"`
+
+	// Part What a part the change calls for must be: its kind, and the least or most of some of its ratings by their field names (a wire's conductor area as area_mm2).
+	Part *struct {
+		AtLeast  *map[string]float64 `json:"at_least,omitempty"`
+		AtMost   *map[string]float64 `json:"at_most,omitempty"`
+		Kind     ComponentKind       `json:"kind"`
+		Topology *RemedyPartTopology `json:"topology,omitempty"`
+	} `json:"part,omitempty"`
+
+	// Patch The change as RFC 6902 (JSON Patch) operations on the design document.
+	Patch []struct {
+		Op RemedyPatchOp `json:"op"`
+
+		// Path A JSON pointer (RFC 6901) into the design document.
+		Path string `json:"path"`
+
+		// Value The value to add, replace or test; any JSON value.
+		Value interface{} `json:"value,omitempty"`
+	} `json:"patch"`
+
+	// Shelf The shelf's parts that are what part asks for, best fit first (the least oversized in current or wire area, then those known to work), at most five; only parts the shelf holds at least one of and that are not marked faulty.
+	Shelf *[]struct {
+		Bin      string `json:"bin"`
+		Id       int    `json:"id"`
+		Name     string `json:"name"`
+		Quantity int    `json:"quantity"`
+	} `json:"shelf,omitempty"`
+}
+
+// RemedyPartTopology defines model for Remedy.Part.Topology.
+type RemedyPartTopology string
+
+// RemedyPatchOp defines model for Remedy.Patch.Op.
+type RemedyPatchOp string
+
 // Report The outcome of a review, report format 2.
 type Report struct {
 	Cautions []string `json:"cautions"`
@@ -799,13 +939,19 @@ type Report struct {
 		Limit   *float64 `json:"limit"`
 		Message string   `json:"message"`
 
+		// NoRemedy Only in a proposal: why no single change clears this finding.
+		NoRemedy *string `json:"no_remedy,omitempty"`
+
 		// Node The node a feed supplies, the source checked, or empty for the design.
 		Node string `json:"node"`
 
 		// Pointer Where a connector is in the document; only connector checks have it.
 		Pointer *string `json:"pointer,omitempty"`
-		Status  Status  `json:"status"`
-		Unit    string  `json:"unit"`
+
+		// Remedies Only in a proposal: the changes that clear this warn or fail finding, lightest first, each proven by reviewing the design with it applied.
+		Remedies *[]Remedy `json:"remedies,omitempty"`
+		Status   Status    `json:"status"`
+		Unit     string    `json:"unit"`
 
 		// Value Null when the design did not give what it is worked out from.
 		Value *float64 `json:"value"`
@@ -912,55 +1058,60 @@ type ReportRuntimeBrownoutsOutcome string
 
 // ShelfItem defines model for ShelfItem.
 type ShelfItem struct {
-	Bin                    string        `json:"bin"`
-	CellCapacityMah        *float64      `json:"cell_capacity_mah,omitempty"`
-	Chemistry              *string       `json:"chemistry,omitempty"`
-	ClampV                 *float64      `json:"clamp_v,omitempty"`
-	Condition              string        `json:"condition"`
-	ContinuousA            *float64      `json:"continuous_a,omitempty"`
-	CurrentA               *float64      `json:"current_a,omitempty"`
-	CurrentLimitA          *float64      `json:"current_limit_a,omitempty"`
-	Description            *string       `json:"description,omitempty"`
-	DropoutV               *float64      `json:"dropout_v,omitempty"`
-	Efficiency             *float64      `json:"efficiency,omitempty"`
-	Gauge                  *string       `json:"gauge,omitempty"`
-	Id                     int           `json:"id"`
-	Kind                   ComponentKind `json:"kind"`
-	MainsOrigin            *bool         `json:"mains_origin,omitempty"`
-	MaxDischargeA          *float64      `json:"max_discharge_a,omitempty"`
-	MaxInputV              *float64      `json:"max_input_v,omitempty"`
-	MaxOutputA             *float64      `json:"max_output_a,omitempty"`
-	MaxV                   *float64      `json:"max_v,omitempty"`
-	MinInputV              *float64      `json:"min_input_v,omitempty"`
-	MinV                   *float64      `json:"min_v,omitempty"`
-	Name                   string        `json:"name"`
-	NoLoadA                *float64      `json:"no_load_a,omitempty"`
-	NoLoadRpm              *float64      `json:"no_load_rpm,omitempty"`
-	NominalV               *float64      `json:"nominal_v,omitempty"`
-	Origin                 *string       `json:"origin,omitempty"`
-	OutputV                *float64      `json:"output_v,omitempty"`
-	Parallel               *int          `json:"parallel,omitempty"`
-	PeakA                  *float64      `json:"peak_a,omitempty"`
-	PolarityFree           *bool         `json:"polarity_free,omitempty"`
-	ProtectionCellOverV    *float64      `json:"protection_cell_over_v,omitempty"`
-	ProtectionCellUnderV   *float64      `json:"protection_cell_under_v,omitempty"`
-	ProtectionPerString    *bool         `json:"protection_per_string,omitempty"`
-	ProtectionTripA        *float64      `json:"protection_trip_a,omitempty"`
-	Quantity               int           `json:"quantity"`
-	QuiescentA             *float64      `json:"quiescent_a,omitempty"`
-	RatedV                 *float64      `json:"rated_v,omitempty"`
-	RatingA                *float64      `json:"rating_a,omitempty"`
-	RatingV                *float64      `json:"rating_v,omitempty"`
-	ReverseProtectionDropV *float64      `json:"reverse_protection_drop_v,omitempty"`
-	RunningA               *float64      `json:"running_a,omitempty"`
-	Series                 *int          `json:"series,omitempty"`
-	SinksCurrent           *bool         `json:"sinks_current,omitempty"`
-	SpecSource             string        `json:"spec_source"`
-	StallA                 *float64      `json:"stall_a,omitempty"`
-	ThetaJaCPerW           *float64      `json:"theta_ja_c_per_w,omitempty"`
-	TjMaxC                 *float64      `json:"tj_max_c,omitempty"`
-	Topology               *string       `json:"topology,omitempty"`
-	UpdatedAt              time.Time     `json:"updated_at"`
+	Bin string `json:"bin"`
+
+	// BreakingCapacityA A fuse's breaking capacity at its DC voltage rating.
+	BreakingCapacityA    *float64      `json:"breaking_capacity_a,omitempty"`
+	CellCapacityMah      *float64      `json:"cell_capacity_mah,omitempty"`
+	Chemistry            *string       `json:"chemistry,omitempty"`
+	ClampV               *float64      `json:"clamp_v,omitempty"`
+	Condition            string        `json:"condition"`
+	ContinuousA          *float64      `json:"continuous_a,omitempty"`
+	CurrentA             *float64      `json:"current_a,omitempty"`
+	CurrentLimitA        *float64      `json:"current_limit_a,omitempty"`
+	Description          *string       `json:"description,omitempty"`
+	DropoutV             *float64      `json:"dropout_v,omitempty"`
+	Efficiency           *float64      `json:"efficiency,omitempty"`
+	Gauge                *string       `json:"gauge,omitempty"`
+	Id                   int           `json:"id"`
+	Kind                 ComponentKind `json:"kind"`
+	MainsOrigin          *bool         `json:"mains_origin,omitempty"`
+	MaxDischargeA        *float64      `json:"max_discharge_a,omitempty"`
+	MaxInputV            *float64      `json:"max_input_v,omitempty"`
+	MaxOutputA           *float64      `json:"max_output_a,omitempty"`
+	MaxV                 *float64      `json:"max_v,omitempty"`
+	MinInputV            *float64      `json:"min_input_v,omitempty"`
+	MinV                 *float64      `json:"min_v,omitempty"`
+	Name                 string        `json:"name"`
+	NoLoadA              *float64      `json:"no_load_a,omitempty"`
+	NoLoadRpm            *float64      `json:"no_load_rpm,omitempty"`
+	NominalV             *float64      `json:"nominal_v,omitempty"`
+	Origin               *string       `json:"origin,omitempty"`
+	OutputV              *float64      `json:"output_v,omitempty"`
+	Parallel             *int          `json:"parallel,omitempty"`
+	PeakA                *float64      `json:"peak_a,omitempty"`
+	PolarityFree         *bool         `json:"polarity_free,omitempty"`
+	ProtectionCellOverV  *float64      `json:"protection_cell_over_v,omitempty"`
+	ProtectionCellUnderV *float64      `json:"protection_cell_under_v,omitempty"`
+	ProtectionPerString  *bool         `json:"protection_per_string,omitempty"`
+	ProtectionTripA      *float64      `json:"protection_trip_a,omitempty"`
+	Quantity             int           `json:"quantity"`
+	QuiescentA           *float64      `json:"quiescent_a,omitempty"`
+	RatedV               *float64      `json:"rated_v,omitempty"`
+	RatingA              *float64      `json:"rating_a,omitempty"`
+
+	// RatingV A connector's voltage rating, or a fuse's DC voltage rating.
+	RatingV                *float64  `json:"rating_v,omitempty"`
+	ReverseProtectionDropV *float64  `json:"reverse_protection_drop_v,omitempty"`
+	RunningA               *float64  `json:"running_a,omitempty"`
+	Series                 *int      `json:"series,omitempty"`
+	SinksCurrent           *bool     `json:"sinks_current,omitempty"`
+	SpecSource             string    `json:"spec_source"`
+	StallA                 *float64  `json:"stall_a,omitempty"`
+	ThetaJaCPerW           *float64  `json:"theta_ja_c_per_w,omitempty"`
+	TjMaxC                 *float64  `json:"tj_max_c,omitempty"`
+	Topology               *string   `json:"topology,omitempty"`
+	UpdatedAt              time.Time `json:"updated_at"`
 }
 
 // Sourced defines model for Sourced.
@@ -982,6 +1133,12 @@ type StoredReview struct {
 	DocumentSha256 string    `json:"document_sha256"`
 	Id             int       `json:"id"`
 	LimitsVersion  int       `json:"limits_version"`
+
+	// Proposed Only in the answer to the review's POST, not stored: the design with the lightest remedy of each finding applied. The stored report carries every remedy.
+	Proposed *DesignDocument `json:"proposed,omitempty"`
+
+	// ProposedStatus Only in the answer to the review's POST, not stored; the proposed design's status.
+	ProposedStatus *Status `json:"proposed_status,omitempty"`
 
 	// Report The outcome of a review, report format 2.
 	Report Report `json:"report"`
@@ -1177,6 +1334,20 @@ type PutV1LimitsParams struct {
 type PostV1ReviewsParams struct {
 	// LimitsVersion Review against this stored limits version instead of the current one.
 	LimitsVersion *ReviewAgainstLimitsVersion `form:"limits_version,omitempty" json:"limits_version,omitempty"`
+
+	// Propose 1 asks for a proposal: the report with a remedy under each warn and
+	// fail finding that has one (the shelf parts that would do it listed
+	// under it), and the design with the lightest remedy of each applied,
+	// reviewed again. 0 or left out: the report alone.
+	Propose *PostV1ReviewsParamsPropose `form:"propose,omitempty" json:"propose,omitempty"`
+}
+
+// PostV1ReviewsParamsPropose defines parameters for PostV1Reviews.
+type PostV1ReviewsParamsPropose int
+
+// PostV1Reviews200JSONResponseBody defines parameters for PostV1Reviews.
+type PostV1Reviews200JSONResponseBody struct {
+	union json.RawMessage
 }
 
 // GetV1ShelfParams defines parameters for GetV1Shelf.
@@ -1226,6 +1397,68 @@ type PutV1LimitsJSONRequestBody PutV1LimitsJSONBody
 
 // PostV1ReviewsJSONRequestBody defines body for PostV1Reviews for application/json ContentType.
 type PostV1ReviewsJSONRequestBody = DesignDocument
+
+// AsReport returns the union data inside the PostV1Reviews200JSONResponseBody as a Report
+func (t PostV1Reviews200JSONResponseBody) AsReport() (Report, error) {
+	var body Report
+	err := json.Unmarshal(t.union, &body)
+	return body, err
+}
+
+// FromReport overwrites any union data inside the PostV1Reviews200JSONResponseBody as the provided Report
+func (t *PostV1Reviews200JSONResponseBody) FromReport(v Report) error {
+	b, err := json.Marshal(v)
+	t.union = b
+	return err
+}
+
+// MergeReport performs a merge with any union data inside the PostV1Reviews200JSONResponseBody, using the provided Report
+func (t *PostV1Reviews200JSONResponseBody) MergeReport(v Report) error {
+	b, err := json.Marshal(v)
+	if err != nil {
+		return err
+	}
+
+	merged, err := runtime.JSONMerge(t.union, b)
+	t.union = merged
+	return err
+}
+
+// AsProposal returns the union data inside the PostV1Reviews200JSONResponseBody as a Proposal
+func (t PostV1Reviews200JSONResponseBody) AsProposal() (Proposal, error) {
+	var body Proposal
+	err := json.Unmarshal(t.union, &body)
+	return body, err
+}
+
+// FromProposal overwrites any union data inside the PostV1Reviews200JSONResponseBody as the provided Proposal
+func (t *PostV1Reviews200JSONResponseBody) FromProposal(v Proposal) error {
+	b, err := json.Marshal(v)
+	t.union = b
+	return err
+}
+
+// MergeProposal performs a merge with any union data inside the PostV1Reviews200JSONResponseBody, using the provided Proposal
+func (t *PostV1Reviews200JSONResponseBody) MergeProposal(v Proposal) error {
+	b, err := json.Marshal(v)
+	if err != nil {
+		return err
+	}
+
+	merged, err := runtime.JSONMerge(t.union, b)
+	t.union = merged
+	return err
+}
+
+func (t PostV1Reviews200JSONResponseBody) MarshalJSON() ([]byte, error) {
+	b, err := t.union.MarshalJSON()
+	return b, err
+}
+
+func (t *PostV1Reviews200JSONResponseBody) UnmarshalJSON(b []byte) error {
+	err := t.union.UnmarshalJSON(b)
+	return err
+}
 
 // RequestEditorFn is the function signature for the RequestEditor callback function
 type RequestEditorFn func(ctx context.Context, req *http.Request) error
@@ -1569,9 +1802,12 @@ type ClientInterface interface {
 
 	// PostV1DesignsIdReviews Review a stored design and keep the report (its owner or staff)
 	//
-	// The review is stored with its report, status, the limits version used
-	// and the SHA-256 of the document reviewed, and gets a random share id:
-	// `/reports/{share_id}` shows it to anyone holding the id, without a login.
+	// The review is stored with its report (which always carries remedies,
+	// as a proposal's does: see POST /v1/reviews?propose=1), status, the
+	// limits version used and the SHA-256 of the document reviewed, and gets
+	// a random share id: `/reports/{share_id}` shows it to anyone holding the
+	// id, without a login. The answer adds the proposed design, which is not
+	// stored.
 	// A design edited while it is being reviewed is answered 409; sending the
 	// request again reviews the new document. A member past the hourly quota
 	// of stored reviews is answered 429 with Retry-After, past the stored
@@ -2299,9 +2535,12 @@ func (c *Client) GetV1DesignsIdReviews(ctx context.Context, id ID, params *GetV1
 
 // PostV1DesignsIdReviews Review a stored design and keep the report (its owner or staff)
 //
-// The review is stored with its report, status, the limits version used
-// and the SHA-256 of the document reviewed, and gets a random share id:
-// `/reports/{share_id}` shows it to anyone holding the id, without a login.
+// The review is stored with its report (which always carries remedies,
+// as a proposal's does: see POST /v1/reviews?propose=1), status, the
+// limits version used and the SHA-256 of the document reviewed, and gets
+// a random share id: `/reports/{share_id}` shows it to anyone holding the
+// id, without a login. The answer adds the proposed design, which is not
+// stored.
 // A design edited while it is being reviewed is answered 409; sending the
 // request again reviews the new document. A member past the hourly quota
 // of stored reviews is answered 429 with Retry-After, past the stored
@@ -4179,6 +4418,18 @@ func NewPostV1ReviewsRequestWithBody(server string, params *PostV1ReviewsParams,
 
 		}
 
+		if params.Propose != nil {
+
+			if queryFrag, err := runtime.StyleParamWithOptions("form", true, "propose", *params.Propose, runtime.StyleParamOptions{ParamLocation: runtime.ParamLocationQuery, Type: "integer", Format: ""}); err != nil {
+				return nil, err
+			} else {
+				for _, qp := range strings.Split(queryFrag, "&") {
+					rawQueryFragments = append(rawQueryFragments, qp)
+				}
+			}
+
+		}
+
 		if encoded := queryValues.Encode(); encoded != "" {
 			rawQueryFragments = append(rawQueryFragments, encoded)
 		}
@@ -4695,9 +4946,12 @@ type ClientWithResponsesInterface interface {
 
 	// PostV1DesignsIdReviewsWithResponse Review a stored design and keep the report (its owner or staff)
 	//
-	// The review is stored with its report, status, the limits version used
-	// and the SHA-256 of the document reviewed, and gets a random share id:
-	// `/reports/{share_id}` shows it to anyone holding the id, without a login.
+	// The review is stored with its report (which always carries remedies,
+	// as a proposal's does: see POST /v1/reviews?propose=1), status, the
+	// limits version used and the SHA-256 of the document reviewed, and gets
+	// a random share id: `/reports/{share_id}` shows it to anyone holding the
+	// id, without a login. The answer adds the proposed design, which is not
+	// stored.
 	// A design edited while it is being reviewed is answered 409; sending the
 	// request again reviews the new document. A member past the hourly quota
 	// of stored reviews is answered 429 with Retry-After, past the stored
@@ -6874,7 +7128,7 @@ type PostV1ReviewsResponse struct {
 	Body         []byte
 	HTTPResponse *http.Response
 	// JSON200 the response for an HTTP 200 `application/json` response
-	JSON200 *Report
+	JSON200 *PostV1Reviews200JSONResponseBody
 	// ApplicationproblemJSON400 the response for an HTTP 400 `application/problem+json` response
 	ApplicationproblemJSON400 *Problem
 	// ApplicationproblemJSON401 the response for an HTTP 401 `application/problem+json` response
@@ -6890,7 +7144,7 @@ type PostV1ReviewsResponse struct {
 }
 
 // GetJSON200 returns the response for an HTTP 200 `application/json` response
-func (r PostV1ReviewsResponse) GetJSON200() *Report {
+func (r PostV1ReviewsResponse) GetJSON200() *PostV1Reviews200JSONResponseBody {
 	return r.JSON200
 }
 
@@ -7594,9 +7848,12 @@ func (c *ClientWithResponses) GetV1DesignsIdReviewsWithResponse(ctx context.Cont
 
 // PostV1DesignsIdReviewsWithResponse Review a stored design and keep the report (its owner or staff)
 //
-// The review is stored with its report, status, the limits version used
-// and the SHA-256 of the document reviewed, and gets a random share id:
-// `/reports/{share_id}` shows it to anyone holding the id, without a login.
+// The review is stored with its report (which always carries remedies,
+// as a proposal's does: see POST /v1/reviews?propose=1), status, the
+// limits version used and the SHA-256 of the document reviewed, and gets
+// a random share id: `/reports/{share_id}` shows it to anyone holding the
+// id, without a login. The answer adds the proposed design, which is not
+// stored.
 // A design edited while it is being reviewed is answered 409; sending the
 // request again reviews the new document. A member past the hourly quota
 // of stored reviews is answered 429 with Retry-After, past the stored
@@ -9436,7 +9693,7 @@ func ParsePostV1ReviewsResponse(rsp *http.Response) (*PostV1ReviewsResponse, err
 
 	switch {
 	case strings.Contains(rsp.Header.Get("Content-Type"), "json") && rsp.StatusCode == 200:
-		var dest Report
+		var dest PostV1Reviews200JSONResponseBody
 		if err := json.Unmarshal(bodyBytes, &dest); err != nil {
 			return nil, err
 		}

@@ -11,6 +11,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"text/template"
 	"time"
 
 	"wattshelf"
@@ -267,5 +268,108 @@ func TestFormat1ReportStillRenders(t *testing.T) {
 	}
 	if got := strings.Count(html, "<tr data-status="); got != rep.Counts.Pass+rep.Counts.Warn+rep.Counts.Fail {
 		t.Errorf("%d findings drawn, the report counts %d", got, rep.Counts.Pass+rep.Counts.Warn+rep.Counts.Fail)
+	}
+}
+
+// Under a finding the page says what would fix it, with the shelf parts
+// that would do it and their bins, or that nothing on the shelf fits, or
+// why no single change clears it.
+func TestReportShowsRemediesWithShelfParts(t *testing.T) {
+	in := demoReport(t, demoDesignNames(t)[0])
+	var findings []int
+	for i, c := range in.Report.Checks {
+		if c.Status != review.Pass {
+			findings = append(findings, i)
+		}
+	}
+	if len(findings) < 2 {
+		// The remedies are hand-built here, so any two checks will do.
+		findings = []int{0, 1}
+		in.Report.Checks[0].Status, in.Report.Checks[1].Status = review.Warn, review.Fail
+	}
+	// A feed running 3.2 A needs a fuse of at least 1.25 × 3.2 A = 4 A
+	// (continuous-load factor, common practice): the demo shelf's 5 A
+	// blade fuses fit, its 1 A glass fuses do not.
+	fuse := &review.PartNeed{Kind: "fuse", AtLeast: map[string]float64{"rating_a": 4}}
+	thick := &review.PartNeed{Kind: "wire", AtLeast: map[string]float64{domain.RatingAreaMM2: 2}}
+	first, second := &in.Report.Checks[findings[0]], &in.Report.Checks[findings[1]]
+	first.Remedies = []review.Remedy{
+		{Change: "fit a 5 A blade fuse within 0.1 m of the pack", Part: fuse},
+		{Change: "use 14AWG wire for the feed", Part: thick},
+	}
+	second.NoRemedy = "the pack cannot give this load its voltage at any cell count"
+	in.Report.FillShelf(demoShelf(t))
+	html := renderReportHTML(t, mustViews(t), in)
+
+	row := findingRow(t, html, *first)
+	for _, want := range []string{
+		"Would fix it:</strong> fit a 5 A blade fuse within 0.1 m of the pack",
+		"On the shelf: Mini blade fuses 5 A (part 23, bin F1 fuses, 20 on hand).",
+		"Would fix it:</strong> use 14AWG wire for the feed <span class=\"shelf-parts\">Nothing on the shelf fits it now.",
+	} {
+		if !strings.Contains(row, want) {
+			t.Errorf("the finding's row lacks %q:\n%s", want, row)
+		}
+	}
+	if strings.Contains(row, "Glass fuses") {
+		t.Error("a fuse too small for the need is offered")
+	}
+	if row := findingRow(t, html, *second); !strings.Contains(row, "No single change clears it:</strong> the pack cannot give") {
+		t.Errorf("the finding without a remedy does not say why:\n%s", row)
+	}
+}
+
+// findingRow is the table row of a finding on a report page.
+func findingRow(t *testing.T, html string, c review.Check) string {
+	t.Helper()
+	for _, row := range strings.Split(html, "<tr data-status=")[1:] {
+		row, _, _ = strings.Cut(row, "</tr>")
+		if strings.Contains(row, "<code>"+c.Check+"</code>") && strings.Contains(row, template.HTMLEscapeString(c.Message)) {
+			return row
+		}
+	}
+	t.Fatalf("no row for %s at %s", c.Check, c.Node)
+	return ""
+}
+
+// The fume fan's 5 V rail runs from a linear regulator: three Li-ion
+// cells give 3 × 4.2 V = 12.6 V full (from memory), so it sheds
+// (12.6 − 5) V × 0.16 A + 12.6 V × 0.005 A = 1.28 W, and its junction
+// reaches 25 °C + 1.28 W × 65 °C/W = 108 °C, within the 25 °C thermal
+// margin of its 125 °C limit (the limits' policy): a warning, which a
+// buck converter clears. The demo shelf's 3 A buck module (5 V out, up
+// to 28 V in) is such a part and the page names it with its bin; its
+// 7805, a linear regulator, is not offered.
+func TestReportShowsDemoShelfPartUnderAFinding(t *testing.T) {
+	in := demoReport(t, "testdata/demo/designs/fume-fan.json")
+	rules, err := review.Prepare(review.DefaultLimits(), 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := rules.Propose(*in.Design, in.Components)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Report.FillShelf(demoShelf(t))
+	in.Report = p.Report
+	html := renderReportHTML(t, mustViews(t), in)
+	var thermal review.Check
+	for _, c := range p.Report.Checks {
+		if c.Check == review.CheckRegulatorThermal && c.Node == "reg5" {
+			thermal = c
+		}
+	}
+	if thermal.Status != review.Warn {
+		t.Fatalf("regulator.thermal of reg5 is %q, want warn", thermal.Status)
+	}
+	row := findingRow(t, html, thermal)
+	for _, want := range []string{"Would fix it:</strong> Use a buck converter in place of reg5",
+		"Buck module 3 A adjustable (part 9, bin R1 regulators, 6 on hand)"} {
+		if !strings.Contains(row, want) {
+			t.Errorf("the row of reg5's regulator.thermal lacks %q:\n%s", want, row)
+		}
+	}
+	if strings.Contains(row, "7805") {
+		t.Error("a linear regulator is offered in place of a buck converter")
 	}
 }

@@ -21,7 +21,7 @@ import (
 // reportViewVersion goes into every report ETag beside the templates'
 // digest: bump it when a change to the Go side of the report page
 // changes what a stored review's page looks like.
-const reportViewVersion = 2
+const reportViewVersion = 3
 
 const noReportMessage = "No report is shared under this address. Check the link you were sent."
 
@@ -180,8 +180,9 @@ func (p *pages) tooMany(c echo.Context, wait int) error {
 	return c.HTMLBlob(http.StatusTooManyRequests, []byte(b.String()))
 }
 
-// reportInput gathers what the report page shows: the stored report and
-// the document it reviewed, whatever the design has become since. A
+// reportInput gathers what the report page shows: the stored report, its
+// remedies' shelf parts and the document it reviewed, whatever the design
+// has become since. A
 // design too large to draw is shown without its document, which then
 // is not decoded.
 func (p *pages) reportInput(ctx context.Context, rec store.SharedReview) (ReportInput, error) {
@@ -189,6 +190,12 @@ func (p *pages) reportInput(ctx context.Context, rec store.SharedReview) (Report
 	var err error
 	if in.Report, err = review.ReadStored(rec.Report); err != nil {
 		return in, fmt.Errorf("decode stored report of review %d: %w", rec.ID, err)
+	}
+	// The parts a remedy calls for are listed as the shelf holds them
+	// now (the page's tag follows the shelf's revision), not as it held
+	// them when the review was stored.
+	if err := p.deps.Source.FillShelf(ctx, &in.Report); err != nil {
+		return in, err
 	}
 	if rec.Document == "" || len(in.Report.Nodes) > maxDrawnNodes {
 		return in, nil

@@ -21,6 +21,7 @@ import (
 	"golang.org/x/sync/singleflight"
 
 	"wattshelf/domain"
+	"wattshelf/domain/review"
 	"wattshelf/domain/store"
 )
 
@@ -32,6 +33,7 @@ type Source interface {
 	ComponentsByID(ctx context.Context, ids []int64) (map[int64]domain.Component, error)
 	ReviewByShareID(ctx context.Context, shareID string) (store.SharedReview, error)
 	ReviewStampByShareID(ctx context.Context, shareID string) (store.ReviewStamp, error)
+	FillShelf(ctx context.Context, rep *review.Report) error
 }
 
 // Deps are the page handlers' dependencies.

@@ -94,7 +94,7 @@ func TestREADMEShellBlocksRunAsWritten(t *testing.T) {
 	if _, err := os.Stat(filepath.Join(home, ".local", "bin", "wattshelf")); err != nil {
 		t.Errorf("the README's install step left no wattshelf: %v", err)
 	}
-	wants := []string{`"points":2`, `"share_id"`, `"status":"warn"`}
+	wants := []string{`"points":2`, `"share_id"`, `"status":"warn"`, `"proposed_status":"`, "    fix: ", "proposed design written to "}
 	if slices.Contains(sections, "Limits") {
 		wants = append(wants, `staff change by alex on`)
 	}

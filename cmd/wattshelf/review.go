@@ -11,6 +11,7 @@ import (
 	"net/http"
 	"net/url"
 	"os"
+	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -39,16 +40,25 @@ const (
 	maxRetryWait = time.Minute
 )
 
-const reviewUsage = `usage: wattshelf review FILE... [--server URL] [--token T] [--json] [--fail-on warn|fail] [--limits-version N]
+const reviewUsage = `usage: wattshelf review FILE... [--server URL] [--token T] [--json] [--fail-on warn|fail] [--limits-version N] [--propose]
 
 Sends each design file (- for standard input) to the service's review and
 prints what it found; with --json, one line of JSON a file:
 {"file": F, "report": {...}} or {"file": F, "exit": N, "error": "..."}.
 A file that cannot be read or reviewed does not stop the others.
+
+--propose asks for remedies too: the summary prints what would fix each
+finding, with the shelf parts that would do it, and the service's proposed
+design (the lightest remedy of each finding applied) is written next to
+FILE as FILE's name with .proposed.json for .json (proposed.json in the
+current directory for standard input), replacing a file of that name.
+With --json the line adds "proposed_status" and "proposed_file". The
+exit status is still the original design's.
+
 Exit status, the highest any file earned:
   0  no design reaches the --fail-on level (default fail)
   1  a design reaches it
-  2  the service rejected a document, or a file could not be read
+  2  the service rejected a document, or a file could not be read or written
   3  the service could not be reached or could not answer (a wrong --server path included)
   4  a design is out of scope (mains, or a source above 50 V DC), whatever --fail-on says
 
@@ -63,6 +73,7 @@ type reviewOptions struct {
 	asJSON        bool
 	failOn        string
 	limitsVersion int
+	propose       bool
 	files         []string
 }
 
@@ -80,6 +91,7 @@ func parseReviewArgs(args []string, getenv func(string) string) (reviewOptions, 
 	fs.BoolVar(&opts.asJSON, "json", false, "print each report as JSON")
 	fs.StringVar(&opts.failOn, "fail-on", opts.failOn, "warn or fail")
 	fs.IntVar(&opts.limitsVersion, "limits-version", 0, "review against this limits version")
+	fs.BoolVar(&opts.propose, "propose", false, "ask for remedies and write the proposed design")
 	for {
 		if err := fs.Parse(args); err != nil {
 			return opts, err
@@ -148,31 +160,57 @@ type reviewReport struct {
 
 // reportCheck is one check of a reviewReport.
 type reportCheck struct {
-	Check   string   `json:"check"`
-	Node    string   `json:"node"`
-	Status  string   `json:"status"`
-	Value   *float64 `json:"value"`
-	Limit   *float64 `json:"limit"`
-	WarnAt  *float64 `json:"warn_at"`
-	Unit    string   `json:"unit"`
-	Message string   `json:"message"`
+	Check    string         `json:"check"`
+	Node     string         `json:"node"`
+	Status   string         `json:"status"`
+	Value    *float64       `json:"value"`
+	Limit    *float64       `json:"limit"`
+	WarnAt   *float64       `json:"warn_at"`
+	Unit     string         `json:"unit"`
+	Message  string         `json:"message"`
+	Remedies []reportRemedy `json:"remedies"`
+	NoRemedy string         `json:"no_remedy"`
+}
+
+// reportRemedy is one remedy of a reportCheck, with the shelf parts that
+// would do it.
+type reportRemedy struct {
+	Change string `json:"change"`
+	Part   *struct {
+		Kind string `json:"kind"`
+	} `json:"part"`
+	Shelf []struct {
+		ID       int64  `json:"id"`
+		Name     string `json:"name"`
+		Bin      string `json:"bin"`
+		Quantity int    `json:"quantity"`
+	} `json:"shelf"`
+}
+
+// reviewAnswer is what reviewing one file gave: the report as the service
+// sent it and, with --propose, the proposed design's status and where it
+// was written.
+type reviewAnswer struct {
+	Report         json.RawMessage `json:"report,omitempty"`
+	ProposedStatus string          `json:"proposed_status,omitempty"`
+	ProposedFile   string          `json:"proposed_file,omitempty"`
 }
 
 // reviewFile reviews one file and returns its exit status. What went
 // wrong goes to standard error, and with --json also to standard output
 // as the file's line, so a script reading the lines hears of every file.
 func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, file string, stdin io.Reader, stdout, stderr io.Writer) int {
-	code, msg, body := reviewOneFile(ctx, client, opts, file, stdin)
+	code, msg, answer := reviewOneFile(ctx, client, opts, file, stdin)
 	if msg != "" {
 		fmt.Fprintf(stderr, "%s: %s\n", file, msg)
 	}
 	if opts.asJSON {
 		line := struct {
-			File   string          `json:"file"`
-			Exit   int             `json:"exit,omitempty"`
-			Error  string          `json:"error,omitempty"`
-			Report json.RawMessage `json:"report,omitempty"`
-		}{File: file, Report: bytes.TrimSpace(body)}
+			File  string `json:"file"`
+			Exit  int    `json:"exit,omitempty"`
+			Error string `json:"error,omitempty"`
+			reviewAnswer
+		}{File: file, reviewAnswer: answer}
 		if msg != "" {
 			line.Exit, line.Error = code, msg
 		}
@@ -187,9 +225,9 @@ func reviewFile(ctx context.Context, client *http.Client, opts reviewOptions, fi
 }
 
 // reviewOneFile reviews one file: its exit status, what went wrong (""
-// when it was reviewed) and, when it was, the report as the service sent
-// it. The summary is printed here unless --json asked for the report.
-func reviewOneFile(ctx context.Context, client *http.Client, opts reviewOptions, file string, stdin io.Reader) (int, string, []byte) {
+// when it was reviewed) and, when it was, what the service answered. The
+// summary is printed here unless --json asked for the report.
+func reviewOneFile(ctx context.Context, client *http.Client, opts reviewOptions, file string, stdin io.Reader) (int, string, reviewAnswer) {
 	var doc []byte
 	var err error
 	if file == "-" {
@@ -198,38 +236,103 @@ func reviewOneFile(ctx context.Context, client *http.Client, opts reviewOptions,
 		doc, err = os.ReadFile(file)
 	}
 	if err != nil {
-		return reviewExitRejected, fmt.Sprintf("cannot read: %v", err), nil
+		return reviewExitRejected, fmt.Sprintf("cannot read: %v", err), reviewAnswer{}
 	}
 	status, body, err := postForReview(ctx, client, opts, doc)
 	var problem *apiclient.Problem
 	if err != nil && !errors.As(err, &problem) {
-		return reviewExitUnreachable, fmt.Sprintf("cannot reach %s: %v", opts.server, err), nil
+		return reviewExitUnreachable, fmt.Sprintf("cannot reach %s: %v", opts.server, err), reviewAnswer{}
 	}
 	switch {
 	case status >= 500 || status == http.StatusTooManyRequests:
-		return reviewExitUnreachable, fmt.Sprintf("the service could not review it (HTTP %d)%s", status, describeProblem(err)), nil
+		return reviewExitUnreachable, fmt.Sprintf("the service could not review it (HTTP %d)%s", status, describeProblem(err)), reviewAnswer{}
 	case status == http.StatusNotFound || status == http.StatusMethodNotAllowed:
 		// No review route there: a wrong --server, not a bad document.
-		return reviewExitUnreachable, fmt.Sprintf("no review service answers at %s (HTTP %d); check --server", opts.server, status), nil
+		return reviewExitUnreachable, fmt.Sprintf("no review service answers at %s (HTTP %d); check --server", opts.server, status), reviewAnswer{}
 	case status >= 400:
-		return reviewExitRejected, fmt.Sprintf("rejected (HTTP %d)%s", status, describeProblem(err)), nil
+		return reviewExitRejected, fmt.Sprintf("rejected (HTTP %d)%s", status, describeProblem(err)), reviewAnswer{}
 	case status != http.StatusOK:
-		return reviewExitUnreachable, fmt.Sprintf("unexpected answer HTTP %d", status), nil
+		return reviewExitUnreachable, fmt.Sprintf("unexpected answer HTTP %d", status), reviewAnswer{}
 	}
+	answer, proposed, err := readReviewAnswer(body, opts.propose)
 	var rep reviewReport
-	if err := json.Unmarshal(body, &rep); err != nil || rep.Status == "" {
-		return reviewExitUnreachable, "the answer is not a review report", nil
+	if err != nil || json.Unmarshal(answer.Report, &rep) != nil || rep.Status == "" {
+		return reviewExitUnreachable, "the answer is not a review report", reviewAnswer{}
+	}
+	if proposed != nil {
+		answer.ProposedFile = proposedPath(file)
+		if err := writeProposed(answer.ProposedFile, proposed); err != nil {
+			answer.ProposedFile = ""
+			return reviewExitRejected, fmt.Sprintf("cannot write the proposed design: %v", err), answer
+		}
 	}
 	if !opts.asJSON {
 		printReviewSummary(opts.stdout, file, rep)
+		printProposed(opts, answer, rep.Status)
 	}
 	switch status := review.Status(rep.Status); {
 	case status == review.OutOfScope:
-		return reviewExitOutOfScope, "", body
+		return reviewExitOutOfScope, "", answer
 	case status.Severity() >= review.Status(opts.failOn).Severity():
-		return reviewExitFindings, "", body
+		return reviewExitFindings, "", answer
 	}
-	return reviewExitClean, "", body
+	return reviewExitClean, "", answer
+}
+
+// readReviewAnswer splits the service's answer: a report, or with
+// --propose a proposal of the report, the proposed design (nil when there
+// is none) and its status.
+func readReviewAnswer(body []byte, propose bool) (reviewAnswer, json.RawMessage, error) {
+	if !propose {
+		return reviewAnswer{Report: bytes.TrimSpace(body)}, nil, nil
+	}
+	var p struct {
+		Report         json.RawMessage `json:"report"`
+		Proposed       json.RawMessage `json:"proposed"`
+		ProposedStatus string          `json:"proposed_status"`
+	}
+	if err := json.Unmarshal(body, &p); err != nil {
+		return reviewAnswer{}, nil, err
+	}
+	if string(p.Proposed) == "null" {
+		p.Proposed = nil
+	}
+	return reviewAnswer{Report: p.Report, ProposedStatus: p.ProposedStatus}, p.Proposed, nil
+}
+
+// proposedPath is where --propose writes the proposed design of file:
+// beside it, "fan.json" as "fan.proposed.json"; standard input's in the
+// current directory as "proposed.json".
+func proposedPath(file string) string {
+	if file == "-" {
+		return "proposed.json"
+	}
+	return strings.TrimSuffix(file, filepath.Ext(file)) + ".proposed.json"
+}
+
+// writeProposed writes a proposed design indented for reading and editing.
+func writeProposed(path string, doc json.RawMessage) error {
+	var b bytes.Buffer
+	if err := json.Indent(&b, doc, "", "  "); err != nil {
+		return err
+	}
+	b.WriteByte('\n')
+	return os.WriteFile(path, b.Bytes(), 0o644)
+}
+
+// printProposed says where the proposed design went and how it fared.
+func printProposed(opts reviewOptions, answer reviewAnswer, status string) {
+	switch {
+	case !opts.propose:
+	case answer.ProposedFile == "" && review.Status(status) == review.OutOfScope:
+		fmt.Fprintln(opts.stdout, "  no proposed design: none is proposed for a design out of scope")
+	case answer.ProposedFile == "" && review.Status(status) == review.Pass:
+		fmt.Fprintln(opts.stdout, "  no proposed design: nothing needs changing")
+	case answer.ProposedFile == "":
+		fmt.Fprintln(opts.stdout, "  no proposed design: no finding has a single change that clears it")
+	default:
+		fmt.Fprintf(opts.stdout, "  proposed design written to %s: %s when reviewed\n", answer.ProposedFile, strings.ToUpper(answer.ProposedStatus))
+	}
 }
 
 // postForReview sends one document through the API client, waiting out
@@ -251,6 +354,10 @@ func postForReview(ctx context.Context, httpc *http.Client, opts reviewOptions, 
 	if opts.limitsVersion > 0 {
 		v := apiclient.ReviewAgainstLimitsVersion(opts.limitsVersion)
 		params.LimitsVersion = &v
+	}
+	if opts.propose {
+		p := apiclient.PostV1ReviewsParamsProposeN1
+		params.Propose = &p
 	}
 	for attempt := 0; ; attempt++ {
 		resp, err := api.PostV1ReviewsWithBody(ctx, &params, "application/json", bytes.NewReader(doc))
@@ -324,6 +431,28 @@ func printReviewSummary(w io.Writer, file string, rep reviewReport) {
 			measure += " (" + strings.Join(limits, ", ") + ")"
 		}
 		fmt.Fprintf(w, "  %s %s at %s:%s %s\n", c.Status, c.Check, subject, measure, c.Message)
+		printRemedies(w, c)
+	}
+}
+
+// printRemedies prints under a finding what would fix it, with the shelf
+// parts that would do it, or why no single change does.
+func printRemedies(w io.Writer, c reportCheck) {
+	for _, r := range c.Remedies {
+		fmt.Fprintf(w, "    fix: %s\n", r.Change)
+		for _, m := range r.Shelf {
+			bin := m.Bin
+			if bin == "" {
+				bin = "no bin given"
+			}
+			fmt.Fprintf(w, "      on the shelf: %s (part %d, bin %s, %d on hand)\n", m.Name, m.ID, bin, m.Quantity)
+		}
+		if len(r.Shelf) == 0 && r.Part != nil {
+			fmt.Fprintf(w, "      on the shelf: no %s that fits\n", r.Part.Kind)
+		}
+	}
+	if c.NoRemedy != "" {
+		fmt.Fprintf(w, "    no single change clears it: %s\n", c.NoRemedy)
 	}
 }
 

@@ -314,3 +314,138 @@ func TestReviewCommandJSONLines(t *testing.T) {
 		}
 	}
 }
+
+// The summary prints each remedy under its finding, with the shelf parts
+// that would do it (or that none fits), and why a finding has none.
+func TestReviewSummaryPrintsRemedies(t *testing.T) {
+	// As the service words a proposal; the figures are hand-built:
+	// 1.25 × 6 A = 7.5 A, the next blade rating up is 10 A (common practice).
+	const answer = `{"status": "fail", "limits_version": 1, "counts": {"pass": 3, "warn": 1, "fail": 1},
+	 "checks": [
+	  {"check": "fuse.rating", "node": "drv", "status": "fail", "value": 5, "limit": 7.5, "unit": "A",
+	   "message": "the 5 A fuse is under 1.25 × the 6 A it carries",
+	   "remedies": [{"change": "fit a 10 A blade fuse", "patch": [],
+	                 "part": {"kind": "fuse", "at_least": {"rating_a": 7.5}},
+	                 "shelf": [{"id": 23, "name": "Mini blade fuses 10 A", "bin": "F1 fuses", "quantity": 20},
+	                           {"id": 40, "name": "Loose 15 A blade", "bin": "", "quantity": 1}]},
+	                {"change": "use 14AWG wire", "patch": [], "part": {"kind": "wire"}}]},
+	  {"check": "voltage.range", "node": "lamp", "status": "warn", "value": 9, "limit": 10, "unit": "V",
+	   "message": "browns out before the pack is empty", "no_remedy": "no cell count keeps both loads in their windows"},
+	  {"check": "wire.drop", "node": "lamp", "status": "pass", "value": 1, "limit": 10, "unit": "%", "message": "fine"}]}`
+	var rep reviewReport
+	if err := json.Unmarshal([]byte(answer), &rep); err != nil {
+		t.Fatal(err)
+	}
+	var out bytes.Buffer
+	printReviewSummary(&out, "cart.json", rep)
+	want := `cart.json: FAIL (limits v1; 3 pass, 1 warn, 1 fail)
+  fail fuse.rating at drv: 5 A (limit 7.5 A) the 5 A fuse is under 1.25 × the 6 A it carries
+    fix: fit a 10 A blade fuse
+      on the shelf: Mini blade fuses 10 A (part 23, bin F1 fuses, 20 on hand)
+      on the shelf: Loose 15 A blade (part 40, bin no bin given, 1 on hand)
+    fix: use 14AWG wire
+      on the shelf: no wire that fits
+  warn voltage.range at lamp: 9 V (limit 10 V) browns out before the pack is empty
+    no single change clears it: no cell count keeps both loads in their windows
+`
+	if out.String() != want {
+		t.Errorf("summary:\n%s\nwant:\n%s", out.String(), want)
+	}
+}
+
+func TestProposedPath(t *testing.T) {
+	for file, want := range map[string]string{
+		"designs/cart.json": "designs/cart.proposed.json",
+		"cart":              "cart.proposed.json",
+		"a.b/cart.v2.json":  "a.b/cart.v2.proposed.json",
+		"-":                 "proposed.json",
+	} {
+		if got := proposedPath(file); got != want {
+			t.Errorf("proposedPath(%q) = %q, want %q", file, got, want)
+		}
+	}
+}
+
+// --propose prints each finding's remedies and writes the proposed design
+// beside the file; the exit status stays the original design's.
+func TestReviewCommandPropose(t *testing.T) {
+	url, dir, _ := reviewCLIServer(t, api.Config{ReviewBurst: 1000})
+	warn, fail := filepath.Join(dir, "warn.json"), filepath.Join(dir, "fail.json")
+	var stdout, stderr bytes.Buffer
+	err := run(t.Context(), []string{"review", "--propose", "--fail-on", "warn", warn, fail, "--server", url},
+		func(string) string { return "" }, &stdout, &stderr)
+	if reviewExitOf(err) != reviewExitFindings {
+		t.Fatalf("exit %d, want %d: %s", reviewExitOf(err), reviewExitFindings, stderr.String())
+	}
+	out := stdout.String()
+	warnOut, failOut, ok := strings.Cut(out, fail+": FAIL")
+	if !ok {
+		t.Fatalf("no summary of fail.json:\n%s", out)
+	}
+	// warn.json's four 2000 mAh cells last 2 h at 1 A; the 10 h asked
+	// need 10 Ah, five strings of them in parallel (10 / 2).
+	written := filepath.Join(dir, "warn.proposed.json")
+	for _, want := range []string{
+		"  warn source.runtime at pack:",
+		"\n    fix: Use 5 strings of cells in parallel in pack instead of 1",
+		"  proposed design written to " + written + ": PASS when reviewed\n",
+	} {
+		if !strings.Contains(warnOut, want) {
+			t.Errorf("the summary of warn.json lacks %q:\n%s", want, warnOut)
+		}
+	}
+	raw, err := os.ReadFile(written)
+	if err != nil {
+		t.Fatal(err)
+	}
+	doc, err := domain.DecodeDesign(raw)
+	if err != nil {
+		t.Fatalf("the proposed design does not decode: %v\n%s", err, raw)
+	}
+	if p := doc.Nodes[0].Parallel; p == nil || *p != 5 {
+		t.Errorf("the proposed pack has %v strings in parallel, want 5", p)
+	}
+	// fail.json gives a 4.5–5.5 V sensor 14 V from ten NiMH cells, and no
+	// cell count suits it: full, n × 1.4 V ≤ 5.5 V allows 3 cells at most
+	// (4 give 5.6 V); at the 1.0 V cutoff, n × 1.0 V ≥ 4.5 V needs 5 or
+	// more. The summary says so, and nothing is written.
+	for _, want := range []string{
+		"  fail voltage.range at sensor:",
+		"\n    no single change clears it: ",
+		"  no proposed design: no finding has a single change that clears it\n",
+	} {
+		if !strings.Contains(failOut, want) {
+			t.Errorf("the summary of fail.json lacks %q:\n%s", want, failOut)
+		}
+	}
+	if _, err := os.Stat(filepath.Join(dir, "fail.proposed.json")); !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("a proposed design was written for fail.json: %v", err)
+	}
+
+	// With --json the line names the proposed file and its status; a
+	// design out of scope gets none.
+	stdout.Reset()
+	mains := filepath.Join(dir, "mains.json")
+	err = run(t.Context(), []string{"review", "--propose", "--json", warn, mains, "--server", url}, func(string) string { return "" }, &stdout, &stderr)
+	if reviewExitOf(err) != reviewExitOutOfScope {
+		t.Fatalf("exit %d, want %d: %s", reviewExitOf(err), reviewExitOutOfScope, stderr.String())
+	}
+	dec := json.NewDecoder(&stdout)
+	var lines []reviewAnswer
+	for dec.More() {
+		var line reviewAnswer
+		if err := dec.Decode(&line); err != nil {
+			t.Fatal(err)
+		}
+		lines = append(lines, line)
+	}
+	if len(lines) != 2 || lines[0].ProposedFile != written || lines[0].ProposedStatus != "pass" || len(lines[0].Report) == 0 {
+		t.Fatalf("JSON lines %+v", lines)
+	}
+	if lines[1].ProposedFile != "" || len(lines[1].Report) == 0 {
+		t.Errorf("the design out of scope: %+v, want its report and no proposed design", lines[1])
+	}
+	if _, err := os.Stat(filepath.Join(dir, "mains.proposed.json")); !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("a proposed design was written for the design out of scope: %v", err)
+	}
+}

@@ -2,6 +2,7 @@ package review
 
 import (
 	"fmt"
+	"math/rand/v2"
 	"testing"
 
 	"github.com/go-json-experiment/json"
@@ -65,4 +66,46 @@ func BenchmarkReportJSON(b *testing.B) {
 		}
 		b.SetBytes(int64(len(out)))
 	})
+}
+
+// BenchmarkPropose proposes remedies for the 30-node design the load
+// harness sends (testdata/load-30.json, which passes), for a copy of it
+// with faults put in (brokenDesign), and for 5,000-node designs: the bench
+// design and a generated one with thousands of findings. The budgets are
+// at most five times a review of the same design (BenchmarkReview/nodes=30
+// and the "review" runs here) and under 500 ms for 5,000 nodes.
+//
+//	go test ./domain/review -run '^$' -bench 'Propose|Review/nodes=30$' -benchmem -cpu 1 -count 5
+func BenchmarkPropose(b *testing.B) {
+	rules, err := Prepare(DefaultLimits(), 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	load := readDesign(b, "testdata/load-30.json")
+	for _, c := range []struct {
+		name string
+		doc  domain.Design
+	}{
+		{"load30", load},
+		{"broken30", brokenDesign(load)},
+		{"bench5000", benchDesign(5000)},
+		{"random5000", randomDesign(rand.New(rand.NewPCG(21, 22)), 5000)},
+	} {
+		b.Run(c.name+"/review", func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := rules.Review(c.doc, nil); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+		b.Run(c.name+"/propose", func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := rules.Propose(c.doc, nil); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
 }

@@ -321,12 +321,20 @@ func (r *reviewer) faultPaths() []faultPath {
 // between the fault's source and this feed, and of this feed only the
 // distance_from_source_m before the fuse, on a feed straight from it.
 func (r *reviewer) prospectiveShort(i int) (amps, loopOhm float64) {
+	fu := r.t.nodes[i].feed.fuse
+	return r.shortAt(i, fu.distanceM, fu.hasDist)
+}
+
+// shortAt is prospectiveShort for a fuse distM along node i's feed, or,
+// without hasDist, at its very start (Propose asks it of a fuse it would
+// fit).
+func (r *reviewer) shortAt(i int, distM float64, hasDist bool) (amps, loopOhm float64) {
 	n := &r.t.nodes[i]
 	fp := &r.paths[i]
 	src := &r.t.nodes[fp.from]
 	if int(fp.from) == n.parent {
-		if fu := n.feed.fuse; fu.hasDist && n.feed.lengthM > 0 {
-			loopOhm = n.feed.resistance * min(fu.distanceM, n.feed.lengthM) / n.feed.lengthM
+		if hasDist && n.feed.lengthM > 0 {
+			loopOhm = n.feed.resistance * min(distM, n.feed.lengthM) / n.feed.lengthM
 		}
 	} else {
 		loopOhm = r.paths[n.parent].loopOhm

@@ -3,6 +3,7 @@ package review
 import (
 	"fmt"
 	"math/rand/v2"
+	"slices"
 
 	"wattshelf/domain"
 )
@@ -135,6 +136,36 @@ func benchDesign(n int) domain.Design {
 			add(domain.Node{ID: id(fmt.Sprintf("motor%d_", k)), Type: domain.NodeMotor,
 				Duty: f64(0.3), Ratings: domain.Ratings{RatedV: f64(12), NoLoadA: f64(0.1),
 					StallA: f64(2.5), MinV: f64(6), MaxV: f64(15)}}, id("drv"), "20AWG", 0.5, false)
+		}
+	}
+	return d
+}
+
+// brokenDesign is d (the load harness's design) with a fault in each
+// kind of part: a thin, long lamp feed with a fast fuse too big for it,
+// an overloaded 3.3 V regulator that runs hot from a full pack, a driver
+// rated below its motors, an XT30 pair carrying the drives past its
+// rating, and a runtime target the pack cannot meet.
+func brokenDesign(d domain.Design) domain.Design {
+	d.Nodes = slices.Clone(d.Nodes)
+	d.TargetRuntimeH = f64(6)
+	for i := range d.Nodes {
+		n := &d.Nodes[i]
+		switch n.ID {
+		case "lamp":
+			n.CurrentA = f64(3)
+			n.Feed = &domain.Feed{From: "pack", Wire: &domain.Wire{Gauge: "26AWG", LengthM: 2},
+				Fuse: &domain.Fuse{RatingA: 20, Speed: "fast", Family: "blade", DistanceFromSourceM: f64(0.4)}}
+		case "ldo3v3":
+			n.Feed = &domain.Feed{From: "pack", Wire: &domain.Wire{Gauge: "22AWG", LengthM: 0.2},
+				Fuse: &domain.Fuse{RatingA: 2, Family: "blade", DistanceFromSourceM: f64(0.1)}}
+			n.MaxOutputA, n.ThetaJACPerW = f64(0.05), f64(250)
+		case "drive1":
+			n.ContinuousA, n.PeakA = f64(1), f64(2)
+		case "drive2":
+			f := *n.Feed
+			f.Connectors = []domain.Connector{{Family: "jst-ph-2mm", RatingA: f64(1)}}
+			n.Feed = &f
 		}
 	}
 	return d

@@ -39,6 +39,9 @@ type ShelfMatch struct {
 
 // Proposal is a review with a remedy for each finding that has one, and
 // the design with the lightest remedy of each applied, reviewed again.
+// A finding's first remedy is the one the proposed design applies.
+// Proposed is nil when it would change nothing: no finding, none with a
+// remedy, or a design out of scope.
 type Proposal struct {
 	Report   Report         `json:"report"`
 	Proposed *domain.Design `json:"proposed,omitzero"`

@@ -22,6 +22,14 @@ type reviewer struct {
 	spans   []textSpan // of each check's message in text
 	nums    numbers
 	text    strings.Builder // every message said so far, end to end
+	// quiet reviews only say how each check came out: no messages and no
+	// operating point in the report. Propose checks its changes so.
+	quiet bool
+	// kept for Propose, which works out remedies from them
+	needs   []need
+	slot    []int32
+	protAmp []float64
+	protID  []string
 }
 
 // Rules is a limits set that passed Validate, with what every review
@@ -91,6 +99,16 @@ func (ru *Rules) Review(doc domain.Design, components map[int64]domain.Component
 }
 
 func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component) (Report, error) {
+	var r reviewer // on the stack: a plain review keeps nothing of it
+	return ru.run(doc, components, &r)
+}
+
+// run reviews a validated document into r, a zero reviewer or one with
+// only quiet set, whose tree then holds the operating point. A quiet run
+// leaves out the messages and the operating point: its report says only
+// how each check came out.
+func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r *reviewer) (Report, error) {
+	quiet := r.quiet
 	limits := &ru.limits
 	ambient := limits.Policy.DefaultAmbientC.Value
 	if doc.AmbientC != nil {
@@ -106,12 +124,14 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	}
 	t := newTree(nodes)
 	t.solve()
-	r := &reviewer{t: t, limits: limits, ambient: ambient, notRun: ru.notRun,
-		// A node gets about four and a half checks: its own, its feed's and
-		// the fault checks' (a fuse's and a motor's), of about 100 bytes
-		// each; a switching regulator one more for its heat.
-		checks: make([]Check, 0, 9*len(nodes)/2+t.nSwitching+8), spans: make([]textSpan, 0, 9*len(nodes)/2+t.nSwitching+8)}
-	r.text.Grow(448*len(nodes) + 80*t.nSwitching + 256)
+	r.t, r.limits, r.ambient, r.notRun = t, limits, ambient, ru.notRun
+	// A node gets about four and a half checks: its own, its feed's and
+	// the fault checks' (a fuse's and a motor's), of about 100 bytes
+	// each; a switching regulator one more for its heat.
+	r.checks, r.spans = make([]Check, 0, 9*len(nodes)/2+t.nSwitching+8), make([]textSpan, 0, 9*len(nodes)/2+t.nSwitching+8)
+	if !quiet {
+		r.text.Grow(448*len(nodes) + 80*t.nSwitching + 256)
+	}
 	rep := Report{
 		Format:        ReportFormat,
 		LimitsVersion: ru.version,
@@ -128,7 +148,8 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	r.scope()
 
 	needs, slot := r.brownouts()
-	protAmp, protID := r.protectedConductors()
+	protAmp, protID := t.protectedConductors(nil)
+	r.needs, r.slot, r.protAmp, r.protID = needs, slot, protAmp, protID
 	rails := r.rails()
 	heatRuns, polarityRuns := r.runs(CheckRegulatorHeat), r.runs(CheckConnectorPolarity)
 	if r.runs(CheckFuseInterrupt) || r.runs(CheckMotorStall) {
@@ -181,12 +202,18 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 			if polarityRuns {
 				r.connectorPolarity(n)
 			}
-			rep.Feeds = append(rep.Feeds, r.feedResult(n))
+			if !quiet {
+				rep.Feeds = append(rep.Feeds, r.feedResult(n))
+			}
 		}
-		rep.Nodes = append(rep.Nodes, r.nodeResult(n))
+		if !quiet {
+			rep.Nodes = append(rep.Nodes, r.nodeResult(n))
+		}
 	}
 
-	r.finishMessages()
+	if !quiet {
+		r.finishMessages()
+	}
 	rep.Checks = r.checks
 	rep.Status = Pass
 	rep.Rules = map[string]Rule{}
@@ -312,27 +339,29 @@ func (r *reviewer) brownouts() (needs []need, slot []int32) {
 
 func (r *reviewer) runtime(n *node, nd *need) RuntimeResult {
 	p := n.pack
-	share := 0.0
-	var limitedBy string
-	switch {
-	case nd.brownoutV > p.CutoffV():
+	share := p.UsableShare(0)
+	if nd.brownoutV > p.CutoffV() {
 		share = p.UsableShare(nd.brownoutV)
-		limitedBy = fmt.Sprintf("brownout of %s at %s V", nd.brownoutID, num(nd.brownoutV))
-	default:
-		share = p.UsableShare(0)
-		limitedBy = fmt.Sprintf("cell cutoff at %s V", num(p.CutoffV()))
 	}
-	if len(nd.never) > 0 {
-		limitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
-	}
-	res := RuntimeResult{Source: n.id, UsableShare: clean(share), LimitedBy: limitedBy,
-		Pack: packFacts(*p), Brownouts: brownoutList(*p, nd.loads, &r.nums)}
+	res := RuntimeResult{Source: n.id, UsableShare: clean(share)}
 	// A vanishing average current gives hours too large to print; the
 	// runtime is then simply not a concern and is left out.
 	if h := p.RuntimeH(n.avg, share); n.avg > 0 && !math.IsInf(h, 0) && !math.IsNaN(h) {
 		h = clean(h)
 		res.Hours = &h
 	}
+	if r.quiet { // the hours are all its check needs
+		return res
+	}
+	if nd.brownoutV > p.CutoffV() {
+		res.LimitedBy = fmt.Sprintf("brownout of %s at %s V", nd.brownoutID, num(nd.brownoutV))
+	} else {
+		res.LimitedBy = fmt.Sprintf("cell cutoff at %s V", num(p.CutoffV()))
+	}
+	if len(nd.never) > 0 {
+		res.LimitedBy += fmt.Sprintf("; left out: %s, short of its min_v even from a full pack", joinIDs(nd.never))
+	}
+	res.Pack, res.Brownouts = packFacts(*p), brownoutList(*p, nd.loads, &r.nums)
 	return res
 }
 
@@ -377,9 +406,9 @@ func brownoutList(p electric.Pack, loads []loadNeed, nums *numbers) []Brownout {
 
 // protectedConductors finds, for each feed, the smallest ampacity among the
 // conductors a fuse on it would protect: its own and every feed below it
-// down to the next fuse or regulator.
-func (r *reviewer) protectedConductors() ([]float64, []string) {
-	t := r.t
+// down to the next fuse or regulator. A non-nil ampacity stands in for
+// the feeds' own (Propose asks with the wires it would change).
+func (t *tree) protectedConductors(ampacity []float64) ([]float64, []string) {
 	amp := make([]float64, len(t.nodes))
 	id := make([]string, len(t.nodes))
 	for k := len(t.order) - 1; k >= 0; k-- {
@@ -389,6 +418,9 @@ func (r *reviewer) protectedConductors() ([]float64, []string) {
 			continue
 		}
 		amp[i], id[i] = n.feed.ampacity, n.id
+		if ampacity != nil {
+			amp[i] = ampacity[i]
+		}
 		if n.kind == kindRegulator {
 			continue
 		}
