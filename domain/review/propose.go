@@ -437,9 +437,11 @@ func (p *proposer) tryAlternatives(settled domain.Design, status Status) (domain
 	if o.clean() {
 		return design, o.status, nil
 	}
+	// The proposal goes back to the settled one: a finding it leaves open
+	// offers nothing, whatever a round proved for it.
 	for _, k := range promoted {
 		f := &p.findings[k]
-		f.proven[f.chosen] = false
+		clear(f.proven)
 		f.chosen = -1
 	}
 	return settled, status, nil

@@ -25,6 +25,9 @@ func TestPropertyProposalNeverWorse(t *testing.T) {
 	designs, remedied, offered := 0, 0, 0
 	for round := 0; round < 300; round++ {
 		d := randomDesign(rng, 2+rng.IntN(40))
+		if round%2 == 1 {
+			d = withHazards(rng, d)
+		}
 		prop, err := rules.Propose(d, nil)
 		if err != nil {
 			t.Fatalf("round %d: %v", round, err)
@@ -110,6 +113,46 @@ func applyPatch(t *testing.T, original []byte, r Remedy) domain.Design {
 	}
 	if err != nil {
 		t.Fatalf("%s: the patched design is not valid: %v\n%s", r.Change, err, ops)
+	}
+	return d
+}
+
+// withHazards gives a generated design what the fault and part-hazard
+// checks look at, so their remedies are proven too: warmer air and wires
+// in boxes or with cooler insulation, cartridge fuses, lithium packs that
+// state a protection circuit, drivers that limit their current, clamps
+// and sinking supplies, loads that work either way round.
+func withHazards(rng *rand.Rand, d domain.Design) domain.Design {
+	d.AmbientC = f64(float64(20 + rng.IntN(60)))
+	for i := range d.Nodes {
+		n := &d.Nodes[i]
+		if n.Type == domain.NodeBattery && (n.Chemistry == "liion" || n.Chemistry == "lifepo4") && rng.IntN(2) == 0 {
+			n.ProtectionCellOverV, n.ProtectionCellUnderV = f64(4.25), f64(2.6)
+			n.ProtectionTripA = f64(float64(1 + rng.IntN(40)))
+		}
+		if n.Type == domain.NodeSupply && rng.IntN(3) == 0 {
+			n.SinksCurrent = true
+		}
+		if n.Type == domain.NodeDriver && rng.IntN(2) == 0 {
+			n.CurrentLimitA = f64(*n.ContinuousA * (0.5 + rng.Float64()))
+		}
+		if n.Type == domain.NodeLoad && rng.IntN(3) == 0 {
+			n.PolarityFree = true
+		}
+		if n.Feed == nil {
+			continue
+		}
+		f := *n.Feed
+		w := *f.Wire
+		w.InsulationC = f64([]float64{60, 75, 90, 105}[rng.IntN(4)])
+		w.Enclosed = rng.IntN(3) == 0
+		f.Wire = &w
+		if f.Fuse != nil && rng.IntN(3) == 0 {
+			fu := *f.Fuse
+			fu.Family, fu.RatingA = "glass-5x20", []float64{0.5, 1, 2, 5, 10}[rng.IntN(5)]
+			f.Fuse = &fu
+		}
+		n.Feed = &f
 	}
 	return d
 }
