@@ -253,3 +253,18 @@ func TestOpenAPIResponses(t *testing.T) {
 		}
 	}
 }
+
+// The document's list of check names is the engine's: a check added to
+// one and not the other fails here.
+func TestOpenAPIListsEveryCheck(t *testing.T) {
+	doc := loadOpenAPI(t)
+	check := doc.Components.Schemas["Report"].Value.Properties["checks"].Value.Items.Value.Properties["check"].Value
+	var listed []string
+	for _, e := range check.Enum {
+		listed = append(listed, fmt.Sprint(e))
+	}
+	slices.Sort(listed)
+	if want := review.CheckNames(); !slices.Equal(listed, want) {
+		t.Errorf("openapi.yaml lists checks %v, the engine runs %v", listed, want)
+	}
+}

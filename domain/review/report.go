@@ -2,6 +2,8 @@ package review
 
 import (
 	"fmt"
+	"maps"
+	"slices"
 
 	"github.com/go-json-experiment/json"
 )
@@ -287,4 +289,10 @@ func ReadStored(data []byte) (Report, error) {
 		}
 	}
 	return rep, nil
+}
+
+// CheckNames lists every check this engine runs, sorted: the names its
+// rules are written for.
+func CheckNames() []string {
+	return slices.Sorted(maps.Keys(newRules(DefaultLimits())))
 }
