@@ -102,7 +102,7 @@ func (c ComponentInput) Validate() error {
 }
 
 func (e Electrical) validate(p *Problems) {
-	checkDeclared(p, "", reflect.ValueOf(e), "", "")
+	checkDeclared(p, "", "", &e, "", "")
 	if e.MinV != nil && e.MaxV != nil && *e.MinV > *e.MaxV {
 		p.Add("/min_v", "is above max_v")
 	}
