@@ -47,8 +47,8 @@ func limitsVersionParam(c echo.Context) (int, error) {
 	return int(n), nil
 }
 
-// review decodes and reviews a document against limits version v (0:
-// the current one). Rules.Review validates the document itself.
+// review decodes, validates and reviews a document against limits
+// version v (0: the current one).
 func (s *server) review(ctx context.Context, document []byte, v int) (review.Report, error) {
 	doc, err := domain.DecodeDesign(document)
 	if err != nil {
@@ -61,11 +61,15 @@ func (s *server) review(ctx context.Context, document []byte, v int) (review.Rep
 	if err != nil {
 		return review.Report{}, err
 	}
+	valid, err := doc.Validated()
+	if err != nil {
+		return review.Report{}, err
+	}
 	components, err := s.store.ComponentsByID(ctx, doc.ComponentIDs())
 	if err != nil {
 		return review.Report{}, err
 	}
-	return rules.Review(doc, components)
+	return rules.Review(valid, components)
 }
 
 // reviewDocument reviews the document sent as the body and stores

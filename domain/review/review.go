@@ -61,18 +61,18 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 	return ru.review(doc, components)
 }
 
-// Review checks a design against the rules. It validates the document,
-// fills nodes that name a component_id from components (the node's own
-// fields win), solves the operating point and runs every
-// check of section 7. A document that breaks the contract, names a
-// component that is not in components, or leaves out a field neither it nor
-// its component gives comes back as a *domain.ValidationError with JSON
-// pointers.
+// Review checks a validated design against the rules. It fills nodes
+// that name a component_id from components (the node's own fields win),
+// solves the operating point and runs every
+// check of section 7. A document that names a component that is not in
+// components, or leaves out a field neither it nor its component gives,
+// comes back as a *domain.ValidationError with JSON pointers.
 //
 // The cost is linear in the number of nodes, times the handful of steps a
 // design with switching regulators needs to settle (at most maxSolveSteps).
-func (ru *Rules) Review(doc domain.Design, components map[int64]domain.Component) (Report, error) {
-	if err := doc.Validate(); err != nil {
+func (ru *Rules) Review(valid domain.ValidDesign, components map[int64]domain.Component) (Report, error) {
+	doc, err := valid.Design()
+	if err != nil {
 		return Report{}, err
 	}
 	return ru.review(doc, components)
