@@ -141,9 +141,15 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 	r.finishMessages()
 	rep.Checks = r.checks
 	rep.Status = Pass
-	rep.Rules = map[string]Rule{}
+	// The report's rules are its checks' names, each once: a handful of
+	// names over thousands of checks, so they are gathered in a short
+	// list before they go in the map.
+	var used [16]string
+	names := used[:0]
 	for _, c := range r.checks {
-		rep.Rules[c.Check] = ru.rules[c.Check]
+		if !slices.Contains(names, c.Check) {
+			names = append(names, c.Check)
+		}
 		switch c.Status {
 		case Pass:
 			rep.Counts.Pass++
@@ -157,6 +163,10 @@ func (ru *Rules) review(doc domain.Design, components map[int64]domain.Component
 		if c.Status.Severity() > rep.Status.Severity() {
 			rep.Status = c.Status
 		}
+	}
+	rep.Rules = make(map[string]Rule, len(names))
+	for _, name := range names {
+		rep.Rules[name] = ru.rules[name]
 	}
 	if err := rep.checkFinite(); err != nil {
 		return Report{}, fmt.Errorf("review of %q: %w", doc.Name, err)
@@ -384,11 +394,14 @@ func (r *reviewer) feedResult(n *node) FeedResult {
 // full block is left to the pointers into it and a new one started.
 type numbers struct{ block []float64 }
 
-func (a *numbers) ptr(x float64) *float64 {
+func (a *numbers) ptr(x float64) *float64 { return a.hold(clean(x)) }
+
+// hold is ptr for a number that is cleaned later.
+func (a *numbers) hold(x float64) *float64 {
 	if len(a.block) == cap(a.block) {
 		a.block = make([]float64, 0, 64)
 	}
-	a.block = append(a.block, clean(x))
+	a.block = append(a.block, x)
 	return &a.block[len(a.block)-1]
 }
 
