@@ -44,6 +44,10 @@ func chainDesign(n int) []byte {
 func storeChainReview(tb testing.TB, n int) (*httptest.Server, string) {
 	tb.Helper()
 	st, _ := storetest.NewStore(tb)
+	// serve stores the default limits as it starts; reviews need them.
+	if _, err := st.SeedDefaultLimits(tb.Context()); err != nil {
+		tb.Fatal(err)
+	}
 	e, err := api.New(api.Config{Store: st, Logger: slog.New(slog.DiscardHandler), Registry: prometheus.NewRegistry(),
 		TrustedProxies: []netip.Prefix{netip.MustParsePrefix("127.0.0.1/32"), netip.MustParsePrefix("::1/128")}})
 	if err != nil {

@@ -64,7 +64,7 @@ func proposeParam(c echo.Context) (bool, error) {
 
 // review decodes and reviews a document against limits version v (0:
 // the current one); with propose, it proposes remedies too and lists the
-// shelf parts that would do them. The engine validates the document.
+// shelf parts that would do them. The document is validated once, here.
 func (s *server) review(ctx context.Context, document []byte, v int, propose bool) (review.Proposal, error) {
 	doc, err := domain.DecodeDesign(document)
 	if err != nil {
@@ -77,15 +77,19 @@ func (s *server) review(ctx context.Context, document []byte, v int, propose boo
 	if err != nil {
 		return review.Proposal{}, err
 	}
+	valid, err := doc.Validated()
+	if err != nil {
+		return review.Proposal{}, err
+	}
 	components, err := s.store.ComponentsByID(ctx, doc.ComponentIDs())
 	if err != nil {
 		return review.Proposal{}, err
 	}
 	if !propose {
-		rep, err := rules.Review(doc, components)
+		rep, err := rules.Review(valid, components)
 		return review.Proposal{Report: rep}, err
 	}
-	p, err := rules.Propose(doc, components)
+	p, err := rules.Propose(valid, components)
 	if err != nil {
 		return review.Proposal{}, err
 	}

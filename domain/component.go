@@ -5,6 +5,7 @@ import (
 	"slices"
 	"strings"
 	"time"
+	"unsafe"
 
 	"wattshelf/domain/electric"
 )
@@ -107,7 +108,7 @@ func (c ComponentInput) Validate() error {
 }
 
 func (e Electrical) validate(p *Problems) {
-	checkDeclared(p, "", reflect.ValueOf(e), "", "")
+	checkDeclared(p, "", "", &e, "", "")
 	if e.MinV != nil && e.MaxV != nil && *e.MinV > *e.MaxV {
 		p.Add("/min_v", "is above max_v")
 	}
@@ -184,16 +185,15 @@ func (e Electrical) Rating(name string) (float64, bool) {
 		g, err := electric.ParseGauge(e.Gauge)
 		return g.AreaMM2, err == nil
 	}
-	v := reflect.ValueOf(e)
-	for _, f := range FieldsOf(v.Type()) {
+	base := unsafe.Pointer(&e)
+	for _, f := range FieldsOf(reflect.TypeFor[Electrical]()) {
 		if f.Name != name || (f.Kind != "number" && f.Kind != "integer") {
 			continue
 		}
-		fv := v.FieldByIndex(f.Index)
-		if !isSet(fv) {
+		if !f.at.given(base) {
 			return 0, false
 		}
-		return number(fv), true
+		return f.at.number(base), true
 	}
 	return 0, false
 }

@@ -1,7 +1,6 @@
 package domain
 
 import (
-	"reflect"
 	"slices"
 	"strconv"
 	"strings"
@@ -153,7 +152,7 @@ func (d Design) Validate() error {
 	if len(d.Nodes) == 0 {
 		p.Add("/nodes", "is empty: a design needs at least a source and something it feeds")
 	}
-	checkDeclared(&p, "", reflect.ValueOf(&d).Elem(), "", "")
+	checkDeclared(&p, "", "", &d, "", "")
 	p.CheckVisible("/name", d.Name)
 	if p.Len() > 0 && (len(d.Nodes) == 0 || len(d.Nodes) > MaxDesignNodes) {
 		return p.Err()
@@ -270,9 +269,10 @@ func (d Design) checkCycles(p *Problems, parent []int) {
 func (n *Node) CheckValues(p *Problems, ptr string) {
 	if strings.TrimSpace(n.ID) == "" {
 		p.Add(ptr+"/id", "is required")
+	} else if _, bad := invisible(n.ID); bad {
+		p.CheckVisible(ptr+"/id", n.ID)
 	}
-	p.CheckVisible(ptr+"/id", n.ID)
-	checkDeclared(p, ptr, reflect.ValueOf(n).Elem(), n.Type, n.Topology)
+	checkDeclared(p, ptr, "", n, n.Type, n.Topology)
 	if n.Series != nil && n.Parallel != nil && *n.Series >= 1 && *n.Parallel >= 1 &&
 		*n.Series**n.Parallel > MaxPackCells {
 		p.Add(ptr+"/parallel", "makes a pack of %d × %d = %d cells; at most %d are allowed",
@@ -363,25 +363,26 @@ func (n Node) CheckComplete(p *Problems, ptr string) {
 
 // check records the problems of the feed of the node at ptr.
 func (f *Feed) check(p *Problems, ptr string) {
-	ptr += "/feed"
-	checkDeclared(p, ptr, reflect.ValueOf(f).Elem(), "", "")
+	// The pointers below are only written out for a problem: every node
+	// but a source has a feed, and most have no problem.
+	checkDeclared(p, ptr, "/feed", f, "", "")
 	if w := f.Wire; w == nil {
-		p.Add(ptr+"/wire", "is required: say which wire carries the feed (gauge and length_m)")
+		p.Add(ptr+"/feed/wire", "is required: say which wire carries the feed (gauge and length_m)")
 	} else {
-		checkDeclared(p, ptr+"/wire", reflect.ValueOf(w).Elem(), "", "")
+		checkDeclared(p, ptr, "/feed/wire", w, "", "")
 		if w.Gauge == "" {
-			p.Add(ptr+"/wire/gauge", "is required, e.g. \"18AWG\" or \"0.75mm2\"")
+			p.Add(ptr+"/feed/wire/gauge", "is required, e.g. \"18AWG\" or \"0.75mm2\"")
 		} else if err := electric.CheckGauge(w.Gauge); err != nil {
-			p.Add(ptr+"/wire/gauge", "%v", err)
+			p.Add(ptr+"/feed/wire/gauge", "%v", err)
 		}
 	}
 	if f.Fuse != nil {
-		checkDeclared(p, ptr+"/fuse", reflect.ValueOf(f.Fuse).Elem(), "", "")
+		checkDeclared(p, ptr, "/feed/fuse", f.Fuse, "", "")
 	}
 	for k := range f.Connectors {
 		c := &f.Connectors[k]
-		cp := ptr + "/connectors/" + strconv.Itoa(k)
-		checkDeclared(p, cp, reflect.ValueOf(c).Elem(), "", "")
+		cp := ptr + "/feed/connectors/" + strconv.Itoa(k)
+		checkDeclared(p, cp, "", c, "", "")
 		if c.Family == "" && c.RatingA == nil {
 			p.Add(cp+"/rating_a", "is required when the connector names no family")
 		}

@@ -112,12 +112,23 @@ func (p *Problems) CheckText(pointer, s string, max int, required bool) {
 // around, and lets one part pass for another on the kiosk.
 // Space around it is left to the caller, which trims it.
 func (p *Problems) CheckVisible(pointer, s string) {
+	if r, bad := invisible(s); bad {
+		p.Add(pointer, "must not contain the control or invisible character U+%04X", r)
+	}
+}
+
+// invisible is the first control or format character of s, space around
+// it aside, if it has one.
+func invisible(s string) (rune, bool) {
 	for _, r := range strings.TrimSpace(s) {
+		if r >= ' ' && r <= '~' {
+			continue // printable ASCII, nearly every character of an id or name
+		}
 		if r != 0 && (unicode.IsControl(r) || unicode.Is(unicode.Cf, r)) {
-			p.Add(pointer, "must not contain the control or invisible character U+%04X", r)
-			return
+			return r, true
 		}
 	}
+	return 0, false
 }
 
 // CheckRange records a problem when v is not finite or outside [min, max].

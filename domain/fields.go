@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"unsafe"
 )
 
 // The design document and a part's ratings are declared once, as Go
@@ -42,7 +43,28 @@ type Field struct {
 	Default  string
 	Enum     []string
 	MaxLen   int
+	at       access
 }
+
+// access reads a declared field straight from its struct's address, at
+// the offset reflection found once: validation reads every field of every
+// node, and reflect.Value.FieldByIndex per field was most of its time.
+type access struct {
+	offset uintptr
+	shape  shape
+	num    reflect.Kind // a number's Go kind (Float64, Int, Int64); Invalid for other fields
+}
+
+// shape is how a field holds its value, which says when it is given.
+type shape uint8
+
+const (
+	shapePlain   shape = iota // a plain number or struct: always given
+	shapePointer              // *T: given when not nil
+	shapeText                 // string: given when not empty
+	shapeBool                 // bool: given when true
+	shapeList                 // []T: given when not nil
+)
 
 // declaredFields reads the tags of the declared structs once: validation
 // runs on every node of every review, and the tags cannot change while
@@ -53,7 +75,7 @@ var declaredFields = sync.OnceValue(func() map[reflect.Type][]Field {
 		reflect.TypeFor[Design](), reflect.TypeFor[Node](), reflect.TypeFor[Feed](), reflect.TypeFor[Wire](),
 		reflect.TypeFor[Fuse](), reflect.TypeFor[Connector](), reflect.TypeFor[Ratings](), reflect.TypeFor[Electrical](),
 	} {
-		m[t] = readFields(t, nil)
+		m[t] = readFields(t, nil, 0)
 	}
 	return m
 })
@@ -64,17 +86,17 @@ func FieldsOf(t reflect.Type) []Field {
 	if f, ok := declaredFields()[t]; ok {
 		return f
 	}
-	return readFields(t, nil)
+	return readFields(t, nil, 0)
 }
 
-func readFields(t reflect.Type, index []int) []Field {
+func readFields(t reflect.Type, index []int, offset uintptr) []Field {
 	var out []Field
 	for i := range t.NumField() {
 		sf := t.Field(i)
 		idx := append(slices.Clone(index), i)
 		tag := sf.Tag.Get("json")
 		if sf.Anonymous && tag == "" {
-			out = append(out, readFields(sf.Type, idx)...)
+			out = append(out, readFields(sf.Type, idx, offset+sf.Offset)...)
 			continue
 		}
 		name, opts, _ := strings.Cut(tag, ",")
@@ -84,17 +106,17 @@ func readFields(t reflect.Type, index []int) []Field {
 		f := Field{
 			Name: name, Index: idx, Required: !strings.Contains(opts, "omit"),
 			Doc: sf.Tag.Get("doc"), Unit: sf.Tag.Get("unit"), Default: sf.Tag.Get("default"),
-			MaxLen: MaxShortFieldLen,
+			MaxLen: MaxShortFieldLen, at: access{offset: offset + sf.Offset},
 		}
 		ft := sf.Type
 		if ft.Kind() == reflect.Pointer {
-			ft = ft.Elem()
+			ft, f.at.shape = ft.Elem(), shapePointer
 		}
 		switch ft.Kind() {
 		case reflect.Float64:
-			f.Kind = "number"
+			f.Kind, f.at.num = "number", reflect.Float64
 		case reflect.Int, reflect.Int64:
-			f.Kind = "integer"
+			f.Kind, f.at.num = "integer", ft.Kind()
 		case reflect.String:
 			f.Kind = "string"
 		case reflect.Bool:
@@ -105,6 +127,9 @@ func readFields(t reflect.Type, index []int) []Field {
 			f.Kind, f.Elem = "array", ft.Elem()
 		default:
 			panic(fmt.Sprintf("field %s.%s: no JSON kind for %s", t.Name(), sf.Name, ft))
+		}
+		if f.at.shape != shapePointer {
+			f.at.shape = map[reflect.Kind]shape{reflect.String: shapeText, reflect.Bool: shapeBool, reflect.Slice: shapeList}[ft.Kind()]
 		}
 		f.Min, f.Max = tagNumber(t, sf, "min"), tagNumber(t, sf, "max")
 		if s := sf.Tag.Get("for"); s != "" {
@@ -142,7 +167,7 @@ func tagNumber(t reflect.Type, sf reflect.StructField, key string) *float64 {
 // AppliesTo tells whether the field applies to a node of type typ and,
 // for a regulator, topology. A regulator of unknown topology may carry any
 // regulator field: its topology is reported instead.
-func (f Field) AppliesTo(typ, topology string) bool {
+func (f *Field) AppliesTo(typ, topology string) bool {
 	if len(f.For) == 0 {
 		return true
 	}
@@ -203,48 +228,84 @@ func isSet(v reflect.Value) bool {
 	return true
 }
 
-// number is a numeric field's value, following a pointer.
-func number(v reflect.Value) float64 {
-	if v.Kind() == reflect.Pointer {
-		v = v.Elem()
+// given tells whether the field was given in the struct at base: a
+// pointer that is not nil, a string that is not empty, a true bool.
+func (a access) given(base unsafe.Pointer) bool {
+	at := unsafe.Add(base, a.offset)
+	switch a.shape {
+	case shapePointer, shapeList: // a slice's first word is its array, nil for a nil slice
+		return *(*unsafe.Pointer)(at) != nil
+	case shapeText:
+		return len(*(*string)(at)) > 0
+	case shapeBool:
+		return *(*bool)(at)
 	}
-	if v.CanFloat() {
-		return v.Float()
-	}
-	return float64(v.Int())
+	return true
 }
 
-// checkDeclared records the problems with the values of struct value v
-// at ptr that the declaration alone decides: numbers out of range, strings
-// too long or not one of their enum, and, for a node of type typ, fields
-// that do not apply to it. Nested objects and arrays are their owners' to
-// check.
-func checkDeclared(p *Problems, ptr string, v reflect.Value, typ, topology string) {
+// number is a numeric field's value, following a pointer; the field must
+// be given.
+func (a access) number(base unsafe.Pointer) float64 {
+	at := unsafe.Add(base, a.offset)
+	if a.shape == shapePointer {
+		at = *(*unsafe.Pointer)(at)
+	}
+	switch a.num {
+	case reflect.Int:
+		return float64(*(*int)(at))
+	case reflect.Int64:
+		return float64(*(*int64)(at))
+	}
+	return *(*float64)(at)
+}
+
+// text is a string field's value.
+func (a access) text(base unsafe.Pointer) string { return *(*string)(unsafe.Add(base, a.offset)) }
+
+// items is a list field's length. Every slice has the same header,
+// whatever it holds.
+func (a access) items(base unsafe.Pointer) int {
+	return len(*(*[]struct{})(unsafe.Add(base, a.offset)))
+}
+
+// checkDeclared records the problems with the values of *v, at ptr+sub,
+// that the declaration alone decides: numbers out of range, strings too
+// long or not one of their enum, and, for a node of type typ, fields that
+// do not apply to it. Nested objects and arrays are their owners' to
+// check. The pointer comes in two parts so that it is only put together
+// for a problem.
+func checkDeclared[T any](p *Problems, ptr, sub string, v *T, typ, topology string) {
 	knownType := typ != "" && slices.Contains(NodeTypes(), typ)
-	for _, f := range FieldsOf(v.Type()) {
-		fv := v.FieldByIndex(f.Index)
-		if !isSet(fv) {
+	base := unsafe.Pointer(v)
+	fields := FieldsOf(reflect.TypeFor[T]())
+	for i := range fields {
+		f := &fields[i]
+		if !f.at.given(base) {
 			continue
 		}
 		if knownType && !f.AppliesTo(typ, topology) {
-			p.Add(ptr+"/"+f.Name, "does not apply to %s", describeType(typ, topology))
+			p.Add(ptr+sub+"/"+f.Name, "does not apply to %s", describeType(typ, topology))
 		}
 		switch f.Kind {
 		case "number", "integer":
-			x := number(fv)
+			x := f.at.number(base)
 			if (f.Min != nil && !(x >= *f.Min)) || (f.Max != nil && !(x <= *f.Max)) {
-				p.Add(ptr+"/"+f.Name, "must be %s", f.RangeText())
+				p.Add(ptr+sub+"/"+f.Name, "must be %s", f.RangeText())
 			}
 		case "string":
-			s := fv.String()
+			s := f.at.text(base)
 			if len(f.Enum) > 0 && !slices.Contains(f.Enum, s) {
-				p.Add(ptr+"/"+f.Name, "must be one of %s", strings.Join(f.Enum, ", "))
+				p.Add(ptr+sub+"/"+f.Name, "must be one of %s", strings.Join(f.Enum, ", "))
 				continue
 			}
-			p.CheckText(ptr+"/"+f.Name, s, f.MaxLen, false)
+			// A string no longer in bytes than its limit is no longer in
+			// characters either: only a suspect one needs its pointer.
+			if len(s) > f.MaxLen || strings.IndexByte(s, 0) >= 0 {
+				p.CheckText(ptr+sub+"/"+f.Name, s, f.MaxLen, false)
+			}
 		case "array":
-			if f.Max != nil && float64(fv.Len()) > *f.Max {
-				p.Add(ptr+"/"+f.Name, "lists %d items; at most %g are allowed", fv.Len(), *f.Max)
+			if n := f.at.items(base); f.Max != nil && float64(n) > *f.Max {
+				p.Add(ptr+sub+"/"+f.Name, "lists %d items; at most %g are allowed", n, *f.Max)
 			}
 		}
 	}

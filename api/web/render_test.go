@@ -346,7 +346,11 @@ func TestReportShowsDemoShelfPartUnderAFinding(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	p, err := rules.Propose(*in.Design, in.Components)
+	valid, err := in.Design.Validated()
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := rules.Propose(valid, in.Components)
 	if err != nil {
 		t.Fatal(err)
 	}

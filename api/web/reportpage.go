@@ -18,11 +18,6 @@ import (
 	"wattshelf/domain/store"
 )
 
-// reportViewVersion goes into every report ETag beside the templates'
-// digest: bump it when a change to the Go side of the report page
-// changes what a stored review's page looks like.
-const reportViewVersion = 3
-
 const noReportMessage = "No report is shared under this address. Check the link you were sent."
 
 // A stored review never changes, so its page and downloads are tagged
@@ -138,11 +133,12 @@ func (p *pages) sharedReview(c echo.Context, what string, build func(context.Con
 }
 
 // reportTag is a strong ETag (RFC 9110 section 8.8.3): the same stored
-// review, shelf revision and templates give the same bytes.
+// review and shelf revision, rendered by the same build, give the same
+// bytes.
 func (p *pages) reportTag(what string, st store.ReviewStamp) string {
 	h := sha256.New()
-	h.Write(p.views.templatesDigest)
-	fmt.Fprintf(h, "%d %s %d %d %d", reportViewVersion, what, st.ID, st.CreatedAt.UnixNano(), st.ShelfRevision)
+	h.Write(p.views.build)
+	fmt.Fprintf(h, "%s %d %d %d", what, st.ID, st.CreatedAt.UnixNano(), st.ShelfRevision)
 	return `"` + base64.RawURLEncoding.EncodeToString(h.Sum(nil)[:18]) + `"`
 }
 

@@ -184,9 +184,8 @@ func TestBudgets(t *testing.T) {
 // BenchmarkReviewPipeline measures the CPU one POST /v1/reviews of the
 // load design costs the server, step by step, the way api/reviews.go does
 // it: rules prepared once (the API keeps them per limits version),
-// DecodeDesign, Rules.Review (which validates the document itself) and
-// AppendJSON into a buffer that is reused (the API pools them). "validate"
-// is the part of "review" that Design.Validate takes; "whole" is the three
+// DecodeDesign, Design.Validated, Rules.Review (which trusts the document
+// it is given as validated) and the report's JSON. "whole" is the four
 // steps the server runs, one after the other.
 //
 //	go test ./cmd/wattshelf-load -run '^$' -bench ReviewPipeline -benchmem -cpu 1 -count 5
@@ -200,7 +199,11 @@ func BenchmarkReviewPipeline(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	rep, err := rules.Review(doc, nil)
+	valid, err := doc.Validated()
+	if err != nil {
+		b.Fatal(err)
+	}
+	rep, err := rules.Review(valid, nil)
 	if err != nil {
 		b.Fatal(err)
 	}
@@ -215,7 +218,7 @@ func BenchmarkReviewPipeline(b *testing.B) {
 	b.Run("validate", func(b *testing.B) {
 		b.ReportAllocs()
 		for b.Loop() {
-			if err := doc.Validate(); err != nil {
+			if _, err := doc.Validated(); err != nil {
 				b.Fatal(err)
 			}
 		}
@@ -223,7 +226,7 @@ func BenchmarkReviewPipeline(b *testing.B) {
 	b.Run("review", func(b *testing.B) {
 		b.ReportAllocs()
 		for b.Loop() {
-			if _, err := rules.Review(doc, nil); err != nil {
+			if _, err := rules.Review(valid, nil); err != nil {
 				b.Fatal(err)
 			}
 		}
@@ -244,7 +247,11 @@ func BenchmarkReviewPipeline(b *testing.B) {
 			if err != nil {
 				b.Fatal(err)
 			}
-			r, err := rules.Review(d, nil)
+			v, err := d.Validated()
+			if err != nil {
+				b.Fatal(err)
+			}
+			r, err := rules.Review(v, nil)
 			if err != nil {
 				b.Fatal(err)
 			}

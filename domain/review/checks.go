@@ -192,15 +192,15 @@ func (r *reviewer) say(parts ...piece) string {
 // none was crossed. The message is filled in by finishMessages.
 func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, passed bool) string) {
 	pick, status := -1, Pass
-	for i, c := range conds {
-		if c.crossed && c.level.Severity() > status.Severity() {
+	for i := range conds {
+		if c := &conds[i]; c.crossed && c.level.Severity() > status.Severity() {
 			pick, status = i, c.level
 		}
 	}
 	passed := pick < 0
 	if passed {
-		for i, c := range conds {
-			if pick < 0 || c.margin < conds[pick].margin {
+		for i := range conds {
+			if pick < 0 || conds[i].margin < conds[pick].margin {
 				pick = i
 			}
 		}
@@ -216,16 +216,16 @@ func (r *reviewer) emit(check, nodeID string, conds []cond, msg func(c cond, pas
 	}
 	ch := Check{Check: check, Node: nodeID, Status: status, Unit: c.unit}
 	if !c.noValue {
-		ch.Value = r.nums.ptr(c.value)
+		ch.Value = r.nums.hold(c.value)
 	}
 	hard, warn := thresholds(pick, conds)
 	if hard != nil && !hard.noLimit {
-		ch.Limit = r.nums.ptr(hard.limit)
+		ch.Limit = r.nums.hold(hard.limit)
 	}
 	if warn != nil && !warn.noLimit {
-		ch.WarnAt = r.nums.ptr(warn.limit)
+		ch.WarnAt = r.nums.hold(warn.limit)
 	}
-	r.add(ch)
+	r.add(ch) // cleans the numbers
 	r.spans[len(r.checks)-1] = textSpan{int32(start), int32(r.text.Len())}
 }
 

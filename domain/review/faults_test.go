@@ -393,7 +393,7 @@ func TestFaultChecksUnderOlderLimits(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rep, err := ru.Review(d, nil)
+	rep, err := ru.Review(mustValidate(t, d), nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -80,7 +80,7 @@ func TestLimitsStoredBeforeTheHazardChecks(t *testing.T) {
 	if !equalSets(ru.NotRun(), checks) {
 		t.Errorf("not run under the old set: %v, want %v", ru.NotRun(), checks)
 	}
-	rep, err := ru.Review(demoLikeDesign(t), nil)
+	rep, err := ru.Review(mustValidate(t, demoLikeDesign(t)), nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -142,4 +142,14 @@ func demoLikeDesign(t *testing.T) domain.Design {
 func equalSets(a, b []string) bool {
 	a, b = slices.Sorted(slices.Values(a)), slices.Sorted(slices.Values(b))
 	return slices.Equal(a, b)
+}
+
+// mustValidate is d validated, as the service hands it to the engine.
+func mustValidate(t testing.TB, d domain.Design) domain.ValidDesign {
+	t.Helper()
+	v, err := d.Validated()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return v
 }

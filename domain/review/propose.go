@@ -71,7 +71,7 @@ type finding struct {
 // cleared its finding and made no check worse (no pass became warn or
 // fail, no warn became fail). A finding without one says why in NoRemedy.
 //
-// A document that fails validation comes back with the error Review gives.
+// It takes a validated document, as Review does.
 // A design out of scope gets no remedies and no proposed design: mains and
 // the scope are not for a proposal to change. Proposed is nil too when no
 // remedy could be offered.
@@ -79,8 +79,9 @@ type finding struct {
 // The cost is a review, then one quiet review (no messages) per round:
 // one or two to settle the proposal, and one per further remedy offered
 // for the finding that has the most.
-func (ru *Rules) Propose(doc domain.Design, components map[int64]domain.Component) (Proposal, error) {
-	if err := doc.Validate(); err != nil {
+func (ru *Rules) Propose(valid domain.ValidDesign, components map[int64]domain.Component) (Proposal, error) {
+	doc, err := valid.Design()
+	if err != nil {
 		return Proposal{}, err
 	}
 	r := &reviewer{}

@@ -28,7 +28,7 @@ func TestPropertyProposalNeverWorse(t *testing.T) {
 		if round%2 == 1 {
 			d = withHazards(rng, d)
 		}
-		prop, err := rules.Propose(d, nil)
+		prop, err := rules.Propose(mustValidate(t, d), nil)
 		if err != nil {
 			t.Fatalf("round %d: %v", round, err)
 		}
@@ -53,7 +53,7 @@ func TestPropertyProposalNeverWorse(t *testing.T) {
 		if err := prop.Proposed.Validate(); err != nil {
 			t.Fatalf("round %d: the proposed design does not validate: %v", round, err)
 		}
-		after, err := rules.Review(*prop.Proposed, nil)
+		after, err := rules.Review(mustValidate(t, *prop.Proposed), nil)
 		if err != nil {
 			t.Fatalf("round %d: review of the proposed design: %v", round, err)
 		}

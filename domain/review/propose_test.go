@@ -1,11 +1,8 @@
 package review
 
 import (
-	"errors"
 	"strings"
 	"testing"
-
-	"github.com/go-json-experiment/json"
 
 	"wattshelf/domain"
 )
@@ -29,7 +26,7 @@ func proposeDoc(t *testing.T, js string, comps map[int64]domain.Component) Propo
 	if err != nil {
 		t.Fatal(err)
 	}
-	prop, err := rules.Propose(d, comps)
+	prop, err := rules.Propose(mustValidate(t, d), comps)
 	if err != nil {
 		t.Fatalf("propose: %v\n%s", err, js)
 	}
@@ -398,18 +395,6 @@ func TestProposeLeavesScopeAlone(t *testing.T) {
 	c, _ := findCheck(prop.Report, CheckWireAmpacity, "lamp")
 	if c.Status != Warn || len(c.Remedies) > 0 || !strings.Contains(c.NoRemedy, "out of scope") {
 		t.Errorf("finding of an out-of-scope design: %+v", c)
-	}
-	// A document that fails validation gets the validation error, as Review does.
-	rules, _ := Prepare(DefaultLimits(), 1)
-	var bad domain.Design
-	if err := json.Unmarshal([]byte(doc("", bench)), &bad); err != nil {
-		t.Fatal(err)
-	}
-	bad.Nodes[0].OutputV = f64(-1)
-	_, err := rules.Propose(bad, nil)
-	var ve *domain.ValidationError
-	if !errors.As(err, &ve) {
-		t.Errorf("want a validation error, got %v", err)
 	}
 	// A design with nothing wrong gets no proposal.
 	ok := proposeDoc(t, doc("", bench, `{"id": "lamp", "type": "load", "current_a": 1, "min_v": 10, "max_v": 13, `+fusedFeed("bench", "18AWG", 0.5, 2)+`}`), nil)

@@ -81,18 +81,18 @@ func Review(doc domain.Design, limits Limits, limitsVersion int, components map[
 	return ru.review(doc, components)
 }
 
-// Review checks a design against the rules. It validates the document,
-// fills nodes that name a component_id from components (the node's own
-// fields win), solves the operating point and runs every
-// check of section 7. A document that breaks the contract, names a
-// component that is not in components, or leaves out a field neither it nor
-// its component gives comes back as a *domain.ValidationError with JSON
-// pointers.
+// Review checks a validated design against the rules. It fills nodes
+// that name a component_id from components (the node's own fields win),
+// solves the operating point and runs every
+// check of section 7. A document that names a component that is not in
+// components, or leaves out a field neither it nor its component gives,
+// comes back as a *domain.ValidationError with JSON pointers.
 //
 // The cost is linear in the number of nodes, times the handful of steps a
 // design with switching regulators needs to settle (at most maxSolveSteps).
-func (ru *Rules) Review(doc domain.Design, components map[int64]domain.Component) (Report, error) {
-	if err := doc.Validate(); err != nil {
+func (ru *Rules) Review(valid domain.ValidDesign, components map[int64]domain.Component) (Report, error) {
+	doc, err := valid.Design()
+	if err != nil {
 		return Report{}, err
 	}
 	return ru.review(doc, components)
@@ -216,9 +216,15 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 	}
 	rep.Checks = r.checks
 	rep.Status = Pass
-	rep.Rules = map[string]Rule{}
+	// The report's rules are its checks' names, each once: a handful of
+	// names over thousands of checks, so they are gathered in a short
+	// list before they go in the map.
+	var used [16]string
+	names := used[:0]
 	for _, c := range r.checks {
-		rep.Rules[c.Check] = ru.rules[c.Check]
+		if !slices.Contains(names, c.Check) {
+			names = append(names, c.Check)
+		}
 		switch c.Status {
 		case Pass:
 			rep.Counts.Pass++
@@ -232,6 +238,10 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 		if c.Status.Severity() > rep.Status.Severity() {
 			rep.Status = c.Status
 		}
+	}
+	rep.Rules = make(map[string]Rule, len(names))
+	for _, name := range names {
+		rep.Rules[name] = ru.rules[name]
 	}
 	if err := rep.checkFinite(); err != nil {
 		return Report{}, fmt.Errorf("review of %q: %w", doc.Name, err)
@@ -474,11 +484,14 @@ func (r *reviewer) feedResult(n *node) FeedResult {
 // full block is left to the pointers into it and a new one started.
 type numbers struct{ block []float64 }
 
-func (a *numbers) ptr(x float64) *float64 {
+func (a *numbers) ptr(x float64) *float64 { return a.hold(clean(x)) }
+
+// hold is ptr for a number that is cleaned later.
+func (a *numbers) hold(x float64) *float64 {
 	if len(a.block) == cap(a.block) {
 		a.block = make([]float64, 0, 64)
 	}
-	a.block = append(a.block, clean(x))
+	a.block = append(a.block, x)
 	return &a.block[len(a.block)-1]
 }
 

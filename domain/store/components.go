@@ -16,7 +16,7 @@ type ComponentFilter struct {
 	Kind    string
 	Query   string // matched in name and description
 	Bin     string
-	FitsV   *float64 // components whose supply window (domain.Electrical.SupplyWindow) holds this
+	FitsV   *float64 // components whose supply window (supplyWindowHolds) holds this
 	AfterID int64    // cursor: list ids above this
 	Limit   int
 }
@@ -102,10 +102,17 @@ func escapeLike(s string) string {
 	return strings.NewReplacer(`\`, `\\`, `%`, `\%`, `_`, `\_`).Replace(s)
 }
 
-// supplyWindowHolds is domain.Electrical.SupplyWindow in SQL: the window
-// holds $5 volts, with the tolerance around a rated or nominal voltage in
-// $7. Where the high end is unknown the comparison is NULL, so the part
-// is not listed. TestFitsVoltageAgreesWithTheDomain holds the two alike.
+// supplyWindowHolds says whether a part's supply window, the range of
+// supply voltages it runs on, holds $5 volts: its own min_v/max_v, else a
+// regulator's or driver's input window; an end left out comes from the
+// rated (else nominal) voltage and the tolerance in $7
+// (domain.RatedVoltageTolerance); a low end still unknown is 0 V, as a
+// lower voltage underpowers a part but does not harm it. Where the high
+// end stays unknown the comparison is NULL, so the part is not listed: a
+// connector's, fuse's or wire's rating_v is what it can insulate, not a
+// supply it runs on. The rule lives here alone, so the shelf can filter
+// and page 50,000 parts in the database; TestFitsVoltageWindow holds it
+// to worked examples.
 const supplyWindowHolds = `(
 	coalesce((electrical ->> 'min_v')::double precision, (electrical ->> 'min_input_v')::double precision,
 		coalesce((electrical ->> 'rated_v')::double precision, (electrical ->> 'nominal_v')::double precision) * (1 - $7::double precision), 0) <= $5
