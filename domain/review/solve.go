@@ -75,7 +75,14 @@ func (t *tree) children(i int) []int32 { return t.child[t.childStart[i]:t.childS
 // the leaves, voltages flow down from the roots. Without switching
 // regulators one pass each way is exact; with them the two passes repeat
 // until no switching input current moves, at most maxSolveSteps times.
+// A pass works out again only the nodes whose inputs moved in the pass
+// before: the others would come out bit for bit as they are, so a design
+// where one regulator takes many steps costs its own path per step, not
+// the whole tree.
 func (t *tree) solve() {
+	for i := range t.nodes {
+		t.nodes[i].stale, t.nodes[i].staleV = true, true
+	}
 	t.voltages()
 	for t.steps = 1; ; t.steps++ {
 		moved := t.currents()
@@ -91,14 +98,21 @@ func (t *tree) solve() {
 	t.paths()
 }
 
-// currents sets every node's run, peak and average current from its
-// children, leaves first, and returns the largest relative change of a
-// switching regulator's input current.
+// currents sets the run, peak and average current of every stale node
+// from its children, leaves first, and returns the largest relative
+// change of a switching regulator's input current. A node whose currents
+// change makes its parent's stale, and its own voltages (run sets its
+// feed's drop).
 func (t *tree) currents() float64 {
 	moved := 0.0
 	for k := len(t.order) - 1; k >= 0; k-- {
 		i := int(t.order[k])
 		n := &t.nodes[i]
+		if !n.stale {
+			continue
+		}
+		n.stale = false
+		run, peak, avg, motor := n.run, n.peak, n.avg, n.hasMotor
 		n.outRun, n.outPeak, n.outAvg, n.hasMotor = 0, 0, 0, n.kind == kindMotor
 		for _, c := range t.children(i) {
 			ch := &t.nodes[c]
@@ -129,6 +143,13 @@ func (t *tree) currents() float64 {
 			}
 		default: // sources deliver what their children draw
 			n.run, n.peak, n.avg = n.outRun, n.outPeak, n.outAvg
+		}
+		// != holds for NaN too: a current that is not a number stays stale.
+		if n.run != run || n.peak != peak || n.avg != avg || n.hasMotor != motor {
+			n.staleV = true
+			if n.parent >= 0 {
+				t.nodes[n.parent].stale = true
+			}
 		}
 	}
 	return moved
@@ -181,12 +202,19 @@ func solveFeedV(vp, r, powerIn float64) (float64, bool) {
 	return (vp + math.Sqrt(disc)) / 2, true
 }
 
-// voltages sets every node's input and output range from its parent's,
-// roots first: the low and nominal ends lose run·R on the way, the high end
-// is the no-load voltage.
+// voltages sets the input and output range of every stale node from its
+// parent's, roots first: the low and nominal ends lose run·R on the way,
+// the high end is the no-load voltage. A node whose range changes makes
+// its own currents stale (a motor's surge and a switching regulator's
+// draw follow its input) and its children's currents and voltages.
 func (t *tree) voltages() {
 	for _, i := range t.order {
 		n := &t.nodes[i]
+		if !n.staleV {
+			continue
+		}
+		n.staleV = false
+		was := [6]float64{n.vLow, n.vNom, n.vHigh, n.outLow, n.outNom, n.outHigh}
 		switch {
 		case n.kind == kindBattery:
 			n.vLow, n.vNom, n.vHigh = n.pack.CutoffV(), n.pack.NominalV(), n.pack.FullV()
@@ -204,6 +232,14 @@ func (t *tree) voltages() {
 			n.outLow, n.outNom, n.outHigh = n.regulate(n.vLow), n.regulate(n.vNom), n.regulate(n.vHigh)
 		default: // sources and drivers pass their voltage on
 			n.outLow, n.outNom, n.outHigh = n.vLow, n.vNom, n.vHigh
+		}
+		if was != [6]float64{n.vLow, n.vNom, n.vHigh, n.outLow, n.outNom, n.outHigh} {
+			n.stale = true
+			if was[3] != n.outLow || was[4] != n.outNom || was[5] != n.outHigh {
+				for _, c := range t.children(int(i)) {
+					t.nodes[c].stale, t.nodes[c].staleV = true, true
+				}
+			}
 		}
 	}
 }
