@@ -130,11 +130,21 @@ type proposer struct {
 	windows  map[int]*sourceWindow // per source, worked out when a finding asks
 	rails    map[int32]*railSum    // the rails with motors, when a finding asks
 	gauges   []electric.Gauge      // the conductor table's sizes, smallest first
+	firsts   map[member][]editAt   // the first candidates' edits by the member they set
 }
+
+// member is one member of one node, as an edit names it.
+type member struct {
+	node int
+	path string
+}
+
+// editAt is edit j of finding k's first candidate.
+type editAt struct{ k, j int }
 
 func newProposer(ru *Rules, doc domain.Design, comps map[int64]domain.Component, r *reviewer, rep Report) *proposer {
 	p := &proposer{ru: ru, doc: doc, comps: comps, r: r, rep: rep, base: make(map[checkKey]Status, len(rep.Checks)),
-		index: make(map[string]int, len(doc.Nodes)), windows: map[int]*sourceWindow{}}
+		index: make(map[string]int, len(doc.Nodes)), windows: map[int]*sourceWindow{}, firsts: map[member][]editAt{}}
 	for i, n := range r.t.nodes {
 		p.index[n.id] = i
 	}
@@ -190,7 +200,7 @@ func (p *proposer) generate() {
 			} else {
 				f.cands, f.noRemedy = p.candidates(c, f.node)
 			}
-			p.initTries(f)
+			p.initTries(k)
 		}
 	}
 	var again []int
@@ -207,7 +217,7 @@ func (p *proposer) generate() {
 	for _, k := range again {
 		f := &p.findings[k]
 		f.cands, f.noRemedy = p.fuseFinding(p.rep.Checks[f.check], f.node, gauges, protAmp, protID)
-		p.initTries(f)
+		p.initTries(k)
 	}
 }
 
@@ -221,18 +231,18 @@ func (p *proposer) fuseFinding(c Check, i int, gauges map[int]electric.Gauge, pr
 }
 
 // firstValue is the value the first remedies so far give a member of node
-// i (the strongest, where two do), and whether any does.
+// i (the strongest, where two do), and whether any does. It is asked
+// while the remedies are worked out, when each finding with candidates
+// has its first chosen.
 func (p *proposer) firstValue(i int, path string) (any, bool) {
 	var best *edit
-	for k := range p.findings {
-		f := &p.findings[k]
-		if f.chosen < 0 {
+	for _, at := range p.firsts[member{i, path}] {
+		f := &p.findings[at.k]
+		if f.chosen != 0 {
 			continue
 		}
-		for j := range f.cands[f.chosen].edits {
-			if e := &f.cands[f.chosen].edits[j]; e.node == i && e.path == path && (best == nil || e.rank > best.rank) {
-				best = e
-			}
+		if e := &f.cands[0].edits[at.j]; best == nil || e.rank > best.rank {
+			best = e
 		}
 	}
 	if best == nil {
@@ -241,15 +251,23 @@ func (p *proposer) firstValue(i int, path string) (any, bool) {
 	return best.value, true
 }
 
-func (p *proposer) fill(f *finding) {
-	f.cands, f.noRemedy = p.candidates(p.rep.Checks[f.check], f.node)
-	p.initTries(f)
-}
-
-func (p *proposer) initTries(f *finding) {
+// initTries starts finding k on its first candidate and files that
+// candidate's edits under the members they set, in finding order, for
+// firstValue. It runs once for a finding with candidates.
+func (p *proposer) initTries(k int) {
+	f := &p.findings[k]
 	f.proven, f.tried = make([]bool, len(f.cands)), make([]bool, len(f.cands))
-	if len(f.cands) > 0 {
-		f.chosen = 0
+	if len(f.cands) == 0 {
+		return
+	}
+	f.chosen = 0
+	for j, e := range f.cands[0].edits {
+		m := member{e.node, e.path}
+		list := p.firsts[m]
+		// after every entry of a finding up to k, so that ties go as
+		// they would scanning the findings in order
+		at, _ := slices.BinarySearchFunc(list, k+1, func(a editAt, k int) int { return a.k - k })
+		p.firsts[m] = slices.Insert(list, at, editAt{k, j})
 	}
 }
 
