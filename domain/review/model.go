@@ -91,9 +91,6 @@ type node struct {
 	outRun, outPeak, outAvg float64 // sum drawn by its children
 	collapsed               bool    // a switching regulator whose feed cannot carry its power
 	hasMotor                bool    // a motor at or below this node
-	// what the solver's next pass must work out again: an input of its
-	// currents (stale) or of its voltages (staleV) moved in the last one
-	stale, staleV bool
 
 	path pathMap // its input voltage as a function of its battery's voltage
 }

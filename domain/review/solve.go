@@ -21,11 +21,19 @@ type tree struct {
 	order      []int32 // breadth first from the roots
 	childStart []int32 // children of i are child[childStart[i]:childStart[i+1]]
 	child      []int32
-	switching  bool // any switching regulator
-	nSwitching int  // how many: each gets a heat check of its own
+	// per node, what the solver's next pass must work out again: an
+	// input of its currents (staleI) or of its voltages (staleV) moved in
+	// the pass before. Kept apart from the nodes, so a pass that skips
+	// most of them reads a few cache lines, not every node.
+	marks      []int32
+	nSwitching int32 // switching regulators: each gets a heat check of its own
 	converged  bool
-	steps      int
 }
+
+const (
+	staleI = 1 << iota
+	staleV
+)
 
 func newTree(nodes []node) *tree {
 	t := &tree{nodes: nodes}
@@ -36,7 +44,6 @@ func newTree(nodes []node) *tree {
 			t.childStart[p+1]++
 		}
 		if nodes[i].switching() {
-			t.switching = true
 			t.nSwitching++
 		}
 	}
@@ -52,6 +59,7 @@ func newTree(nodes []node) *tree {
 			fillAt[p]++
 		}
 	}
+	t.marks = fillAt // done with: the solver's marks take its place
 	t.order = make([]int32, 0, n)
 	for i := range nodes {
 		if nodes[i].parent < 0 {
@@ -80,18 +88,18 @@ func (t *tree) children(i int) []int32 { return t.child[t.childStart[i]:t.childS
 // where one regulator takes many steps costs its own path per step, not
 // the whole tree.
 func (t *tree) solve() {
-	for i := range t.nodes {
-		t.nodes[i].stale, t.nodes[i].staleV = true, true
+	for i := range t.marks {
+		t.marks[i] = staleI | staleV
 	}
 	t.voltages()
-	for t.steps = 1; ; t.steps++ {
+	for step := 1; ; step++ {
 		moved := t.currents()
 		t.voltages()
-		if !t.switching || moved <= solveTolerance {
+		if t.nSwitching == 0 || moved <= solveTolerance {
 			t.converged = true
 			break
 		}
-		if t.steps == maxSolveSteps {
+		if step == maxSolveSteps {
 			break
 		}
 	}
@@ -104,14 +112,14 @@ func (t *tree) solve() {
 // change makes its parent's stale, and its own voltages (run sets its
 // feed's drop).
 func (t *tree) currents() float64 {
-	moved := 0.0
+	moved, marks := 0.0, t.marks
 	for k := len(t.order) - 1; k >= 0; k-- {
 		i := int(t.order[k])
-		n := &t.nodes[i]
-		if !n.stale {
+		if marks[i]&staleI == 0 {
 			continue
 		}
-		n.stale = false
+		marks[i] &^= staleI
+		n := &t.nodes[i]
 		run, peak, avg, motor := n.run, n.peak, n.avg, n.hasMotor
 		n.outRun, n.outPeak, n.outAvg, n.hasMotor = 0, 0, 0, n.kind == kindMotor
 		for _, c := range t.children(i) {
@@ -146,9 +154,9 @@ func (t *tree) currents() float64 {
 		}
 		// != holds for NaN too: a current that is not a number stays stale.
 		if n.run != run || n.peak != peak || n.avg != avg || n.hasMotor != motor {
-			n.staleV = true
+			marks[i] |= staleV
 			if n.parent >= 0 {
-				t.nodes[n.parent].stale = true
+				marks[n.parent] |= staleI
 			}
 		}
 	}
@@ -208,12 +216,13 @@ func solveFeedV(vp, r, powerIn float64) (float64, bool) {
 // its own currents stale (a motor's surge and a switching regulator's
 // draw follow its input) and its children's currents and voltages.
 func (t *tree) voltages() {
+	marks := t.marks
 	for _, i := range t.order {
-		n := &t.nodes[i]
-		if !n.staleV {
+		if marks[i]&staleV == 0 {
 			continue
 		}
-		n.staleV = false
+		marks[i] &^= staleV
+		n := &t.nodes[i]
 		was := [6]float64{n.vLow, n.vNom, n.vHigh, n.outLow, n.outNom, n.outHigh}
 		switch {
 		case n.kind == kindBattery:
@@ -234,10 +243,10 @@ func (t *tree) voltages() {
 			n.outLow, n.outNom, n.outHigh = n.vLow, n.vNom, n.vHigh
 		}
 		if was != [6]float64{n.vLow, n.vNom, n.vHigh, n.outLow, n.outNom, n.outHigh} {
-			n.stale = true
+			marks[i] |= staleI
 			if was[3] != n.outLow || was[4] != n.outNom || was[5] != n.outHigh {
 				for _, c := range t.children(int(i)) {
-					t.nodes[c].stale, t.nodes[c].staleV = true, true
+					marks[c] |= staleI | staleV
 				}
 			}
 		}
