@@ -50,6 +50,14 @@ type candidate struct {
 
 type checkKey struct{ check, node, pointer string }
 
+// baseCheck is how a check came out in the original review, and the slot
+// that holds how it comes out in a changed one when it was a finding (-1:
+// it was not).
+type baseCheck struct {
+	status Status
+	slot   int
+}
+
 func keyOf(c Check) checkKey { return checkKey{c.Check, c.Node, c.Pointer} }
 
 // finding is a warn or fail check of the original review and what is
@@ -60,6 +68,7 @@ type finding struct {
 	cands    []candidate
 	noRemedy string
 	chosen   int    // the candidate in the proposal, -1 for none
+	slot     int    // where a changed review's status of its check goes
 	proven   []bool // per candidate: cleared its finding in a review with no check made worse
 	tried    []bool
 }
@@ -124,13 +133,14 @@ type proposer struct {
 	comps    map[int64]domain.Component
 	r        *reviewer // of the original review, whose tree holds its operating point
 	rep      Report
-	base     map[checkKey]Status
+	base     map[checkKey]baseCheck
 	index    map[string]int
 	findings []finding
 	windows  map[int]*sourceWindow // per source, worked out when a finding asks
 	rails    map[int32]*railSum    // the rails with motors, when a finding asks
 	gauges   []electric.Gauge      // the conductor table's sizes, smallest first
 	firsts   map[member][]editAt   // the first candidates' edits by the member they set
+	slots    int                   // the findings' distinct checks
 }
 
 // member is one member of one node, as an edit names it.
@@ -143,21 +153,30 @@ type member struct {
 type editAt struct{ k, j int }
 
 func newProposer(ru *Rules, doc domain.Design, comps map[int64]domain.Component, r *reviewer, rep Report) *proposer {
-	p := &proposer{ru: ru, doc: doc, comps: comps, r: r, rep: rep, base: make(map[checkKey]Status, len(rep.Checks)),
+	p := &proposer{ru: ru, doc: doc, comps: comps, r: r, rep: rep, base: make(map[checkKey]baseCheck, len(rep.Checks)),
 		index: make(map[string]int, len(doc.Nodes)), windows: map[int]*sourceWindow{}, firsts: map[member][]editAt{}}
 	for i, n := range r.t.nodes {
 		p.index[n.id] = i
 	}
 	for i, c := range rep.Checks {
-		p.base[keyOf(c)] = c.Status
-		if c.Status != Warn && c.Status != Fail {
-			continue
+		key := keyOf(c)
+		b, seen := p.base[key]
+		if !seen {
+			b.slot = -1
 		}
-		node := -1
-		if j, ok := p.index[c.Node]; ok && c.Node != "" {
-			node = j
+		b.status = c.Status
+		if c.Status == Warn || c.Status == Fail {
+			if b.slot < 0 {
+				b.slot = p.slots
+				p.slots++
+			}
+			node := -1
+			if j, ok := p.index[c.Node]; ok && c.Node != "" {
+				node = j
+			}
+			p.findings = append(p.findings, finding{check: i, node: node, chosen: -1, slot: b.slot})
 		}
-		p.findings = append(p.findings, finding{check: i, node: node, chosen: -1})
+		p.base[key] = b
 	}
 	return p
 }
@@ -290,13 +309,25 @@ func (p *proposer) check(pick func(k int) int) (domain.Design, outcome, error) {
 	if err != nil {
 		return domain.Design{}, outcome{}, err
 	}
-	o := outcome{status: rep.Status, worse: p.worsened(rep)}
-	now := make(map[checkKey]Status, len(rep.Checks))
+	o := outcome{status: rep.Status}
+	// One look-up per check: whether it came out worse, and where a
+	// finding's check now stands (absent: it is gone, which clears it).
+	now, present := make([]Status, p.slots), make([]bool, p.slots)
 	for _, c := range rep.Checks {
-		now[keyOf(c)] = c.Status
+		b, ok := p.base[keyOf(c)]
+		was := Pass // a check the original did not have counts as passed there
+		if ok {
+			was = b.status
+		}
+		if c.Status.Severity() > was.Severity() {
+			o.worse = append(o.worse, c)
+		}
+		if ok && b.slot >= 0 {
+			now[b.slot], present[b.slot] = c.Status, true
+		}
 	}
 	for k := range p.findings {
-		if pick(k) >= 0 && !p.cleared(now, &p.findings[k]) {
+		if f := &p.findings[k]; pick(k) >= 0 && present[f.slot] && now[f.slot] != Pass {
 			o.open = append(o.open, k)
 		}
 	}
@@ -513,31 +544,6 @@ func (p *proposer) recheck(d domain.Design) (Report, error) {
 		return Report{}, fmt.Errorf("review a proposed change: %w", err)
 	}
 	return rep, nil
-}
-
-// cleared reports whether a review (its statuses by check) has the
-// finding's check passing, or no longer has it (a linear regulator's
-// heat, once it is a converter).
-func (p *proposer) cleared(now map[checkKey]Status, f *finding) bool {
-	s, ok := now[keyOf(p.rep.Checks[f.check])]
-	return !ok || s == Pass
-}
-
-// worsened lists the checks of rep that came out worse than in the
-// original review; a check the original did not have counts as passed
-// there (a fuse added by a remedy must pass its own checks).
-func (p *proposer) worsened(rep Report) []Check {
-	var out []Check
-	for _, c := range rep.Checks {
-		was, ok := p.base[keyOf(c)]
-		if !ok {
-			was = Pass
-		}
-		if c.Status.Severity() > was.Severity() {
-			out = append(out, c)
-		}
-	}
-	return out
 }
 
 // sweep is how far a remedy that is not local moves the operating point:
