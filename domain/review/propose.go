@@ -360,7 +360,12 @@ func (p *proposer) settle() (domain.Design, Status, error) {
 			return design, o.status, nil
 		}
 		if round >= maxProposalRounds {
-			p.dropInTrouble(o, round > maxProposalRounds)
+			// Dropping only what moves the operating point may drop
+			// nothing; reviewing the same design again would say the same,
+			// so everything in trouble goes at once.
+			if !p.dropInTrouble(o, round > maxProposalRounds) {
+				p.dropInTrouble(o, true)
+			}
 			continue
 		}
 		moved := slices.Concat(o.open, o.blamed)
@@ -400,12 +405,13 @@ func (p *proposer) movedTree(k int) bool {
 // dropInTrouble takes the remedies that change the operating point (all
 // of them, with every) out of each tree with an open finding or a worse
 // check; a worse check of the whole design puts every tree in trouble.
-func (p *proposer) dropInTrouble(o outcome, every bool) {
+// It says whether it dropped any.
+func (p *proposer) dropInTrouble(o outcome, every bool) bool {
 	trouble := map[int]bool{}
 	for _, k := range o.open {
 		trouble[p.r.t.nodes[p.findings[k].node].root] = true
 	}
-	all := false
+	all, dropped := false, false
 	for _, w := range o.worse {
 		if i, ok := p.index[w.Node]; ok && w.Node != "" {
 			trouble[p.r.t.nodes[i].root] = true
@@ -421,8 +427,10 @@ func (p *proposer) dropInTrouble(o outcome, every bool) {
 		if all || trouble[p.r.t.nodes[f.cands[f.chosen].edits[0].node].root] {
 			f.tried[f.chosen] = true
 			f.chosen = -1
+			dropped = true
 		}
 	}
+	return dropped
 }
 
 // next moves a finding to its next untried candidate, or to none.
