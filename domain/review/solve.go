@@ -212,9 +212,9 @@ func solveFeedV(vp, r, powerIn float64) (float64, bool) {
 
 // voltages sets the input and output range of every stale node from its
 // parent's, roots first: the low and nominal ends lose run·R on the way,
-// the high end is the no-load voltage. A node whose range changes makes
-// its own currents stale (a motor's surge and a switching regulator's
-// draw follow its input) and its children's currents and voltages.
+// the high end is the no-load voltage. A motor or switching regulator
+// whose range changes makes its own currents stale, and a node whose
+// output changes its children's voltages.
 func (t *tree) voltages() {
 	marks := t.marks
 	for _, i := range t.order {
@@ -242,11 +242,16 @@ func (t *tree) voltages() {
 		default: // sources and drivers pass their voltage on
 			n.outLow, n.outNom, n.outHigh = n.vLow, n.vNom, n.vHigh
 		}
-		if was != [6]float64{n.vLow, n.vNom, n.vHigh, n.outLow, n.outNom, n.outHigh} {
+		// Only a motor's surge and a switching regulator's draw follow
+		// voltages; every other node's currents follow its children's.
+		if (n.kind == kindMotor || n.switching()) && was != [6]float64{n.vLow, n.vNom, n.vHigh, n.outLow, n.outNom, n.outHigh} {
 			marks[i] |= staleI
-			if was[3] != n.outLow || was[4] != n.outNom || was[5] != n.outHigh {
-				for _, c := range t.children(int(i)) {
-					marks[c] |= staleI | staleV
+		}
+		if was[3] != n.outLow || was[4] != n.outNom || was[5] != n.outHigh {
+			for _, c := range t.children(int(i)) {
+				marks[c] |= staleV
+				if t.nodes[c].switching() { // it reads its parent's low end itself
+					marks[c] |= staleI
 				}
 			}
 		}
