@@ -824,17 +824,11 @@ func (r *reviewer) scope() {
 		Message: msg})
 }
 
+// joinIDs lists ids as "a, b and c". It builds into one buffer: a source
+// can leave out thousands of loads, and adding to a string copies it.
 func joinIDs(ids []string) string {
-	out := ""
-	for i, id := range ids {
-		switch {
-		case i == 0:
-		case i == len(ids)-1:
-			out += " and "
-		default:
-			out += ", "
-		}
-		out += id
+	if len(ids) <= 1 {
+		return strings.Join(ids, "")
 	}
-	return out
+	return strings.Join(ids[:len(ids)-1], ", ") + " and " + ids[len(ids)-1]
 }

@@ -623,3 +623,22 @@ func TestMissingInputsAndThresholds(t *testing.T) {
 		t.Errorf("wire.ampacity of a lightly loaded 18 AWG feed: %+v", c)
 	}
 }
+
+// A list of node ids reads as English does: commas, and "and" before the
+// last (common practice).
+func TestJoinIDs(t *testing.T) {
+	for _, c := range []struct {
+		ids  []string
+		want string
+	}{
+		{nil, ""},
+		{[]string{"led"}, "led"},
+		{[]string{"led", "fan"}, "led and fan"},
+		{[]string{"led", "fan", "pump"}, "led, fan and pump"},
+		{[]string{"a", "b", "c", "d"}, "a, b, c and d"},
+	} {
+		if got := joinIDs(c.ids); got != c.want {
+			t.Errorf("joinIDs(%q) = %q, want %q", c.ids, got, c.want)
+		}
+	}
+}

@@ -50,6 +50,14 @@ type candidate struct {
 
 type checkKey struct{ check, node, pointer string }
 
+// baseCheck is how a check came out in the original review, and the slot
+// that holds how it comes out in a changed one when it was a finding (-1:
+// it was not).
+type baseCheck struct {
+	status Status
+	slot   int
+}
+
 func keyOf(c Check) checkKey { return checkKey{c.Check, c.Node, c.Pointer} }
 
 // finding is a warn or fail check of the original review and what is
@@ -60,6 +68,7 @@ type finding struct {
 	cands    []candidate
 	noRemedy string
 	chosen   int    // the candidate in the proposal, -1 for none
+	slot     int    // where a changed review's status of its check goes
 	proven   []bool // per candidate: cleared its finding in a review with no check made worse
 	tried    []bool
 }
@@ -124,30 +133,50 @@ type proposer struct {
 	comps    map[int64]domain.Component
 	r        *reviewer // of the original review, whose tree holds its operating point
 	rep      Report
-	base     map[checkKey]Status
+	base     map[checkKey]baseCheck
 	index    map[string]int
 	findings []finding
 	windows  map[int]*sourceWindow // per source, worked out when a finding asks
 	rails    map[int32]*railSum    // the rails with motors, when a finding asks
 	gauges   []electric.Gauge      // the conductor table's sizes, smallest first
+	firsts   map[member][]editAt   // the first candidates' edits by the member they set
+	slots    int                   // the findings' distinct checks
 }
 
+// member is one member of one node, as an edit names it.
+type member struct {
+	node int
+	path string
+}
+
+// editAt is edit j of finding k's first candidate.
+type editAt struct{ k, j int }
+
 func newProposer(ru *Rules, doc domain.Design, comps map[int64]domain.Component, r *reviewer, rep Report) *proposer {
-	p := &proposer{ru: ru, doc: doc, comps: comps, r: r, rep: rep, base: make(map[checkKey]Status, len(rep.Checks)),
-		index: make(map[string]int, len(doc.Nodes)), windows: map[int]*sourceWindow{}}
+	p := &proposer{ru: ru, doc: doc, comps: comps, r: r, rep: rep, base: make(map[checkKey]baseCheck, len(rep.Checks)),
+		index: make(map[string]int, len(doc.Nodes)), windows: map[int]*sourceWindow{}, firsts: map[member][]editAt{}}
 	for i, n := range r.t.nodes {
 		p.index[n.id] = i
 	}
 	for i, c := range rep.Checks {
-		p.base[keyOf(c)] = c.Status
-		if c.Status != Warn && c.Status != Fail {
-			continue
+		key := keyOf(c)
+		b, seen := p.base[key]
+		if !seen {
+			b.slot = -1
 		}
-		node := -1
-		if j, ok := p.index[c.Node]; ok && c.Node != "" {
-			node = j
+		b.status = c.Status
+		if c.Status == Warn || c.Status == Fail {
+			if b.slot < 0 {
+				b.slot = p.slots
+				p.slots++
+			}
+			node := -1
+			if j, ok := p.index[c.Node]; ok && c.Node != "" {
+				node = j
+			}
+			p.findings = append(p.findings, finding{check: i, node: node, chosen: -1, slot: b.slot})
 		}
-		p.findings = append(p.findings, finding{check: i, node: node, chosen: -1})
+		p.base[key] = b
 	}
 	return p
 }
@@ -190,7 +219,7 @@ func (p *proposer) generate() {
 			} else {
 				f.cands, f.noRemedy = p.candidates(c, f.node)
 			}
-			p.initTries(f)
+			p.initTries(k)
 		}
 	}
 	var again []int
@@ -207,7 +236,7 @@ func (p *proposer) generate() {
 	for _, k := range again {
 		f := &p.findings[k]
 		f.cands, f.noRemedy = p.fuseFinding(p.rep.Checks[f.check], f.node, gauges, protAmp, protID)
-		p.initTries(f)
+		p.initTries(k)
 	}
 }
 
@@ -221,18 +250,18 @@ func (p *proposer) fuseFinding(c Check, i int, gauges map[int]electric.Gauge, pr
 }
 
 // firstValue is the value the first remedies so far give a member of node
-// i (the strongest, where two do), and whether any does.
+// i (the strongest, where two do), and whether any does. It is asked
+// while the remedies are worked out, when each finding with candidates
+// has its first chosen.
 func (p *proposer) firstValue(i int, path string) (any, bool) {
 	var best *edit
-	for k := range p.findings {
-		f := &p.findings[k]
-		if f.chosen < 0 {
+	for _, at := range p.firsts[member{i, path}] {
+		f := &p.findings[at.k]
+		if f.chosen != 0 {
 			continue
 		}
-		for j := range f.cands[f.chosen].edits {
-			if e := &f.cands[f.chosen].edits[j]; e.node == i && e.path == path && (best == nil || e.rank > best.rank) {
-				best = e
-			}
+		if e := &f.cands[0].edits[at.j]; best == nil || e.rank > best.rank {
+			best = e
 		}
 	}
 	if best == nil {
@@ -241,15 +270,23 @@ func (p *proposer) firstValue(i int, path string) (any, bool) {
 	return best.value, true
 }
 
-func (p *proposer) fill(f *finding) {
-	f.cands, f.noRemedy = p.candidates(p.rep.Checks[f.check], f.node)
-	p.initTries(f)
-}
-
-func (p *proposer) initTries(f *finding) {
+// initTries starts finding k on its first candidate and files that
+// candidate's edits under the members they set, in finding order, for
+// firstValue. It runs once for a finding with candidates.
+func (p *proposer) initTries(k int) {
+	f := &p.findings[k]
 	f.proven, f.tried = make([]bool, len(f.cands)), make([]bool, len(f.cands))
-	if len(f.cands) > 0 {
-		f.chosen = 0
+	if len(f.cands) == 0 {
+		return
+	}
+	f.chosen = 0
+	for j, e := range f.cands[0].edits {
+		m := member{e.node, e.path}
+		list := p.firsts[m]
+		// after every entry of a finding up to k, so that ties go as
+		// they would scanning the findings in order
+		at, _ := slices.BinarySearchFunc(list, k+1, func(a editAt, k int) int { return a.k - k })
+		p.firsts[m] = slices.Insert(list, at, editAt{k, j})
 	}
 }
 
@@ -272,13 +309,25 @@ func (p *proposer) check(pick func(k int) int) (domain.Design, outcome, error) {
 	if err != nil {
 		return domain.Design{}, outcome{}, err
 	}
-	o := outcome{status: rep.Status, worse: p.worsened(rep)}
-	now := make(map[checkKey]Status, len(rep.Checks))
+	o := outcome{status: rep.Status}
+	// One look-up per check: whether it came out worse, and where a
+	// finding's check now stands (absent: it is gone, which clears it).
+	now, present := make([]Status, p.slots), make([]bool, p.slots)
 	for _, c := range rep.Checks {
-		now[keyOf(c)] = c.Status
+		b, ok := p.base[keyOf(c)]
+		was := Pass // a check the original did not have counts as passed there
+		if ok {
+			was = b.status
+		}
+		if c.Status.Severity() > was.Severity() {
+			o.worse = append(o.worse, c)
+		}
+		if ok && b.slot >= 0 {
+			now[b.slot], present[b.slot] = c.Status, true
+		}
 	}
 	for k := range p.findings {
-		if pick(k) >= 0 && !p.cleared(now, &p.findings[k]) {
+		if f := &p.findings[k]; pick(k) >= 0 && present[f.slot] && now[f.slot] != Pass {
 			o.open = append(o.open, k)
 		}
 	}
@@ -311,7 +360,12 @@ func (p *proposer) settle() (domain.Design, Status, error) {
 			return design, o.status, nil
 		}
 		if round >= maxProposalRounds {
-			p.dropInTrouble(o, round > maxProposalRounds)
+			// Dropping only what moves the operating point may drop
+			// nothing; reviewing the same design again would say the same,
+			// so everything in trouble goes at once.
+			if !p.dropInTrouble(o, round > maxProposalRounds) {
+				p.dropInTrouble(o, true)
+			}
 			continue
 		}
 		moved := slices.Concat(o.open, o.blamed)
@@ -351,12 +405,13 @@ func (p *proposer) movedTree(k int) bool {
 // dropInTrouble takes the remedies that change the operating point (all
 // of them, with every) out of each tree with an open finding or a worse
 // check; a worse check of the whole design puts every tree in trouble.
-func (p *proposer) dropInTrouble(o outcome, every bool) {
+// It says whether it dropped any.
+func (p *proposer) dropInTrouble(o outcome, every bool) bool {
 	trouble := map[int]bool{}
 	for _, k := range o.open {
 		trouble[p.r.t.nodes[p.findings[k].node].root] = true
 	}
-	all := false
+	all, dropped := false, false
 	for _, w := range o.worse {
 		if i, ok := p.index[w.Node]; ok && w.Node != "" {
 			trouble[p.r.t.nodes[i].root] = true
@@ -372,8 +427,10 @@ func (p *proposer) dropInTrouble(o outcome, every bool) {
 		if all || trouble[p.r.t.nodes[f.cands[f.chosen].edits[0].node].root] {
 			f.tried[f.chosen] = true
 			f.chosen = -1
+			dropped = true
 		}
 	}
+	return dropped
 }
 
 // next moves a finding to its next untried candidate, or to none.
@@ -495,31 +552,6 @@ func (p *proposer) recheck(d domain.Design) (Report, error) {
 		return Report{}, fmt.Errorf("review a proposed change: %w", err)
 	}
 	return rep, nil
-}
-
-// cleared reports whether a review (its statuses by check) has the
-// finding's check passing, or no longer has it (a linear regulator's
-// heat, once it is a converter).
-func (p *proposer) cleared(now map[checkKey]Status, f *finding) bool {
-	s, ok := now[keyOf(p.rep.Checks[f.check])]
-	return !ok || s == Pass
-}
-
-// worsened lists the checks of rep that came out worse than in the
-// original review; a check the original did not have counts as passed
-// there (a fuse added by a remedy must pass its own checks).
-func (p *proposer) worsened(rep Report) []Check {
-	var out []Check
-	for _, c := range rep.Checks {
-		was, ok := p.base[keyOf(c)]
-		if !ok {
-			was = Pass
-		}
-		if c.Status.Severity() > was.Severity() {
-			out = append(out, c)
-		}
-	}
-	return out
 }
 
 // sweep is how far a remedy that is not local moves the operating point:

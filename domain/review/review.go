@@ -128,9 +128,9 @@ func (ru *Rules) run(doc domain.Design, components map[int64]domain.Component, r
 	// A node gets about four and a half checks: its own, its feed's and
 	// the fault checks' (a fuse's and a motor's), of about 100 bytes
 	// each; a switching regulator one more for its heat.
-	r.checks, r.spans = make([]Check, 0, 9*len(nodes)/2+t.nSwitching+8), make([]textSpan, 0, 9*len(nodes)/2+t.nSwitching+8)
+	r.checks, r.spans = make([]Check, 0, 9*len(nodes)/2+int(t.nSwitching)+8), make([]textSpan, 0, 9*len(nodes)/2+int(t.nSwitching)+8)
 	if !quiet {
-		r.text.Grow(448*len(nodes) + 80*t.nSwitching + 256)
+		r.text.Grow(448*len(nodes) + 80*int(t.nSwitching) + 256)
 	}
 	rep := Report{
 		Format:        ReportFormat,

@@ -21,11 +21,19 @@ type tree struct {
 	order      []int32 // breadth first from the roots
 	childStart []int32 // children of i are child[childStart[i]:childStart[i+1]]
 	child      []int32
-	switching  bool // any switching regulator
-	nSwitching int  // how many: each gets a heat check of its own
+	// per node, what the solver's next pass must work out again: an
+	// input of its currents (staleI) or of its voltages (staleV) moved in
+	// the pass before. Kept apart from the nodes, so a pass that skips
+	// most of them reads a few cache lines, not every node.
+	marks      []int32
+	nSwitching int32 // switching regulators: each gets a heat check of its own
 	converged  bool
-	steps      int
 }
+
+const (
+	staleI = 1 << iota
+	staleV
+)
 
 func newTree(nodes []node) *tree {
 	t := &tree{nodes: nodes}
@@ -36,7 +44,6 @@ func newTree(nodes []node) *tree {
 			t.childStart[p+1]++
 		}
 		if nodes[i].switching() {
-			t.switching = true
 			t.nSwitching++
 		}
 	}
@@ -52,6 +59,7 @@ func newTree(nodes []node) *tree {
 			fillAt[p]++
 		}
 	}
+	t.marks = fillAt // done with: the solver's marks take its place
 	t.order = make([]int32, 0, n)
 	for i := range nodes {
 		if nodes[i].parent < 0 {
@@ -75,30 +83,44 @@ func (t *tree) children(i int) []int32 { return t.child[t.childStart[i]:t.childS
 // the leaves, voltages flow down from the roots. Without switching
 // regulators one pass each way is exact; with them the two passes repeat
 // until no switching input current moves, at most maxSolveSteps times.
+// A pass works out again only the nodes whose inputs moved in the pass
+// before: the others would come out bit for bit as they are, so a design
+// where one regulator takes many steps costs its own path per step, not
+// the whole tree.
 func (t *tree) solve() {
+	for i := range t.marks {
+		t.marks[i] = staleI | staleV
+	}
 	t.voltages()
-	for t.steps = 1; ; t.steps++ {
+	for step := 1; ; step++ {
 		moved := t.currents()
 		t.voltages()
-		if !t.switching || moved <= solveTolerance {
+		if t.nSwitching == 0 || moved <= solveTolerance {
 			t.converged = true
 			break
 		}
-		if t.steps == maxSolveSteps {
+		if step == maxSolveSteps {
 			break
 		}
 	}
 	t.paths()
 }
 
-// currents sets every node's run, peak and average current from its
-// children, leaves first, and returns the largest relative change of a
-// switching regulator's input current.
+// currents sets the run, peak and average current of every stale node
+// from its children, leaves first, and returns the largest relative
+// change of a switching regulator's input current. A node whose currents
+// change makes its parent's stale, and its own voltages (run sets its
+// feed's drop).
 func (t *tree) currents() float64 {
-	moved := 0.0
+	moved, marks := 0.0, t.marks
 	for k := len(t.order) - 1; k >= 0; k-- {
 		i := int(t.order[k])
+		if marks[i]&staleI == 0 {
+			continue
+		}
+		marks[i] &^= staleI
 		n := &t.nodes[i]
+		run, peak, avg, motor := n.run, n.peak, n.avg, n.hasMotor
 		n.outRun, n.outPeak, n.outAvg, n.hasMotor = 0, 0, 0, n.kind == kindMotor
 		for _, c := range t.children(i) {
 			ch := &t.nodes[c]
@@ -129,6 +151,13 @@ func (t *tree) currents() float64 {
 			}
 		default: // sources deliver what their children draw
 			n.run, n.peak, n.avg = n.outRun, n.outPeak, n.outAvg
+		}
+		// != holds for NaN too: a current that is not a number stays stale.
+		if n.run != run || n.peak != peak || n.avg != avg || n.hasMotor != motor {
+			marks[i] |= staleV
+			if n.parent >= 0 {
+				marks[n.parent] |= staleI
+			}
 		}
 	}
 	return moved
@@ -181,12 +210,20 @@ func solveFeedV(vp, r, powerIn float64) (float64, bool) {
 	return (vp + math.Sqrt(disc)) / 2, true
 }
 
-// voltages sets every node's input and output range from its parent's,
-// roots first: the low and nominal ends lose run·R on the way, the high end
-// is the no-load voltage.
+// voltages sets the input and output range of every stale node from its
+// parent's, roots first: the low and nominal ends lose run·R on the way,
+// the high end is the no-load voltage. A motor or switching regulator
+// whose range changes makes its own currents stale, and a node whose
+// output changes its children's voltages.
 func (t *tree) voltages() {
+	marks := t.marks
 	for _, i := range t.order {
+		if marks[i]&staleV == 0 {
+			continue
+		}
+		marks[i] &^= staleV
 		n := &t.nodes[i]
+		was := [6]float64{n.vLow, n.vNom, n.vHigh, n.outLow, n.outNom, n.outHigh}
 		switch {
 		case n.kind == kindBattery:
 			n.vLow, n.vNom, n.vHigh = n.pack.CutoffV(), n.pack.NominalV(), n.pack.FullV()
@@ -204,6 +241,19 @@ func (t *tree) voltages() {
 			n.outLow, n.outNom, n.outHigh = n.regulate(n.vLow), n.regulate(n.vNom), n.regulate(n.vHigh)
 		default: // sources and drivers pass their voltage on
 			n.outLow, n.outNom, n.outHigh = n.vLow, n.vNom, n.vHigh
+		}
+		// Only a motor's surge and a switching regulator's draw follow
+		// voltages; every other node's currents follow its children's.
+		if (n.kind == kindMotor || n.switching()) && was != [6]float64{n.vLow, n.vNom, n.vHigh, n.outLow, n.outNom, n.outHigh} {
+			marks[i] |= staleI
+		}
+		if was[3] != n.outLow || was[4] != n.outNom || was[5] != n.outHigh {
+			for _, c := range t.children(int(i)) {
+				marks[c] |= staleV
+				if t.nodes[c].switching() { // it reads its parent's low end itself
+					marks[c] |= staleI
+				}
+			}
 		}
 	}
 }

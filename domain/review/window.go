@@ -32,8 +32,8 @@ func (p *proposer) window(root int) *sourceWindow {
 // voltage: a motor or load must pass, so its window is what the change is
 // for; any other part must do no worse than it does now.
 func (p *proposer) level(check, id, pointer string) Status {
-	if s, ok := p.base[checkKey{check, id, pointer}]; ok && s != Pass {
-		return s
+	if b, ok := p.base[checkKey{check, id, pointer}]; ok && b.status != Pass {
+		return b.status
 	}
 	return Pass
 }
