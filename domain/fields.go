@@ -109,8 +109,15 @@ func readFields(t reflect.Type, index []int, offset uintptr) []Field {
 			MaxLen: MaxShortFieldLen, at: access{offset: offset + sf.Offset},
 		}
 		ft := sf.Type
-		if ft.Kind() == reflect.Pointer {
+		switch ft.Kind() {
+		case reflect.Pointer:
 			ft, f.at.shape = ft.Elem(), shapePointer
+		case reflect.String:
+			f.at.shape = shapeText
+		case reflect.Bool:
+			f.at.shape = shapeBool
+		case reflect.Slice:
+			f.at.shape = shapeList
 		}
 		switch ft.Kind() {
 		case reflect.Float64:
@@ -127,9 +134,6 @@ func readFields(t reflect.Type, index []int, offset uintptr) []Field {
 			f.Kind, f.Elem = "array", ft.Elem()
 		default:
 			panic(fmt.Sprintf("field %s.%s: no JSON kind for %s", t.Name(), sf.Name, ft))
-		}
-		if f.at.shape != shapePointer {
-			f.at.shape = map[reflect.Kind]shape{reflect.String: shapeText, reflect.Bool: shapeBool, reflect.Slice: shapeList}[ft.Kind()]
 		}
 		f.Min, f.Max = tagNumber(t, sf, "min"), tagNumber(t, sf, "max")
 		if s := sf.Tag.Get("for"); s != "" {
