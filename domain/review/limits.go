@@ -163,13 +163,13 @@ func (l Limits) Validate() error {
 	for _, ptr := range l.missing() {
 		p.Add(ptr, "is required: the checks added since this set was written need it (the current defaults hold a sourced value)")
 	}
-	filled, _ := l.completed()
+	filled, _ := l.WithNewDefaults()
 	addProblems(&p, filled.validateValues())
 	return p.Err()
 }
 
 // validateValues is Validate without the values a newer check needs:
-// those are checked by Validate, or filled by completed, before it runs.
+// those are checked by Validate, or filled by WithNewDefaults, before it runs.
 func (l Limits) validateValues() error {
 	var p domain.Problems
 	addJoined(&p, "/conductors", l.Conductors.Validate())

@@ -39,10 +39,12 @@ func (l *Limits) missing() []string {
 	return out
 }
 
-// completed is l with every value a newer check needs filled from the
-// defaults, and the checks whose values l itself lacked: a review under l
-// does not run those. l is left as it is.
-func (l Limits) completed() (filled Limits, notRun []string) {
+// WithNewDefaults is l with every value a newer check needs filled from
+// the defaults (staff values kept), and the checks whose values l itself
+// lacked: a review under l does not run those, and serve and migrate up
+// store the filled set as a new version. l itself is left as it is, and
+// comes back unchanged when it lacks nothing.
+func (l Limits) WithNewDefaults() (filled Limits, notRun []string) {
 	for _, n := range limitsNeeds() {
 		if len(n.missing(&l)) > 0 && !slices.Contains(notRun, n.check) {
 			notRun = append(notRun, n.check)
@@ -59,19 +61,6 @@ func (l Limits) completed() (filled Limits, notRun []string) {
 		}
 	}
 	return filled, notRun
-}
-
-// WithNewDefaults is l with the values added since it was written taken
-// from the defaults, and the checks those values serve; nothing when l
-// lacks none. Staff values are kept. serve and migrate up store the result
-// as a new limits version, so reviews under the current limits run every
-// check.
-func (l Limits) WithNewDefaults() (Limits, []string) {
-	filled, added := l.completed()
-	if len(added) == 0 {
-		return l, nil
-	}
-	return filled, added
 }
 
 // clone copies l with its own tables, so a fill, which sets fields of

@@ -51,7 +51,7 @@ type Rules struct {
 // filled from the defaults so the set validates, and the checks are not
 // run (each review says so).
 func Prepare(limits Limits, version int) (*Rules, error) {
-	filled, notRun := limits.completed()
+	filled, notRun := limits.WithNewDefaults()
 	if err := filled.validateValues(); err != nil {
 		// %v, not %w: the problems are in the limits, not in a document.
 		return nil, fmt.Errorf("limits v%d cannot be used: %v", version, err)
